@@ -1,0 +1,187 @@
+"""Command line: ``axibore run | check | mesh | ...``. Each command has ``add_args`` and a run
+function; ``main(argv) -> int`` wires them (exit 0 ok, 2 bad input, 1 failure)."""
+
+from __future__ import annotations
+
+import argparse
+import math
+import sys
+from pathlib import Path
+
+from . import __version__
+from .case import Case, CaseError, demo_case_path, load_case
+from .units import show
+
+CAUTION = (
+    "Caution: hydrodynamic load only (steady, inviscid). Bolt preload, gasket loads, water hammer "
+    "and other transients, fatigue and code allowables are outside it. Defer to the applicable "
+    "codes and to licensed engineering practice before sizing bolts or thrust restraints."
+)
+
+
+def _out(text: str = "") -> None:
+    print(text, flush=True)
+
+
+def _err(text: str) -> None:
+    print(text, file=sys.stderr, flush=True)
+
+
+def _load(path: str | None) -> Case:
+    return load_case(path if path else demo_case_path())
+
+
+# ---------------------------------------------------------------------------------------------
+# check
+
+
+def describe(case: Case) -> list[str]:
+    """What was understood from a case, in SI with units."""
+    from .geometry import build_profile
+    from .mesh.gmsh_build import expected_cells, target_size
+
+    f = case.fluid
+    lines = [f"case      {case.title}  ({case.source})"]
+    if f.is_liquid:
+        lines.append(
+            f"fluid     {f.name}: density {show(f.density, 'density')}, vapour pressure {show(f.vapour_pressure, 'pressure')} absolute"
+            + (f", at {show(f.temperature, 'temperature')}" if f.temperature else "")
+            + f"  [{f.source}]"
+        )
+    else:
+        lines.append(f"fluid     {f.name}: ideal gas, R = {f.gas_constant:.6g} J/(kg K), gamma = {f.gamma:.4g}  [{f.source}]")
+    b = case.bore
+    params = []
+    for key, value in b.model_dump(exclude_none=True).items():
+        if key in ("template", "centerbody", "segment", "start", "file", "smooth"):
+            continue
+        dim = "angle" if "angle" in key else "length"
+        params.append(f"{key} {show(value, dim)}")
+    lines.append(f"bore      template {b.template}" + (": " + ", ".join(params) if params else ""))
+    p = build_profile(case)
+    lines.append(
+        f"profile   x {show(p.x_inlet, 'length')} to {show(p.x_outlet, 'length')}, inlet radius {show(p.r_inlet, 'length')}, "
+        f"outlet radius {show(p.r_outlet, 'length')}, smallest channel height {show(p.min_channel_height, 'length')}, "
+        f"{len(p.wall)} wall segments" + (f", centre body of {len(p.centerbody)} segments" if p.centerbody else "")
+    )
+    for note in p.notes:
+        lines.append(f"          {note}")
+    for c in p.corners():
+        kind = "convex (suction peak, singular in potential flow)" if c.convex else "concave"
+        lines.append(f"corner    {c.boundary} at x = {show(c.x, 'length')}, r = {show(c.r, 'length')}: turns {math.degrees(abs(c.turn)):.3g} deg, {kind} [{c.key}]")
+    i, o = case.inlet, case.outlet
+    if f.is_liquid:
+        parts = []
+        if i.pressure is not None:
+            parts.append(f"static pressure {show(i.pressure, 'pressure')} gauge")
+        if i.flow_rate is not None:
+            kind, v = i.flow_rate
+            parts.append(f"flow rate {show(v, 'volume_flow' if kind == 'volume' else 'mass_flow')}")
+        lines.append("inlet     " + ", ".join(parts))
+    else:
+        lines.append(f"inlet     total pressure {show(i.total_pressure, 'pressure')} gauge, total temperature {show(i.total_temperature, 'temperature')}")
+    p_out = "computed" if (o.pressure is None and i.pressure is not None and i.flow_rate is not None) else show(o.pressure or 0.0, "pressure") + " gauge"
+    lines.append(f"outlet    {o.kind}, static pressure {p_out}, ambient {show(o.ambient_pressure, 'pressure')} absolute")
+    h = target_size(p, case.mesh.size, case.mesh.level)
+    lines.append(
+        f"mesh      {case.mesh.cells}, size {case.mesh.size:g} x smallest channel height, level {case.mesh.level}: "
+        f"target cell {show(h, 'length')}, about {expected_cells(p, case.mesh.size, case.mesh.level):,.0f} cells"
+    )
+    lines.append(f"solver    {case.solver_kind} (tolerance {case.solver.tolerance:g}); 1D breakdown threshold {case.onedim.threshold:.3g} of the outlet dynamic pressure")
+    if case.flange.bolts:
+        lines.append(f"flange    {case.flange.bolts} bolts")
+    for msg in case.unsupported():
+        lines.append(f"note      {msg}; `run` will refuse this case")
+    return lines
+
+
+def add_check_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("case", nargs="?", help="case file (TOML); default: the built-in demo")
+
+
+def cmd_check(args) -> int:
+    case = _load(args.case)
+    for line in describe(case):
+        _out(line)
+    _out("ok: the case is valid")
+    return 0
+
+
+# ---------------------------------------------------------------------------------------------
+# mesh
+
+
+def add_mesh_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("case", nargs="?", help="case file (TOML); default: the built-in demo")
+    p.add_argument("--out", required=True, help="directory for mesh.msh and mesh.vtu")
+    p.add_argument("--level", type=int, default=None, help="refinement level (overrides mesh.level)")
+
+
+def cmd_mesh(args) -> int:
+    from .geometry import build_profile
+    from .io.files import atomic_file, write_vtu
+    from .mesh.gmsh_build import mesh_profile
+
+    case = _load(args.case)
+    if args.level is not None:
+        if args.level < 0:
+            _err("--level: expected an integer >= 0")
+            return 2
+        case = case.with_level(args.level)
+    out = Path(args.out)
+    out.mkdir(parents=True, exist_ok=True)
+    profile = build_profile(case)
+    with atomic_file(out / "mesh.msh") as tmp:
+        res = mesh_profile(profile, case.mesh.size, case.mesh.level, case.mesh.cells, msh_path=tmp)
+    write_vtu(out / "mesh.vtu", res.mesh, {"cell_area_m2": res.mesh.cell_area})
+    q = res.mesh.quality()
+    _out(f"mesh      {q['cells']:,} cells ({q['triangles']:,} triangles, {q['quads']:,} quads), {q['faces']:,} faces, "
+         f"level {case.mesh.level}, target {show(res.h_target, 'length')}, {res.seconds:.2f} s")
+    _out(f"quality   non-orthogonality max {q['max_non_orthogonality_deg']:.1f} deg (mean {q['mean_non_orthogonality_deg']:.1f}), "
+         f"skewness max {q['max_skewness']:.3f}, aspect ratio max {q['max_aspect_ratio']:.2f}")
+    _out("boundary  " + ", ".join(f"{k} {v}" for k, v in sorted(q["boundary_faces"].items())) + " faces")
+    _out(f"wrote     {out / 'mesh.msh'}, {out / 'mesh.vtu'}")
+    return 0
+
+
+# ---------------------------------------------------------------------------------------------
+
+COMMANDS = {
+    "check": ("validate a case and print what was understood", add_check_args, cmd_check),
+    "mesh": ("build the meridional mesh of a case and report its quality", add_mesh_args, cmd_mesh),
+}
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="axibore",
+        description="Axisymmetric wall pressure, axial force and 1D-breakdown analysis of bores carrying fluid.",
+    )
+    parser.add_argument("--version", action="version", version=f"axibore {__version__}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+    for name, (help_text, add_args, func) in COMMANDS.items():
+        p = sub.add_parser(name, help=help_text, description=help_text)
+        add_args(p)
+        p.set_defaults(func=func)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    if not getattr(args, "func", None):
+        parser.print_help()
+        return 2
+    try:
+        return int(args.func(args) or 0)
+    except CaseError as exc:
+        for line in exc.lines():
+            _err(line)
+        return 2
+    except KeyboardInterrupt:
+        _err("interrupted: nothing half-written was left behind")
+        return 130
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,298 @@
+"""The meridional outline of a bore: wall (and centre body) as lines, circular arcs and splines.
+
+Coordinates are (x, r): x along the axis (flow in +x), r >= 0. The wall runs from the inlet plane
+(x_in, R_in) to the outlet plane (x_out, R_out); the inlet and outlet planes are normal to the
+axis. A centre body is a chain whose ends lie on the axis or on the inlet/outlet planes.
+
+Arc sign convention: ``radius > 0`` bulges to the left of the direction of travel (for a wall
+traversed in +x: away from the axis); ``radius < 0`` bulges to the right (towards the axis). The
+minor arc is always taken.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from functools import cached_property
+
+import numpy as np
+
+# samples per arc / spline span used for validation and 1D areas (not for meshing)
+_ARC_SAMPLES = 48
+_SPLINE_SAMPLES_PER_SPAN = 8
+
+
+class ProfileError(ValueError):
+    """A bore profile is not valid; ``key`` names the case key or segment."""
+
+    def __init__(self, key: str, message: str):
+        self.key = key
+        self.message = message
+        super().__init__(f"{key}: {message}")
+
+
+@dataclass(frozen=True)
+class Segment:
+    """One piece of an outline, from ``start`` to ``end``.
+
+    kind "line"; "arc" with signed ``radius``; "spline" through ``via`` points (interpolating).
+    """
+
+    start: tuple[float, float]
+    end: tuple[float, float]
+    kind: str = "line"
+    radius: float = 0.0
+    via: tuple[tuple[float, float], ...] = ()
+    key: str = "bore"
+
+    @property
+    def chord(self) -> float:
+        return math.hypot(self.end[0] - self.start[0], self.end[1] - self.start[1])
+
+    def arc_center(self) -> tuple[float, float]:
+        (x0, r0), (x1, r1) = self.start, self.end
+        L = self.chord
+        R = abs(self.radius)
+        tx, tr = (x1 - x0) / L, (r1 - r0) / L
+        nx, nr = -tr, tx  # left normal
+        side = 1.0 if self.radius > 0 else -1.0
+        off = math.sqrt(max(R * R - 0.25 * L * L, 0.0))
+        mx, mr = 0.5 * (x0 + x1), 0.5 * (r0 + r1)
+        return (mx - side * off * nx, mr - side * off * nr)
+
+    def sample(self, n: int | None = None) -> np.ndarray:
+        """Points along the segment, both ends included, shape (k, 2)."""
+        if self.kind == "line":
+            return np.array([self.start, self.end], dtype=float)
+        if self.kind == "arc":
+            cx, cr = self.arc_center()
+            a0 = math.atan2(self.start[1] - cr, self.start[0] - cx)
+            a1 = math.atan2(self.end[1] - cr, self.end[0] - cx)
+            d = (a1 - a0 + math.pi) % (2 * math.pi) - math.pi  # minor arc
+            t = np.linspace(0.0, 1.0, n or _ARC_SAMPLES)
+            a = a0 + d * t
+            R = abs(self.radius)
+            pts = np.column_stack([cx + R * np.cos(a), cr + R * np.sin(a)])
+            pts[0], pts[-1] = self.start, self.end
+            return pts
+        pts = np.array([self.start, *self.via, self.end], dtype=float)
+        return _catmull_rom(pts, n or _SPLINE_SAMPLES_PER_SPAN)
+
+    def tangent_at(self, which: str) -> np.ndarray:
+        """Unit tangent (direction of travel) at 'start' or 'end'."""
+        p = self.sample()
+        d = p[1] - p[0] if which == "start" else p[-1] - p[-2]
+        return d / np.linalg.norm(d)
+
+    def reversed(self) -> "Segment":
+        return Segment(self.end, self.start, self.kind, -self.radius, tuple(reversed(self.via)), self.key)
+
+
+def _catmull_rom(pts: np.ndarray, per_span: int) -> np.ndarray:
+    """Uniform Catmull-Rom spline through ``pts`` (the curve Gmsh's built-in Spline draws)."""
+    ext = np.vstack([2 * pts[0] - pts[1], pts, 2 * pts[-1] - pts[-2]])
+    t = np.linspace(0.0, 1.0, per_span, endpoint=False)[:, None]
+    out = []
+    for i in range(1, len(ext) - 2):
+        p0, p1, p2, p3 = ext[i - 1], ext[i], ext[i + 1], ext[i + 2]
+        out.append(
+            0.5 * ((2 * p1) + (-p0 + p2) * t + (2 * p0 - 5 * p1 + 4 * p2 - p3) * t**2 + (-p0 + 3 * p1 - 3 * p2 + p3) * t**3)
+        )
+    out.append(pts[-1:])
+    return np.vstack(out)
+
+
+@dataclass(frozen=True)
+class Corner:
+    """A junction where the wall (or centre body) turns by ``turn`` radians without rounding."""
+
+    x: float
+    r: float
+    turn: float  # > 0: convex as seen from the fluid (suction peak, singular in potential flow)
+    boundary: str  # "wall" | "centerbody"
+    key: str
+
+    @property
+    def convex(self) -> bool:
+        return self.turn > 0
+
+
+@dataclass(frozen=True)
+class Profile:
+    """Wall (inlet to outlet) and optional centre body, oriented from the inlet side to the outlet side."""
+
+    wall: tuple[Segment, ...]
+    centerbody: tuple[Segment, ...] = ()
+    name: str = ""
+    notes: tuple[str, ...] = field(default=())
+
+    # -- planes --------------------------------------------------------------------------
+    @property
+    def x_inlet(self) -> float:
+        return self.wall[0].start[0]
+
+    @property
+    def x_outlet(self) -> float:
+        return self.wall[-1].end[0]
+
+    @property
+    def r_inlet(self) -> float:
+        return self.wall[0].start[1]
+
+    @property
+    def r_outlet(self) -> float:
+        return self.wall[-1].end[1]
+
+    @property
+    def inlet_bottom(self) -> float:
+        """r where the inlet plane meets the axis or centre body."""
+        if self.centerbody and abs(self.centerbody[0].start[0] - self.x_inlet) < self._tol and self.centerbody[0].start[1] > 0:
+            return self.centerbody[0].start[1]
+        return 0.0
+
+    @property
+    def outlet_bottom(self) -> float:
+        if self.centerbody and abs(self.centerbody[-1].end[0] - self.x_outlet) < self._tol and self.centerbody[-1].end[1] > 0:
+            return self.centerbody[-1].end[1]
+        return 0.0
+
+    @property
+    def _tol(self) -> float:
+        return 1e-9 * max(1.0, self.length_scale)
+
+    @cached_property
+    def length_scale(self) -> float:
+        pts = self.wall_points
+        return float(np.ptp(pts[:, 0]) + pts[:, 1].max())
+
+    # -- sampled polylines ----------------------------------------------------------------
+    @cached_property
+    def wall_points(self) -> np.ndarray:
+        return _chain_points(self.wall)
+
+    @cached_property
+    def centerbody_points(self) -> np.ndarray:
+        return _chain_points(self.centerbody) if self.centerbody else np.zeros((0, 2))
+
+    def loop(self) -> list[tuple[str, Segment]]:
+        """The closed boundary, counter-clockwise in (x, r) (fluid on the left), as (group, segment)."""
+        out: list[tuple[str, Segment]] = []
+        xi, xo = self.x_inlet, self.x_outlet
+        if self.centerbody:
+            a, b = self.centerbody[0].start, self.centerbody[-1].end
+            if self.inlet_bottom == 0.0:
+                out.append(("axis", Segment((xi, 0.0), (a[0], 0.0), key="axis")))
+            out += [("centerbody", s) for s in self.centerbody]
+            if self.outlet_bottom == 0.0:
+                out.append(("axis", Segment((b[0], 0.0), (xo, 0.0), key="axis")))
+        else:
+            out.append(("axis", Segment((xi, 0.0), (xo, 0.0), key="axis")))
+        out.append(("outlet", Segment((xo, self.outlet_bottom), (xo, self.r_outlet), key="outlet plane")))
+        out += [("wall", s.reversed()) for s in reversed(self.wall)]
+        out.append(("inlet", Segment((xi, self.r_inlet), (xi, self.inlet_bottom), key="inlet plane")))
+        return out
+
+    @cached_property
+    def outline(self) -> np.ndarray:
+        """Closed polygon of the fluid region (sampled), counter-clockwise, first point not repeated."""
+        pts = [seg.sample()[:-1] for _, seg in self.loop()]
+        return np.vstack(pts)
+
+    # -- measures ---------------------------------------------------------------------------
+    @property
+    def area(self) -> float:
+        """Meridional area of the fluid region (exact for straight-sided outlines)."""
+        p = self.outline
+        x, r = p[:, 0], p[:, 1]
+        return 0.5 * float(np.sum(x * np.roll(r, -1) - np.roll(x, -1) * r))
+
+    @property
+    def volume_per_radian(self) -> float:
+        """Volume of revolution divided by 2 pi (theorem of Pappus: area times centroid radius)."""
+        p = self.outline
+        x, r = p[:, 0], p[:, 1]
+        x1, r1 = np.roll(x, -1), np.roll(r, -1)
+        cross = x * r1 - x1 * r
+        return float(np.sum((r + r1) * cross) / 6.0)
+
+    def wall_radius(self, x: np.ndarray) -> np.ndarray:
+        """Smallest wall radius crossing each x (the bore radius seen by a 1D model)."""
+        return _crossings(self.wall_points, np.asarray(x, float), np.minimum, np.inf)
+
+    def centerbody_radius(self, x: np.ndarray) -> np.ndarray:
+        if not self.centerbody:
+            return np.zeros_like(np.asarray(x, float))
+        out = _crossings(self.centerbody_points, np.asarray(x, float), np.maximum, -np.inf)
+        return np.where(np.isfinite(out), out, 0.0)
+
+    def flow_area(self, x) -> np.ndarray:
+        """Flow area normal to the axis at x: pi (r_wall^2 - r_body^2)."""
+        x = np.asarray(x, float)
+        return np.pi * (self.wall_radius(x) ** 2 - self.centerbody_radius(x) ** 2)
+
+    @property
+    def monotone(self) -> bool:
+        """True when the wall never runs backwards in x (a 1D model along x is meaningful)."""
+        return bool(np.all(np.diff(self.wall_points[:, 0]) >= -self._tol))
+
+    @cached_property
+    def min_channel_height(self) -> float:
+        """Smallest distance across the flow passage: the wall radius, or the wall-body gap."""
+        w = self.wall_points
+        h = float(w[:, 1].min())
+        if self.centerbody:
+            h = min(h, _min_distance(w, self.centerbody_points))
+        return h
+
+    def corners(self, min_turn_deg: float = 2.0) -> list[Corner]:
+        """Junctions with a tangent break of more than ``min_turn_deg``, convex ones flagged."""
+        out = []
+        for group, chain, fluid_side in (("wall", self.wall, -1.0), ("centerbody", self.centerbody, 1.0)):
+            for a, b in zip(chain[:-1], chain[1:]):
+                t0, t1 = a.tangent_at("end"), b.tangent_at("start")
+                cross = t0[0] * t1[1] - t0[1] * t1[0]
+                ang = math.atan2(cross, float(t0 @ t1))
+                if abs(ang) < math.radians(min_turn_deg):
+                    continue
+                # the wall has the fluid on its right (+x travel, fluid below): a left turn
+                # (ang > 0) bends away from the fluid: convex. The body has the fluid on its left.
+                turn = ang if fluid_side < 0 else -ang
+                out.append(Corner(b.start[0], b.start[1], turn, group, b.key))
+        return out
+
+
+def _chain_points(chain) -> np.ndarray:
+    pts = [chain[0].sample()[:1]] + [s.sample()[1:] for s in chain]
+    return np.vstack(pts)
+
+
+def _crossings(pts: np.ndarray, x: np.ndarray, reduce, fill) -> np.ndarray:
+    """Reduce (min or max) the r of every polyline crossing of each x."""
+    x0, x1 = pts[:-1, 0], pts[1:, 0]
+    r0, r1 = pts[:-1, 1], pts[1:, 1]
+    lo, hi = np.minimum(x0, x1), np.maximum(x0, x1)
+    span = np.where(hi - lo > 0, hi - lo, 1.0)
+    out = np.full(x.shape, fill)
+    for start in range(0, x.size, 2048):  # blocks keep memory bounded for long inputs
+        xs = x.ravel()[start : start + 2048, None]
+        inside = (xs >= lo - 1e-12) & (xs <= hi + 1e-12) & (hi - lo > 0)
+        t = np.clip((xs - np.where(x0 <= x1, x0, x1)) / span, 0.0, 1.0)
+        r = np.where(x0 <= x1, r0 + t * (r1 - r0), r1 + t * (r0 - r1))
+        r = np.where(inside, r, fill)
+        out.ravel()[start : start + 2048] = reduce.reduce(r, axis=1)
+    return out
+
+
+def _min_distance(a: np.ndarray, b: np.ndarray) -> float:
+    """Smallest distance between two polylines (points of each to segments of the other)."""
+    return min(_points_to_segments(a, b).min(), _points_to_segments(b, a).min())
+
+
+def _points_to_segments(p: np.ndarray, poly: np.ndarray) -> np.ndarray:
+    a, b = poly[:-1], poly[1:]
+    d = b - a
+    dd = np.einsum("ij,ij->i", d, d)
+    dd = np.where(dd > 0, dd, 1.0)
+    t = np.clip(((p[:, None, :] - a[None]) * d[None]).sum(-1) / dd[None], 0.0, 1.0)
+    q = a[None] + t[..., None] * d[None]
+    return np.sqrt(((p[:, None, :] - q) ** 2).sum(-1)).min(axis=1)

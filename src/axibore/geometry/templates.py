@@ -1,0 +1,232 @@
+"""Bore templates: case parameters (SI) to a validated Profile.
+
+Every template puts the inlet plane at x = 0. Segment keys are the case keys an engineer edits,
+so an error says which number to change.
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+from pathlib import Path
+
+import numpy as np
+
+from .profile import Profile, ProfileError, Segment
+from .validate import validate
+
+# Contraction curve of the "contoured" template: the fifth-order polynomial
+#   r(xi) = R_in - (R_in - R_ex) (10 xi^3 - 15 xi^4 + 6 xi^5),  xi = (x - x0) / L,
+# zero slope and zero curvature at both ends (Bell & Mehta 1988, "Contraction design for small
+# low-speed wind tunnels", NASA CR-177488; from memory).
+CONTOUR_POINTS = 33
+
+
+def contour_polynomial(xi: np.ndarray) -> np.ndarray:
+    xi = np.asarray(xi, float)
+    return 10 * xi**3 - 15 * xi**4 + 6 * xi**5
+
+
+def fillet_chain(vertices, radii, keys, radius_keys) -> list[Segment]:
+    """Straight pieces through ``vertices`` with a tangent arc of radius ``radii[k]`` at interior vertex k+1.
+
+    keys[k] names straight piece k, radius_keys[k] names the fillet at interior vertex k+1.
+    """
+    v = [np.asarray(p, float) for p in vertices]
+    n = len(v)
+    cut_in = [0.0] * n  # distance taken off the piece arriving at vertex k
+    arcs: dict[int, tuple[np.ndarray, np.ndarray, float]] = {}
+    for k in range(1, n - 1):
+        rho = radii[k - 1]
+        if rho <= 0:
+            continue
+        t0 = (v[k] - v[k - 1]) / np.linalg.norm(v[k] - v[k - 1])
+        t1 = (v[k + 1] - v[k]) / np.linalg.norm(v[k + 1] - v[k])
+        cross = t0[0] * t1[1] - t0[1] * t1[0]
+        phi = math.atan2(abs(cross), float(t0 @ t1))
+        if phi < 1e-9:
+            continue
+        d = rho * math.tan(phi / 2)
+        cut_in[k] = d
+        arcs[k] = (v[k] - d * t0, v[k] + d * t1, -math.copysign(rho, cross))
+    segs: list[Segment] = []
+    for k in range(n - 1):
+        a, b = v[k], v[k + 1]
+        L = float(np.linalg.norm(b - a))
+        t = (b - a) / L
+        d0 = cut_in[k] if k in arcs else 0.0
+        d1 = cut_in[k + 1] if (k + 1) in arcs else 0.0
+        if d0 + d1 > L * (1 - 1e-9):
+            which = radius_keys[k] if k in arcs else radius_keys[k + 1 - 1]
+            raise ProfileError(which, f"the rounding needs {d0 + d1:.6g} m of straight wall but {keys[k]} gives only {L:.6g} m")
+        if k in arcs:
+            s0, e0, R = arcs[k]
+            segs.append(Segment(tuple(s0), tuple(e0), "arc", R, key=radius_keys[k - 1]))
+        segs.append(Segment(tuple(a + d0 * t), tuple(b - d1 * t), key=keys[k]))
+    return segs
+
+
+def _straight_cone(r_in: float, r_out: float, half_angle: float) -> float:
+    return abs(r_in - r_out) / math.tan(half_angle)
+
+
+def _chain_from_spec(start, segments, prefix: str) -> list[Segment]:
+    out = []
+    p = (float(start[0]), float(start[1]))
+    for i, s in enumerate(segments, 1):
+        q = (float(s.to[0]), float(s.to[1]))
+        key = f"{prefix}.segment[{i}]"
+        if s.radius is None or s.radius == 0:
+            out.append(Segment(p, q, key=key))
+        else:
+            out.append(Segment(p, q, "arc", float(s.radius), key=key))
+        p = q
+    return out
+
+
+def _orient_centerbody(chain: list[Segment], x_in: float, x_out: float, tol: float) -> tuple[Segment, ...]:
+    def order(pt):
+        x, r = pt
+        if abs(x - x_in) <= tol and r > tol:
+            return -math.inf
+        if abs(x - x_out) <= tol and r > tol:
+            return math.inf
+        return x
+
+    if order(chain[0].start) > order(chain[-1].end):
+        chain = [s.reversed() for s in reversed(chain)]
+    return tuple(chain)
+
+
+def _clip_x(chain: list[Segment], x_lo: float, x_hi: float) -> list[Segment]:
+    """Clip a chain of straight pieces to x_lo <= x <= x_hi (for a needle crossing a plane)."""
+    out = []
+    for s in chain:
+        (x0, r0), (x1, r1) = s.start, s.end
+        if max(x0, x1) <= x_lo or min(x0, x1) >= x_hi:
+            continue
+
+        def at(x):
+            return (x, r0 + (r1 - r0) * (x - x0) / (x1 - x0))
+
+        a = s.start if x_lo <= x0 <= x_hi else at(x_lo if x0 < x_lo else x_hi)
+        b = s.end if x_lo <= x1 <= x_hi else at(x_hi if x1 > x_hi else x_lo)
+        out.append(Segment(a, b, key=s.key))
+    return out
+
+
+def _read_points(path: Path, key: str) -> np.ndarray:
+    try:
+        text = path.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise ProfileError(key, f"cannot read the profile file {str(path)!r} ({exc.strerror})") from None
+    rows = list(csv.reader(text.splitlines()))
+    rows = [(n, r) for n, r in enumerate(rows, 1) if r and not r[0].lstrip().startswith("#")]
+    if not rows:
+        raise ProfileError(key, f"{path.name}: the file is empty")
+    n0, header = rows[0]
+    names = [h.strip().lower() for h in header]
+    if "x" not in names or "r" not in names:
+        raise ProfileError(key, f"{path.name} line {n0}: expected a header naming columns x and r (metres), got {header}")
+    ix, ir = names.index("x"), names.index("r")
+    pts = []
+    for n, row in rows[1:]:
+        try:
+            pts.append((float(row[ix]), float(row[ir])))
+        except (ValueError, IndexError):
+            raise ProfileError(key, f"{path.name} line {n}: expected numbers in columns x and r, got {row}") from None
+    if len(pts) < 2:
+        raise ProfileError(key, f"{path.name}: needs at least two points")
+    return np.array(pts)
+
+
+def build_profile(case) -> Profile:
+    """The validated meridional profile of ``case.bore`` (a Case or anything with .bore and .resolve_path)."""
+    b = case.bore
+    t = b.template
+    cb_chain: list[Segment] = []
+    notes: list[str] = []
+    if t == "conical":
+        ri, re = b.inlet_diameter / 2, b.exit_diameter / 2
+        if not re < ri:
+            raise ProfileError("bore.exit_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m) for a nozzle")
+        lc = _straight_cone(ri, re, b.half_angle)
+        v = [(0, ri), (b.inlet_length, ri), (b.inlet_length + lc, re), (b.inlet_length + lc + b.tip_length, re)]
+        wall = fillet_chain(v, [0.0, b.lip_radius], ["bore.inlet_length", "bore.half_angle", "bore.tip_length"],
+                            ["bore.inlet_length", "bore.lip_radius"])
+    elif t == "reducer":
+        r1, r2 = b.inlet_diameter / 2, b.outlet_diameter / 2
+        if abs(r1 - r2) <= 1e-9 * r1:
+            raise ProfileError("bore.outlet_diameter", "expected a diameter different from inlet_diameter")
+        lc = _straight_cone(r1, r2, b.half_angle)
+        v = [(0, r1), (b.inlet_length, r1), (b.inlet_length + lc, r2), (b.inlet_length + lc + b.outlet_length, r2)]
+        k = b.knuckle_radius
+        radii = [0.0, k] if r2 < r1 else [k, 0.0]  # round the convex knuckle only
+        wall = fillet_chain(v, radii, ["bore.inlet_length", "bore.half_angle", "bore.outlet_length"],
+                            ["bore.knuckle_radius", "bore.knuckle_radius"])
+    elif t == "contoured":
+        ri, re = b.inlet_diameter / 2, b.exit_diameter / 2
+        if not re < ri:
+            raise ProfileError("bore.exit_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m)")
+        x0, L = b.inlet_length, b.contraction_length
+        xi = np.linspace(0, 1, CONTOUR_POINTS)
+        pts = np.column_stack([x0 + L * xi, ri - (ri - re) * contour_polynomial(xi)])
+        wall = [
+            Segment((0.0, ri), (x0, ri), key="bore.inlet_length"),
+            Segment(tuple(pts[0]), tuple(pts[-1]), "spline", via=tuple(map(tuple, pts[1:-1])), key="bore.contraction_length"),
+            Segment((x0 + L, re), (x0 + L + b.tip_length, re), key="bore.tip_length"),
+        ]
+        notes.append("contraction: fifth-order polynomial (Bell & Mehta 1988)")
+    elif t == "spear":
+        ri, ro, rn = b.inlet_diameter / 2, b.orifice_diameter / 2, b.needle_diameter / 2
+        if not ro < ri:
+            raise ProfileError("bore.orifice_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m)")
+        if not rn < ri:
+            raise ProfileError("bore.needle_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m)")
+        lc = _straight_cone(ri, ro, b.half_angle)
+        xo = b.inlet_length + lc
+        x_out = xo + b.tip_length
+        v = [(0, ri), (b.inlet_length, ri), (xo, ro), (x_out, ro)]
+        wall = fillet_chain(v, [0.0, b.lip_radius], ["bore.inlet_length", "bore.half_angle", "bore.tip_length"],
+                            ["bore.inlet_length", "bore.lip_radius"])
+        tn = math.tan(b.needle_half_angle)
+        x_tip = xo + ro / tn - b.stroke  # at stroke 0 the needle cone seats on the orifice edge
+        if x_tip <= 0:
+            raise ProfileError("bore.stroke", f"the needle tip would be upstream of the inlet plane (stroke {b.stroke:.6g} m is too large)")
+        x_base = x_tip - rn / tn
+        needle = [Segment((min(x_base, 0.0) - 1.0, rn), (x_base, rn), key="bore.needle_diameter"),
+                  Segment((x_base, rn), (x_tip, 0.0), key="bore.needle_half_angle")]
+        if x_base <= 0:
+            needle = needle[1:]
+        cb_chain = _clip_x(needle, 0.0, x_out)
+        gap = _gap(wall, cb_chain)
+        if gap <= 1e-6 * ri:
+            raise ProfileError("bore.stroke", "the needle touches the nozzle: the stroke must open a gap (at stroke 0 the needle seats on the orifice edge)")
+        notes.append(f"needle tip at x = {x_tip:.6g} m; narrowest gap {gap:.6g} m")
+    elif t == "segments":
+        wall = _chain_from_spec(b.start, b.segment, "bore")
+    elif t == "points":
+        path = case.resolve_path(b.file)
+        pts = _read_points(path, "bore.file")
+        if b.smooth and len(pts) > 2:
+            wall = [Segment(tuple(pts[0]), tuple(pts[-1]), "spline", via=tuple(map(tuple, pts[1:-1])), key="bore.file")]
+        else:
+            wall = [Segment(tuple(p), tuple(q), key=f"bore.file row {i}") for i, (p, q) in enumerate(zip(pts[:-1], pts[1:]), 1)]
+    else:  # pragma: no cover - the schema admits only the templates above
+        raise ProfileError("bore.template", f"unknown template {t!r}")
+
+    spec = getattr(b, "centerbody", None)
+    if spec is not None:
+        cb_chain = _chain_from_spec(spec.start, spec.segment, "bore.centerbody")
+    x_in, x_out = wall[0].start[0], wall[-1].end[0]
+    scale = max(abs(x_out - x_in), max(max(s.start[1], s.end[1]) for s in wall))
+    if cb_chain:
+        cb_chain = _orient_centerbody(cb_chain, x_in, x_out, 1e-9 * scale)
+    profile = Profile(tuple(wall), tuple(cb_chain), name=t, notes=tuple(notes))
+    return validate(profile)
+
+
+def _gap(wall, body) -> float:
+    from .profile import _chain_points, _min_distance
+
+    return _min_distance(_chain_points(wall), _chain_points(body))

@@ -1,0 +1,1 @@
+"""Run directories and file output (every write atomic)."""

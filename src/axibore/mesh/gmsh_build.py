@@ -1,0 +1,216 @@
+"""Meridional meshes with the Gmsh Python API: profile in, FVMesh (and optionally a .msh file) out.
+
+Physical groups: ``inlet``, ``outlet``, ``wall``, ``axis`` and ``centerbody``. The target cell
+size is ``size * (smallest channel height) * 2**(-level/2)``; convex corners (suction peaks) are
+refined by a distance field, arcs and splines by curvature.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from contextlib import contextmanager
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from ..geometry import Profile
+from .fvmesh import FVMesh
+
+# Named choices mapped to Gmsh option numbers in one place (Gmsh reference manual, Mesh options).
+_ALGORITHM = {"triangles": 6, "quads": 8}  # 6 Frontal-Delaunay, 8 Frontal-Delaunay for quads
+_RECOMBINATION_SIMPLE_FULL_QUAD = 2
+CURVATURE_ELEMENTS = 36  # elements per 2 pi of curve turning (10 degrees per face on arcs)
+CORNER_FACTOR = 0.25  # cell size at a convex corner relative to the target size
+CORNER_REACH = 6.0  # distance (in target sizes) over which the corner refinement grades out
+
+
+@dataclass(frozen=True)
+class MeshResult:
+    mesh: FVMesh
+    h_target: float
+    seconds: float
+    level: int
+    cells_kind: str
+
+
+def target_size(profile: Profile, size: float, level: int) -> float:
+    """Target cell size [m]: mesh.size times the smallest channel height, halved every two levels."""
+    return size * profile.min_channel_height * 2.0 ** (-level / 2.0)
+
+
+@contextmanager
+def gmsh_session():
+    """Initialise Gmsh on entry and finalise it on exit (one model at a time per process)."""
+    import gmsh
+
+    if gmsh.isInitialized():
+        gmsh.finalize()
+    gmsh.initialize(readConfigFiles=False, interruptible=False)
+    gmsh.option.setNumber("General.Terminal", 0)
+    gmsh.option.setNumber("General.Verbosity", 1)
+    try:
+        yield gmsh
+    finally:
+        gmsh.finalize()
+
+
+def _add_geometry(gmsh, profile: Profile, h: float) -> dict[str, list[int]]:
+    geo = gmsh.model.geo
+    points: dict[tuple, int] = {}
+    tol = 1e-10 * profile.length_scale
+
+    def point(p) -> int:
+        k = (round(p[0] / tol), round(p[1] / tol))
+        if k not in points:
+            points[k] = geo.addPoint(float(p[0]), float(p[1]), 0.0, h)
+        return points[k]
+
+    groups: dict[str, list[int]] = {}
+    curved: list = []
+    loop = []
+    for group, seg in profile.loop():
+        a, b = point(seg.start), point(seg.end)
+        if seg.kind == "line":
+            c = geo.addLine(a, b)
+        elif seg.kind == "arc":
+            cx, cr = seg.arc_center()
+            centre = geo.addPoint(cx, cr, 0.0, h)
+            c = geo.addCircleArc(a, centre, b)
+        else:
+            via = [geo.addPoint(float(x), float(r), 0.0, h) for x, r in seg.via]
+            c = geo.addSpline([a, *via, b])
+        groups.setdefault(group, []).append(c)
+        loop.append(c)
+        if seg.kind != "line":
+            curved.append((c, seg))
+    cl = geo.addCurveLoop(loop)
+    geo.addPlaneSurface([cl], tag=1)
+    geo.synchronize()
+    for name, curves in groups.items():
+        gmsh.model.addPhysicalGroup(1, curves, name=name)
+    gmsh.model.addPhysicalGroup(2, [1], name="fluid")
+    return curved
+
+
+def _min_curvature_radius(seg) -> float:
+    if seg.kind == "arc":
+        return abs(seg.radius)
+    p = seg.sample()
+    a, b, c = p[:-2], p[1:-1], p[2:]
+    ab, bc, ca = (np.linalg.norm(b - a, axis=1), np.linalg.norm(c - b, axis=1), np.linalg.norm(a - c, axis=1))
+    cross = np.abs((b - a)[:, 0] * (c - a)[:, 1] - (b - a)[:, 1] * (c - a)[:, 0])
+    with np.errstate(divide="ignore"):
+        radius = ab * bc * ca / (2.0 * cross)  # circumradius of three consecutive samples
+    return float(np.min(radius)) if radius.size else math.inf
+
+
+def _threshold(gmsh, distance_field: int, size_min: float, h: float) -> int:
+    thr = gmsh.model.mesh.field.add("Threshold")
+    gmsh.model.mesh.field.setNumber(thr, "InField", distance_field)
+    gmsh.model.mesh.field.setNumber(thr, "SizeMin", size_min)
+    gmsh.model.mesh.field.setNumber(thr, "SizeMax", h)
+    gmsh.model.mesh.field.setNumber(thr, "DistMin", size_min)
+    gmsh.model.mesh.field.setNumber(thr, "DistMax", h * CORNER_REACH)
+    return thr
+
+
+def _add_size_fields(gmsh, profile: Profile, h: float, curved) -> None:
+    corners = [c for c in profile.corners() if c.convex]
+    fields = []
+    for tag, seg in curved:  # curvature: CURVATURE_ELEMENTS faces per full turn
+        hc = 2 * math.pi * _min_curvature_radius(seg) / CURVATURE_ELEMENTS
+        if hc < h:
+            dist = gmsh.model.mesh.field.add("Distance")
+            gmsh.model.mesh.field.setNumbers(dist, "CurvesList", [tag])
+            length = float(np.sum(np.linalg.norm(np.diff(seg.sample(), axis=0), axis=1)))
+            gmsh.model.mesh.field.setNumber(dist, "Sampling", int(min(2000, max(20, 4 * length / hc))))
+            fields.append(_threshold(gmsh, dist, hc, h))
+    if corners:
+        occ_pts = [gmsh.model.geo.addPoint(c.x, c.r, 0.0, h * CORNER_FACTOR) for c in corners]
+        gmsh.model.geo.synchronize()
+        dist = gmsh.model.mesh.field.add("Distance")
+        gmsh.model.mesh.field.setNumbers(dist, "PointsList", occ_pts)
+        fields.append(_threshold(gmsh, dist, h * CORNER_FACTOR, h))
+    if fields:
+        mn = gmsh.model.mesh.field.add("Min")
+        gmsh.model.mesh.field.setNumbers(mn, "FieldsList", fields)
+        gmsh.model.mesh.field.setAsBackgroundMesh(mn)
+
+
+def _set_options(gmsh, h: float, cells: str) -> None:
+    opt = gmsh.option.setNumber
+    opt("Mesh.MeshSizeMax", h)
+    opt("Mesh.MeshSizeMin", 0.0)
+    opt("Mesh.MeshSizeFromCurvature", 0)  # slow in Gmsh's built-in kernel: distance fields instead
+    opt("Mesh.MeshSizeExtendFromBoundary", 0)
+    opt("Mesh.MeshSizeFromPoints", 0)
+    opt("Mesh.Algorithm", _ALGORITHM[cells])
+    if cells == "quads":
+        opt("Mesh.RecombineAll", 1)
+        opt("Mesh.RecombinationAlgorithm", _RECOMBINATION_SIMPLE_FULL_QUAD)
+
+
+def read_model(gmsh) -> FVMesh:
+    """FVMesh of the current Gmsh model (2D elements of the surface, 1D elements of groups)."""
+    tags, coords, _ = gmsh.model.mesh.getNodes()
+    tags = np.asarray(tags, np.int64)
+    xy = np.asarray(coords).reshape(-1, 3)[:, :2]
+    lookup = np.full(int(tags.max()) + 1, -1, np.int64)
+    lookup[tags] = np.arange(tags.size)
+
+    blocks = []
+    types, _, node_tags = gmsh.model.mesh.getElements(2)
+    for etype, nt in zip(types, node_tags):
+        nt = lookup[np.asarray(nt, np.int64)]
+        if etype == 2:
+            blocks.append(np.column_stack([nt.reshape(-1, 3), np.full(nt.size // 3, -1)]))
+        elif etype == 3:
+            blocks.append(nt.reshape(-1, 4))
+        else:
+            raise RuntimeError(f"unexpected Gmsh element type {etype} in a 2D mesh")
+    cells = np.vstack(blocks)
+
+    edges: dict[str, list[np.ndarray]] = {}
+    for dim, ptag in gmsh.model.getPhysicalGroups(1):
+        name = gmsh.model.getPhysicalName(dim, ptag)
+        for ent in gmsh.model.getEntitiesForPhysicalGroup(dim, ptag):
+            et, _, nt = gmsh.model.mesh.getElements(1, ent)
+            for etype, n in zip(et, nt):
+                if etype != 1:
+                    raise RuntimeError(f"unexpected Gmsh element type {etype} on a boundary")
+                edges.setdefault(name, []).append(lookup[np.asarray(n, np.int64)].reshape(-1, 2))
+    # drop nodes not used by any cell (arc centres, refinement points)
+    used = np.zeros(len(xy), bool)
+    used[cells[cells >= 0]] = True
+    renum = np.cumsum(used) - 1
+    cells = np.where(cells >= 0, renum[np.maximum(cells, 0)], -1)
+    bnd = {k: renum[np.vstack(v)] for k, v in edges.items()}
+    return FVMesh.from_cells(xy[used], cells, bnd)
+
+
+def mesh_profile(profile: Profile, size: float = 0.05, level: int = 0, cells: str = "triangles",
+                 msh_path: str | Path | None = None) -> MeshResult:
+    """Mesh the fluid region of ``profile``; optionally write the Gmsh .msh file."""
+    h = target_size(profile, size, level)
+    t0 = time.perf_counter()
+    with gmsh_session() as gmsh:
+        gmsh.model.add("bore")
+        curved = _add_geometry(gmsh, profile, h)
+        _add_size_fields(gmsh, profile, h, curved)
+        _set_options(gmsh, h, cells)
+        gmsh.model.mesh.generate(2)
+        if msh_path is not None:
+            gmsh.write(str(msh_path))
+        fv = read_model(gmsh)
+    return MeshResult(fv, h, time.perf_counter() - t0, level, cells)
+
+
+def expected_cells(profile: Profile, size: float, level: int) -> float:
+    """Rough cell count of a triangle mesh (for progress messages and refusing huge meshes)."""
+    h = target_size(profile, size, level)
+    return 2.3 * profile.area / (h * h)
+
+
+__all__ = ["MeshResult", "mesh_profile", "target_size", "gmsh_session", "read_model", "expected_cells"]
