@@ -213,7 +213,7 @@ class OutletSpec(_Section):
 class MeshSpec(_Section):
     size: Annotated[float, Field(gt=0.0, le=1.0)] = 0.05
     level: Annotated[int, Field(ge=0, le=12)] = 0
-    cells: Literal["triangles", "quads"] = "triangles"
+    cells: Literal["triangles", "quads"] = "quads"
 
 
 class SolverSpec(_Section):

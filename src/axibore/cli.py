@@ -145,8 +145,87 @@ def cmd_mesh(args) -> int:
 
 
 # ---------------------------------------------------------------------------------------------
+# run
+
+
+def headline(summary: dict) -> list[str]:
+    """The numbers an engineer signs off, as printed lines."""
+    fl, p, f, o = summary["flow"], summary["pressure"], summary["forces"], summary["onedim"]
+    rows = [
+        ("volume flow", show(fl["volume_flow_m3_s"], "volume_flow")),
+        ("mass flow", show(fl["mass_flow_kg_s"], "mass_flow")),
+        ("mean velocity in / out", f"{fl['inlet_mean_velocity_m_s']:.4g} / {fl['outlet_mean_velocity_m_s']:.4g} m/s"),
+        ("discharge coefficient", "-" if fl["discharge_coefficient"] is None else f"{fl['discharge_coefficient']:.5f}"),
+        ("inlet / outlet pressure", f"{show(p['inlet_gauge_Pa'], 'pressure')} / {show(p['outlet_gauge_Pa'], 'pressure')} gauge"),
+        ("wall force x", show(f["wall_x_N"], "force") + ("  (+x = downstream, on the part)")),
+    ]
+    if summary["forces"]["centerbody_x_N"]:
+        rows.append(("centre-body force x", show(f["centerbody_x_N"], "force")))
+    rows += [
+        ("momentum balance x", f"{show(f['momentum_x_N'], 'force')}  (reconciliation {f['reconciliation_rel']:+.2e})"),
+        ("1D formula x", f"{show(f['onedim_x_N'], 'force')}  (2D - 1D: {o['force_dev_rel']:+.3%})" if o["force_dev_rel"] is not None else show(f["onedim_x_N"], "force")),
+    ]
+    if f["per_bolt_N"] is not None:
+        rows.append(("per bolt", f"{show(f['per_bolt_N'], 'force')}  ({f['bolts']} bolts, wall force shared equally)"))
+    rows += [
+        ("min wall pressure", f"{show(p['min_wall_gauge_Pa'], 'pressure')} gauge at x = {show(p['min_wall_x_m'], 'length')} ({p['min_wall_boundary']})"),
+        ("min wall pressure abs", f"{show(p['min_wall_absolute_Pa'], 'pressure')} (vapour {show(p['vapour_pressure_Pa'], 'pressure')})"),
+        ("cavitation index", f"{p['cavitation_index']:.4g} (inception at {p['inception_index']:.4g})"),
+        ("1D wall-pressure dev", f"{o['wall_pressure_max_dev']:.3%} of outlet dynamic pressure; above {o['breakdown_threshold']:.3g}: "
+         + (", ".join(f"x {a * 1e3:.4g}-{b * 1e3:.4g} mm" for a, b in o["breakdown_x_ranges_m"]) or "nowhere")),
+        ("outlet beta / alpha", f"{o['outlet_momentum_factor']:.5f} / {o['outlet_energy_factor']:.5f}"),
+        ("mesh / solve", f"{summary['mesh']['cells']:,} cells ({summary['mesh']['method']}), residual {summary['solver']['residual']:.1e}, "
+         f"mass imbalance {summary['solver']['mass_imbalance']:.1e}"),
+    ]
+    width = max(len(k) for k, _ in rows)
+    return [f"  {k:<{width}}  {v}" for k, v in rows]
+
+
+def add_run_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("case", nargs="?", help="case file (TOML); default: the built-in demo")
+    p.add_argument("--out", help="run directory to write (default: runs/<case name>)")
+    p.add_argument("--level", type=int, default=None, help="refinement level (overrides mesh.level)")
+
+
+def _progress(stage: str, detail: str) -> None:
+    _out(f"[{stage}] {detail}")
+
+
+def cmd_run(args) -> int:
+    from .run import RunRefused, run_case
+    from .solvers.flow import FlowError
+
+    case = _load(args.case)
+    if args.level is not None:
+        case = case.with_level(args.level)
+    stem = Path(args.case).stem if args.case else "demo"
+    out = Path(args.out) if args.out else Path("runs") / stem
+    _out(f"axibore {__version__}: {case.title}")
+    try:
+        res = run_case(case, out, _progress)
+    except RunRefused as exc:
+        _err(f"{case.source}: cannot run this case yet: {exc}")
+        return 2
+    except FlowError as exc:
+        _err(f"{case.source}: {exc.key}: {exc.message}")
+        return 2
+    s = res.summary()
+    _out("")
+    for line in headline(s):
+        _out(line)
+    for w in s["warnings"]:
+        _out(f"warning: {w}")
+    _out("")
+    _out(CAUTION)
+    _out(f"wrote {out}/ (summary.json, wall.csv, fields.vtu, mesh.msh, case.toml)")
+    return 0
+
+
+# ---------------------------------------------------------------------------------------------
 
 COMMANDS = {
+    "run": ("the whole job on a case (default: the built-in demo): mesh, solve, forces, checks, run directory",
+            add_run_args, cmd_run),
     "check": ("validate a case and print what was understood", add_check_args, cmd_check),
     "mesh": ("build the meridional mesh of a case and report its quality", add_mesh_args, cmd_mesh),
 }

@@ -108,6 +108,8 @@ def show(value: float, dimension: str, digits: int = 4) -> str:
     """Human-readable string for an SI value (used in printed tables, never parsed back)."""
     if value is None or (isinstance(value, float) and not math.isfinite(value)):
         return "-"
+    if abs(value) < 1e-9:
+        value = 0.0
     if dimension == "length":
         return f"{value * 1e3:.{digits}g} mm" if abs(value) < 1.0 else f"{value:.{digits}g} m"
     if dimension == "pressure":

@@ -33,6 +33,7 @@ class MeshResult:
     seconds: float
     level: int
     cells_kind: str
+    method: str = ""  # "mapped quads", "unstructured quads", "unstructured triangles"
 
 
 def target_size(profile: Profile, size: float, level: int) -> float:
@@ -56,10 +57,9 @@ def gmsh_session():
         gmsh.finalize()
 
 
-def _add_geometry(gmsh, profile: Profile, h: float) -> dict[str, list[int]]:
+def _add_geometry(gmsh, loop_segments, h: float, tol: float) -> list:
     geo = gmsh.model.geo
     points: dict[tuple, int] = {}
-    tol = 1e-10 * profile.length_scale
 
     def point(p) -> int:
         k = (round(p[0] / tol), round(p[1] / tol))
@@ -70,7 +70,7 @@ def _add_geometry(gmsh, profile: Profile, h: float) -> dict[str, list[int]]:
     groups: dict[str, list[int]] = {}
     curved: list = []
     loop = []
-    for group, seg in profile.loop():
+    for group, seg in loop_segments:
         a, b = point(seg.start), point(seg.end)
         if seg.kind == "line":
             c = geo.addLine(a, b)
@@ -116,8 +116,7 @@ def _threshold(gmsh, distance_field: int, size_min: float, h: float) -> int:
     return thr
 
 
-def _add_size_fields(gmsh, profile: Profile, h: float, curved) -> None:
-    corners = [c for c in profile.corners() if c.convex]
+def _add_size_fields(gmsh, corners, h: float, curved) -> None:
     fields = []
     for tag, seg in curved:  # curvature: CURVATURE_ELEMENTS faces per full turn
         hc = 2 * math.pi * _min_curvature_radius(seg) / CURVATURE_ELEMENTS
@@ -128,7 +127,7 @@ def _add_size_fields(gmsh, profile: Profile, h: float, curved) -> None:
             gmsh.model.mesh.field.setNumber(dist, "Sampling", int(min(2000, max(20, 4 * length / hc))))
             fields.append(_threshold(gmsh, dist, hc, h))
     if corners:
-        occ_pts = [gmsh.model.geo.addPoint(c.x, c.r, 0.0, h * CORNER_FACTOR) for c in corners]
+        occ_pts = [gmsh.model.geo.addPoint(x, r, 0.0, h * CORNER_FACTOR) for x, r in corners]
         gmsh.model.geo.synchronize()
         dist = gmsh.model.mesh.field.add("Distance")
         gmsh.model.mesh.field.setNumbers(dist, "PointsList", occ_pts)
@@ -190,21 +189,51 @@ def read_model(gmsh) -> FVMesh:
     return FVMesh.from_cells(xy[used], cells, bnd)
 
 
-def mesh_profile(profile: Profile, size: float = 0.05, level: int = 0, cells: str = "triangles",
-                 msh_path: str | Path | None = None) -> MeshResult:
-    """Mesh the fluid region of ``profile``; optionally write the Gmsh .msh file."""
-    h = target_size(profile, size, level)
-    t0 = time.perf_counter()
+def mesh_loop(loop_segments, h: float, cells: str = "triangles", corners=(), msh_path: str | Path | None = None,
+              tol: float = 1e-12, mapped: bool = False) -> FVMesh:
+    """Mesh the region inside a closed counter-clockwise loop of (group name, Segment).
+
+    ``corners``: (x, r) points refined to CORNER_FACTOR * h. ``mapped``: a loop of four
+    segments meshed transfinitely with quads (opposite sides get the larger count of cells of
+    size h). Used for bores and for the verification geometries of exact solutions.
+    """
     with gmsh_session() as gmsh:
         gmsh.model.add("bore")
-        curved = _add_geometry(gmsh, profile, h)
-        _add_size_fields(gmsh, profile, h, curved)
-        _set_options(gmsh, h, cells)
+        curved = _add_geometry(gmsh, loop_segments, h, tol)
+        if mapped:
+            if len(loop_segments) != 4:
+                raise ValueError("a mapped mesh needs a loop of four segments")
+            lengths = [float(np.sum(np.linalg.norm(np.diff(s.sample(), axis=0), axis=1))) for _, s in loop_segments]
+            n = [max(1, math.ceil(max(lengths[k], lengths[k + 2]) / h)) for k in (0, 1)]
+            for k, (dim, tag) in enumerate(gmsh.model.getEntities(1)):
+                gmsh.model.mesh.setTransfiniteCurve(tag, n[k % 2] + 1)
+            gmsh.model.mesh.setTransfiniteSurface(1)
+            gmsh.model.mesh.setRecombine(2, 1)
+        else:
+            _add_size_fields(gmsh, list(corners), h, curved)
+            _set_options(gmsh, h, cells)
         gmsh.model.mesh.generate(2)
         if msh_path is not None:
             gmsh.write(str(msh_path))
-        fv = read_model(gmsh)
-    return MeshResult(fv, h, time.perf_counter() - t0, level, cells)
+        return read_model(gmsh)
+
+
+def mesh_profile(profile: Profile, size: float = 0.05, level: int = 0, cells: str = "triangles",
+                 msh_path: str | Path | None = None) -> MeshResult:
+    """Mesh the fluid region of ``profile``; optionally write the Gmsh .msh file."""
+    from .mapped import NotMappable, mesh_mapped
+
+    h = target_size(profile, size, level)
+    t0 = time.perf_counter()
+    if cells == "quads":
+        try:
+            fv = mesh_mapped(profile, h, msh_path)
+            return MeshResult(fv, h, time.perf_counter() - t0, level, cells, "mapped quads")
+        except NotMappable:
+            pass
+    corners = [(c.x, c.r) for c in profile.corners() if c.convex]
+    fv = mesh_loop(profile.loop(), h, cells, corners, msh_path, tol=1e-10 * profile.length_scale)
+    return MeshResult(fv, h, time.perf_counter() - t0, level, cells, f"unstructured {cells}")
 
 
 def expected_cells(profile: Profile, size: float, level: int) -> float:

@@ -1,0 +1,1 @@
+"""Post-processing: wall tables, forces, 1D comparison inputs, cavitation and warnings."""

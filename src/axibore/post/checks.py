@@ -1,0 +1,87 @@
+"""Cavitation margin and the warnings a result must carry.
+
+Cavitation index (common practice; e.g. ISA-RP75.23-1995 uses the same form for valves with
+the pressure drop in the denominator):  sigma = (p_outlet,abs - p_v) / (rho V_outlet^2 / 2).
+With Cp = (p - p_outlet) / (rho V_outlet^2 / 2), ideal inception is at sigma_i = -Cp_min
+(derived): the flow cavitates where sigma < sigma_i, i.e. where the wall pressure falls below p_v.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class Checks:
+    min_wall_gauge_Pa: float
+    min_wall_x_m: float
+    min_wall_r_m: float
+    min_wall_boundary: str
+    min_wall_absolute_Pa: float
+    vapour_pressure_Pa: float
+    cavitation_index: float
+    inception_index: float  # -Cp_min
+    cp_min: float
+    warnings: list[str]
+
+
+def checks(case, profile, mesh, flow, tables: dict, forces, onedim) -> Checks:
+    rho = flow.density
+    V_out = flow.volume_flow / flow.outlet_area
+    q_out = 0.5 * rho * V_out**2
+    p_amb = case.ambient_pressure
+    name, k = min(((n, int(np.argmin(t.pressure))) for n, t in tables.items()), key=lambda nk: tables[nk[0]].pressure[nk[1]])
+    t = tables[name]
+    p_min = float(t.pressure[k])
+    p_out = flow.plane_mean("outlet", flow.boundary["outlet"].pressure, mesh)
+    pv = case.fluid.vapour_pressure
+    sigma = (p_out + p_amb - pv) / q_out
+    cp_min = (p_min - p_out) / q_out
+    warnings: list[str] = []
+
+    if p_min + p_amb < pv:
+        below = {n: tb.x[tb.pressure + p_amb < pv] for n, tb in tables.items()}
+        spans = ", ".join(f"{n} x = {v.min() * 1e3:.4g} to {v.max() * 1e3:.4g} mm" for n, v in below.items() if v.size)
+        warnings.append(
+            f"cavitation expected: the single-phase result is not valid there (wall pressure below the vapour pressure "
+            f"{pv:.4g} Pa on {spans})"
+        )
+    if p_min + p_amb < 0:
+        warnings.append("the computed absolute wall pressure is negative: a liquid cannot sustain this; the flow will cavitate or separate")
+    for c in profile.corners():
+        if c.convex:
+            warnings.append(
+                f"sharp convex corner on the {c.boundary} at x = {c.x * 1e3:.4g} mm, r = {c.r * 1e3:.4g} mm ({c.key}, turns "
+                f"{math.degrees(c.turn):.3g} deg): the exact potential-flow speed there is infinite, so the suction peak "
+                f"grows with mesh refinement and the minimum pressure near it is not a converged number; round the corner "
+                f"for a converged value (forces are far less affected)"
+            )
+    if abs(forces.reconciliation_rel) > 1e-3:
+        warnings.append(
+            f"wall force and momentum balance differ by {forces.reconciliation_rel:.2%}: refine the mesh (mesh.level) "
+            f"before relying on the force"
+        )
+    if not flow.info.converged:
+        warnings.append(f"the linear solve did not reach its tolerance (residual {flow.info.residual:.3g})")
+    if not onedim.meaningful:
+        warnings.append("the wall runs backwards in x: the 1D model along x is not meaningful for this bore")
+    if case.outlet.kind == "exit-plane":
+        warnings.append(
+            "exit-plane outlet: the jet is taken to leave normal to the exit plane at ambient mean pressure; "
+            "the contraction of a free jet beyond the exit is not modelled"
+        )
+    return Checks(
+        min_wall_gauge_Pa=p_min,
+        min_wall_x_m=float(t.x[k]),
+        min_wall_r_m=float(t.r[k]),
+        min_wall_boundary=name,
+        min_wall_absolute_Pa=p_min + p_amb,
+        vapour_pressure_Pa=pv,
+        cavitation_index=float(sigma),
+        inception_index=float(-cp_min),
+        cp_min=float(cp_min),
+        warnings=warnings,
+    )

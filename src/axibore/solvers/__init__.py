@@ -1,0 +1,1 @@
+"""Flow solvers: potential (incompressible, irrotational) and the 1D models."""

@@ -1,0 +1,98 @@
+"""The 1D models an engineer uses by hand, and where the 2D answer departs from them.
+
+Continuity and Bernoulli along x with the local flow area A(x) (an annulus where a centre body
+is present): V(x) = Q / A(x), p(x) = H - rho V(x)^2 / 2, with the same flow rate Q and total
+head H as the 2D solution, so that differences are the 1D assumption (uniform velocity on every
+cross-section) alone.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..geometry import Profile
+
+
+@dataclass(frozen=True)
+class OneDimComparison:
+    force_dev_rel: float  # (F_2D - F_1D) / |F_1D|
+    wall_pressure_max_dev: float  # max |p_2D - p_1D| / (rho V_out^2 / 2) over wall and centre body
+    wall_pressure_max_dev_x_m: float
+    breakdown_x_ranges_m: list[list[float]]  # x ranges where the deviation exceeds the threshold
+    threshold: float
+    outlet_momentum_factor: float  # beta = integral u_x^2 dA / (A V^2)
+    outlet_energy_factor: float  # alpha = integral u_x q^2 dA / (A V^3)
+    discharge_coefficient: float | None  # Q / Q_1D(delta p) for the same plane pressure difference
+    meaningful: bool = True  # False when the wall runs backwards in x
+    deviation: dict = field(default_factory=dict, repr=False)  # boundary name -> per-face deviation
+
+
+def onedim_pressure(profile: Profile, x: np.ndarray, Q: float, H: float, rho: float) -> np.ndarray:
+    A = profile.flow_area(x)
+    return H - 0.5 * rho * (Q / A) ** 2
+
+
+def _ranges(x: np.ndarray, mask: np.ndarray) -> list[list[float]]:
+    """x extents of the runs of consecutive True in ``mask`` (faces in arc-length order)."""
+    if not np.any(mask):
+        return []
+    m = np.r_[False, mask, False].astype(int)
+    starts = np.flatnonzero(np.diff(m) == 1)
+    ends = np.flatnonzero(np.diff(m) == -1)
+    return [[float(x[a:b].min()), float(x[a:b].max())] for a, b in zip(starts, ends)]
+
+
+def _merge(ranges: list[list[float]]) -> list[list[float]]:
+    out: list[list[float]] = []
+    for a, b in sorted(ranges):
+        if out and a <= out[-1][1]:
+            out[-1][1] = max(out[-1][1], b)
+        else:
+            out.append([a, b])
+    return out
+
+
+def compare(profile: Profile, mesh, flow, tables: dict, force_2d: float, force_1d: float, threshold: float) -> OneDimComparison:
+    rho, Q, H = flow.density, flow.volume_flow, flow.total_pressure
+    V_out = Q / flow.outlet_area
+    q_out = 0.5 * rho * V_out**2
+    ranges, devs = [], {}
+    worst, worst_x = 0.0, float("nan")
+    for name, t in tables.items():
+        dev = (t.pressure - onedim_pressure(profile, t.x, Q, H, rho)) / q_out
+        devs[name] = dev
+        k = int(np.argmax(np.abs(dev)))
+        if abs(dev[k]) > worst:
+            worst, worst_x = float(abs(dev[k])), float(t.x[k])
+        ranges += _ranges(t.x, np.abs(dev) > threshold)
+
+    out = flow.boundary["outlet"]
+    a = 2 * np.pi * mesh.face_area[out.faces]
+    ux = out.velocity[0]
+    q2 = ux**2 + out.velocity[1] ** 2
+    A = a.sum()
+    beta = float(np.sum(ux**2 * a) / (A * V_out**2))
+    alpha = float(np.sum(ux * q2 * a) / (A * V_out**3))
+
+    p_in = flow.plane_mean("inlet", flow.boundary["inlet"].pressure, mesh)
+    p_out = flow.plane_mean("outlet", out.pressure, mesh)
+    ratio = flow.outlet_area / flow.inlet_area
+    dp = p_in - p_out
+    cd = None
+    if dp > 0 and ratio < 1 - 1e-9:
+        Q1 = flow.outlet_area * np.sqrt(2 * dp / (rho * (1 - ratio**2)))
+        cd = float(Q / Q1)
+    return OneDimComparison(
+        force_dev_rel=float((force_2d - force_1d) / abs(force_1d)) if force_1d else float("nan"),
+        wall_pressure_max_dev=worst,
+        wall_pressure_max_dev_x_m=worst_x,
+        breakdown_x_ranges_m=_merge(ranges),
+        threshold=threshold,
+        outlet_momentum_factor=beta,
+        outlet_energy_factor=alpha,
+        discharge_coefficient=cd,
+        meaningful=profile.monotone,
+        deviation=devs,
+    )
