@@ -1,0 +1,79 @@
+"""Exact solutions the solver is checked against (used by the tests and by ``axibore verify``).
+
+Each problem meshes its own domain, solves, and returns computed and exact values. Sources are
+named beside each problem (see also shared SOURCES.md of the project).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from .geometry import Segment
+from .mesh.gmsh_build import mesh_loop
+from .solvers.potential import BoundaryCondition, solve_potential
+from .solvers.reconstruct import boundary_gradients
+
+
+@dataclass(frozen=True)
+class ConeSinkResult:
+    h: float
+    cells: int
+    wall_cp_rms_error: float  # rms over the wall of |Cp - Cp_exact|, Cp on q(r1)
+    wall_cp_max_error: float
+    wall_force: float  # rho = 1, p0 = 0
+    wall_force_exact: float
+    flow_rate: float
+    flow_rate_exact: float
+
+
+def cone_sink(h: float, half_angle_deg: float = 30.0, r1: float = 0.5, r2: float = 1.5, Q: float = 1.0,
+              mapped: bool = True) -> ConeSinkResult:
+    """Radial flow into a point sink at the apex of a cone, between spherical caps r1 < r2.
+
+    Exact (derived; SOURCES.md "purely radial flow inside a cone"): speed q = Q / (Omega r^2),
+    Omega = 2 pi (1 - cos alpha), phi = Q / (Omega r), p = p0 - rho q^2 / 2; axial force on the
+    cone wall between the caps pi sin^2(alpha) [p0 (r2^2 - r1^2) - (rho/2)(Q/Omega)^2 (r1^-2 - r2^-2)].
+    The caps are equipotentials and take the exact phi (Dirichlet); the wall has no normal flow.
+    """
+    al = math.radians(half_angle_deg)
+    om = 2 * math.pi * (1 - math.cos(al))
+    ca, sa = math.cos(al), math.sin(al)
+    loop = [
+        ("axis", Segment((-r2, 0.0), (-r1, 0.0))),
+        ("outlet", Segment((-r1, 0.0), (-r1 * ca, r1 * sa), "arc", r1)),
+        ("wall", Segment((-r1 * ca, r1 * sa), (-r2 * ca, r2 * sa))),
+        ("inlet", Segment((-r2 * ca, r2 * sa), (-r2, 0.0), "arc", -r2)),
+    ]
+    mesh = mesh_loop(loop, h, "quads" if mapped else "triangles", mapped=mapped)
+    xf = mesh.face_centroid
+
+    def phi_exact(p):
+        return Q / (om * np.hypot(p[:, 0], p[:, 1]))
+
+    bcs = {
+        "inlet": BoundaryCondition("value", phi_exact(xf[mesh.boundary["inlet"]])),
+        "outlet": BoundaryCondition("value", phi_exact(xf[mesh.boundary["outlet"]])),
+        "wall": BoundaryCondition("flux", 0.0),
+        "axis": BoundaryCondition("flux", 0.0),
+    }
+    field = solve_potential(mesh, bcs)
+    wf = mesh.boundary["wall"]
+    g = boundary_gradients(mesh, field.phi, wf, field.is_value, field.boundary_data)
+    rho_s = np.hypot(xf[wf, 0], xf[wf, 1])
+    q_ref = Q / (om * r1**2)
+    cp = -(g[0] ** 2 + g[1] ** 2) / q_ref**2
+    cp_exact = -((Q / (om * rho_s**2)) ** 2) / q_ref**2
+    err = np.abs(cp - cp_exact)
+    p = -0.5 * (g[0] ** 2 + g[1] ** 2)
+    force = 2 * math.pi * float(np.sum(p * mesh.face_normal[wf, 0] * mesh.face_area[wf]))
+    force_exact = math.pi * sa**2 * (-0.5 * (Q / om) ** 2 * (r1**-2 - r2**-2))
+    flow = 2 * math.pi * float(field.face_flux[mesh.boundary["outlet"]].sum())
+    return ConeSinkResult(h, mesh.n_cells, float(np.sqrt(np.mean(err**2))), float(err.max()), force, force_exact, flow, Q)
+
+
+def observed_order(h: np.ndarray, err: np.ndarray) -> float:
+    """Least-squares slope of log(err) against log(h)."""
+    return float(np.polyfit(np.log(h), np.log(err), 1)[0])

@@ -1,0 +1,183 @@
+"""Case files: units, schema, every kind of bad input gives a clear error naming file and key."""
+
+import math
+import subprocess
+import sys
+
+import pytest
+
+from axibore.case import CaseError, case_from_dict, load_case
+from axibore.cli import main
+from axibore.units import UnitError, to_si
+
+
+def problems(data):
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(data, source="x.toml")
+    return exc.value.lines()
+
+
+def test_units_to_si():
+    assert to_si("80 mm", "length") == pytest.approx(0.08)
+    assert to_si("7 bar", "pressure") == pytest.approx(7e5)
+    assert to_si("15 degC", "temperature") == pytest.approx(288.15)
+    assert to_si("0.5 m^3/s", "volume_flow") == pytest.approx(0.5)
+    assert to_si("31 kg/s", "mass_flow") == pytest.approx(31.0)
+    assert to_si("12 deg", "angle") == pytest.approx(math.radians(12))
+    assert to_si(0.25, "length") == 0.25  # bare numbers are SI
+    with pytest.raises(UnitError, match='expected a length, got "25 kg"'):
+        to_si("25 kg", "length")
+    with pytest.raises(UnitError, match="expected an angle"):
+        to_si("3 mm", "angle")
+
+
+def test_valid_case_in_si(nozzle_dict):
+    c = case_from_dict(nozzle_dict)
+    assert c.bore.inlet_diameter == pytest.approx(0.08)
+    assert c.bore.half_angle == pytest.approx(math.radians(15))
+    assert c.inlet.pressure == pytest.approx(7e5)
+    assert c.outlet.ambient_pressure == 101325.0
+    assert c.solver_kind == "potential"
+    assert c.mesh.size == 0.05 and c.mesh.level == 0
+
+
+def test_wrong_unit_names_file_and_key(nozzle_dict):
+    nozzle_dict["bore"]["exit_diameter"] = "25 kg"
+    assert 'x.toml: bore.exit_diameter: expected a length, got "25 kg"' in problems(nozzle_dict)
+
+
+def test_unknown_key_is_an_error(nozzle_dict):
+    nozzle_dict["bore"]["tip_lenght"] = "30 mm"
+    lines = problems(nozzle_dict)
+    assert any(line.startswith("x.toml: bore.tip_lenght: unknown key") for line in lines)
+
+
+def test_unknown_section_is_an_error(nozzle_dict):
+    nozzle_dict["solvr"] = {"kind": "potential"}
+    assert any(line.startswith("x.toml: solvr: unknown key") for line in problems(nozzle_dict))
+
+
+def test_every_problem_is_listed(nozzle_dict):
+    nozzle_dict["bore"]["exit_diameter"] = "25 kg"
+    nozzle_dict["bore"]["half_angle"] = "95 deg"
+    del nozzle_dict["bore"]["tip_length"]
+    nozzle_dict["mesh"] = {"cells": "hexagons"}
+    lines = problems(nozzle_dict)
+    keys = {line.split(": ")[1] for line in lines}
+    assert {"bore.exit_diameter", "bore.half_angle", "bore.tip_length", "mesh.cells"} <= keys
+    assert any("missing" in line and "bore.tip_length" in line for line in lines)
+
+
+def test_bare_number_angle_hint(nozzle_dict):
+    nozzle_dict["bore"]["half_angle"] = 12
+    assert any("read as radians" in line for line in problems(nozzle_dict))
+
+
+def test_unknown_template(nozzle_dict):
+    nozzle_dict["bore"]["template"] = "trumpet"
+    assert any(line.startswith("x.toml: bore.template: expected template one of") for line in problems(nozzle_dict))
+
+
+def test_fluid_rules(nozzle_dict):
+    nozzle_dict["fluid"] = {"kind": "water"}
+    assert any("fluid.temperature: missing" in line for line in problems(nozzle_dict))
+    nozzle_dict["fluid"] = {"kind": "water", "temperature": "15 degC", "gas": "air"}
+    assert any("fluid.gas: not used with" in line for line in problems(nozzle_dict))
+    nozzle_dict["fluid"] = {"kind": "liquid", "density": "850 kg/m^3"}
+    assert any("fluid.vapour_pressure: missing" in line for line in problems(nozzle_dict))
+    nozzle_dict["fluid"] = {"kind": "water", "temperature": "300 degC"}
+    assert any("fluid.temperature: expected 0.01 to 200 degC" in line for line in problems(nozzle_dict))
+
+
+def test_inlet_rules(nozzle_dict):
+    nozzle_dict["inlet"] = {}
+    assert any("inlet: missing" in line for line in problems(nozzle_dict))
+    nozzle_dict["inlet"] = {"pressure": "7 bar", "flow_rate": "0.02 m^3/s"}
+    nozzle_dict["outlet"]["pressure"] = "1 bar"
+    assert any("outlet.pressure: over-determined" in line for line in problems(nozzle_dict))
+    nozzle_dict["inlet"] = {"flow_rate": "3 m"}
+    assert any("inlet.flow_rate: expected a volume or mass flow rate" in line for line in problems(nozzle_dict))
+
+
+def test_flow_rate_volume_or_mass(nozzle_dict):
+    nozzle_dict["inlet"] = {"flow_rate": "31 kg/s"}
+    assert case_from_dict(nozzle_dict).inlet.flow_rate == ("mass", pytest.approx(31.0))
+    nozzle_dict["inlet"] = {"flow_rate": "1200 L/min"}
+    assert case_from_dict(nozzle_dict).inlet.flow_rate == ("volume", pytest.approx(0.02))
+
+
+def test_gas_case_accepted_and_refused_by_run(tmp_path):
+    path = tmp_path / "air.toml"
+    path.write_text(
+        '[fluid]\nkind = "ideal-gas"\ngas = "air"\n[bore]\ntemplate = "conical"\ninlet_diameter = "20 mm"\n'
+        'exit_diameter = "8 mm"\nhalf_angle = "20 deg"\ninlet_length = "30 mm"\ntip_length = "6 mm"\n'
+        '[inlet]\ntotal_pressure = "6 bar"\ntotal_temperature = "20 degC"\n'
+    )
+    c = load_case(path)
+    assert c.solver_kind == "euler"
+    assert main(["run", str(path), "--out", str(tmp_path / "run")]) == 2
+    assert not (tmp_path / "run").exists()
+
+
+def test_relative_points_file_resolves_against_case_folder(tmp_path):
+    sub = tmp_path / "cases"
+    sub.mkdir()
+    (sub / "profile.csv").write_text("x,r\n0,0.05\n0.1,0.05\n0.2,0.03\n0.3,0.03\n")
+    (sub / "c.toml").write_text(
+        '[fluid]\nkind = "water"\ntemperature = "20 degC"\n[bore]\ntemplate = "points"\nfile = "profile.csv"\n'
+        '[inlet]\npressure = "2 bar"\n'
+    )
+    c = load_case(sub / "c.toml")
+    assert c.resolve_path(c.bore.file) == sub / "profile.csv"
+
+
+def test_bad_toml_and_missing_file(tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text("[fluid\nkind=")
+    with pytest.raises(CaseError, match="bad.toml: not valid TOML"):
+        load_case(bad)
+    with pytest.raises(CaseError, match="cannot read the case file"):
+        load_case(tmp_path / "nope.toml")
+
+
+def test_cli_bad_input_exits_2_without_traceback(tmp_path):
+    path = tmp_path / "x.toml"
+    path.write_text('[fluid]\nkind = "water"\ntemperature = "15 degC"\n[bore]\ntemplate = "conical"\n'
+                    'inlet_diameter = "80 mm"\nexit_diameter = "25 kg"\nhalf_angle = "15 deg"\n'
+                    'inlet_length = "0.1 m"\ntip_length = "0.03 m"\n[inlet]\npressure = "7 bar"\n')
+    proc = subprocess.run([sys.executable, "-m", "axibore.cli", "check", str(path)], capture_output=True, text=True)
+    assert proc.returncode == 2
+    assert f'{path}: bore.exit_diameter: expected a length, got "25 kg"' in proc.stderr
+    assert "Traceback" not in proc.stderr
+
+
+def test_cli_check_prints_understood_case(capsys):
+    assert main(["check"]) == 0
+    out = capsys.readouterr().out
+    assert "template conical" in out and "80 mm" in out and "7 bar" in out and "ok: the case is valid" in out
+
+
+def test_demo_cases_load():
+    from pathlib import Path
+
+    files = sorted(Path(__file__).parents[1].joinpath("cases").glob("*.toml"))
+    assert len(files) >= 3
+    for f in files:
+        load_case(f)
+
+
+def test_every_command_has_help(capsys):
+    from axibore.cli import COMMANDS
+
+    for name in COMMANDS:
+        with pytest.raises(SystemExit) as exc:
+            main([name, "--help"])
+        assert exc.value.code == 0
+    assert "usage" in capsys.readouterr().out
+
+
+def test_import_is_light():
+    code = ("import sys, axibore, axibore.cli, axibore.run; "
+            "heavy = [m for m in ('gmsh', 'pyvista', 'matplotlib', 'dask') if m in sys.modules]; print(heavy)")
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
+    assert out.strip() == "[]"

@@ -1,0 +1,29 @@
+"""Fluid properties against published tables."""
+
+import pytest
+
+from axibore import fluids
+
+
+def test_iapws_if97_region1_specific_volume():
+    # IAPWS-IF97 (Wagner et al., J. Eng. Gas Turbines Power 122, 2000), Table 5:
+    # v(300 K, 3 MPa) = 0.100215168e-2 m^3/kg, v(500 K, 3 MPa) = 0.120241800e-2 m^3/kg
+    assert 1.0 / fluids.water_density(300.0, 3e6) == pytest.approx(0.100215168e-2, rel=1e-8)
+    assert 1.0 / fluids.water_density(500.0, 3e6) == pytest.approx(0.120241800e-2, rel=1e-8)
+
+
+def test_iapws_if97_saturation_pressure():
+    # IAPWS-IF97, Table 35: psat(300 K) = 3.53658941 kPa, psat(500 K) = 2.63889776 MPa
+    assert fluids.water_vapour_pressure(300.0) == pytest.approx(3.53658941e3, rel=1e-8)
+    assert fluids.water_vapour_pressure(500.0) == pytest.approx(2.63889776e6, rel=1e-8)
+
+
+def test_steam_is_refused():
+    with pytest.raises(ValueError, match="not liquid"):
+        fluids.water_density(500.0, 1e5)
+
+
+def test_seawater_default_density():
+    # 1025 kg/m^3: common practice for seawater (see fluids.SEAWATER_DENSITY)
+    f = fluids.resolve_seawater(288.15, None)
+    assert f.density == 1025.0 and f.vapour_pressure == pytest.approx(fluids.water_vapour_pressure(288.15))

@@ -1,0 +1,123 @@
+"""Bore profiles: templates build valid outlines; bad outlines name the offending segment."""
+
+import math
+
+import numpy as np
+import pytest
+
+from axibore.case import CaseError, case_from_dict
+from axibore.geometry import Profile, ProfileError, Segment, validate
+
+
+def seg_case(start, segments, centerbody=None):
+    bore = {"template": "segments", "start": start, "segment": segments}
+    if centerbody:
+        bore["centerbody"] = centerbody
+    return {"fluid": {"kind": "water", "temperature": "15 degC"}, "bore": bore, "inlet": {"pressure": "1 bar"}}
+
+
+def error_of(data):
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(data, source="p.toml")
+    return exc.value.lines()[0]
+
+
+def test_zero_length_segment():
+    msg = error_of(seg_case([0, 0.05], [{"to": [0.1, 0.05]}, {"to": [0.1, 0.05]}, {"to": [0.2, 0.03]}]))
+    assert msg.startswith("p.toml: bore.segment[2]: zero length")
+
+
+def test_below_axis():
+    msg = error_of(seg_case([0, 0.05], [{"to": [0.1, 0.05]}, {"to": [0.15, -0.01]}, {"to": [0.2, 0.03]}]))
+    assert msg.startswith("p.toml: bore.segment[2]: goes below the axis")
+
+
+def test_self_intersection_names_segment():
+    # a zig-zag that crosses back over its own first segment
+    msg = error_of(seg_case([0, 0.05], [{"to": [0.2, 0.05]}, {"to": [0.2, 0.08]}, {"to": [0.1, 0.02]}, {"to": [0.3, 0.02]}]))
+    assert "bore.segment[" in msg and "cross" in msg
+
+
+def test_doubling_back_is_refused():
+    msg = error_of(seg_case([0, 0.05], [{"to": [0.2, 0.05]}, {"to": [0.1, 0.05]}, {"to": [0.3, 0.04]}]))
+    assert "bore.segment[2]" in msg
+
+
+def test_arc_radius_smaller_than_half_chord():
+    msg = error_of(seg_case([0, 0.05], [{"to": [0.1, 0.05]}, {"to": [0.2, 0.03], "radius": "10 mm"}, {"to": [0.3, 0.03]}]))
+    assert msg.startswith("p.toml: bore.segment[2]: arc radius")
+
+
+def test_wall_must_end_downstream():
+    msg = error_of(seg_case([0.3, 0.05], [{"to": [0.0, 0.05]}]))
+    assert "must end downstream" in msg
+
+
+def test_centerbody_needs_a_gap():
+    cb = {"start": [0, 0.02], "segment": [{"to": [0.1, 0.05]}, {"to": [0.2, 0.0]}]}
+    msg = error_of(seg_case([0, 0.05], [{"to": [0.3, 0.05]}], cb))
+    assert "bore.centerbody.segment[" in msg
+
+
+def test_centerbody_ends_on_axis_or_plane():
+    cb = {"start": [0.05, 0.01], "segment": [{"to": [0.2, 0.0]}]}
+    msg = error_of(seg_case([0, 0.05], [{"to": [0.3, 0.05]}], cb))
+    assert "bore.centerbody.segment[1]: the centre body must start on the axis" in msg
+
+
+def test_re_entrant_tube_is_accepted():
+    # a Borda-like re-entrant tube: the wall runs back upstream inside a reservoir, then forward
+    data = seg_case([0, 0.3], [{"to": [0.5, 0.3]}, {"to": [0.5, 0.06]}, {"to": [0.3, 0.06]},
+                               {"to": [0.3, 0.05]}, {"to": [0.8, 0.05]}])
+    c = case_from_dict(data)
+    from axibore.geometry import build_profile
+
+    p = build_profile(c)
+    assert not p.monotone
+    # fluid = [0, 0.5] x [0, 0.3] less the tube wall [0.3, 0.5] x [0.05, 0.06], plus the pipe [0.5, 0.8] x [0, 0.05]
+    assert p.area == pytest.approx(0.15 - 0.002 + 0.015, rel=1e-12)
+
+
+def test_points_file_errors(tmp_path):
+    (tmp_path / "p.csv").write_text("x,r\n0,0.05\n0.1,abc\n")
+    data = {"fluid": {"kind": "water", "temperature": "15 degC"}, "bore": {"template": "points", "file": "p.csv"},
+            "inlet": {"pressure": "1 bar"}}
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(data, source="c.toml", base_dir=tmp_path)
+    assert "c.toml: bore.file: p.csv line 3: expected numbers" in exc.value.lines()[0]
+    with pytest.raises(CaseError, match="cannot read the profile file"):
+        case_from_dict({**data, "bore": {"template": "points", "file": "missing.csv"}}, base_dir=tmp_path)
+
+
+def test_lip_radius_too_large(nozzle_dict):
+    nozzle_dict["bore"]["lip_radius"] = "2 m"
+    assert "bore.lip_radius: the rounding needs" in error_of(nozzle_dict)
+
+
+def test_spear_needs_open_stroke():
+    data = {"fluid": {"kind": "water", "temperature": "15 degC"}, "inlet": {"pressure": "10 bar"},
+            "bore": {"template": "spear", "inlet_diameter": "150 mm", "orifice_diameter": "60 mm", "half_angle": "40 deg",
+                     "inlet_length": "150 mm", "tip_length": "20 mm", "needle_diameter": "80 mm",
+                     "needle_half_angle": "25 deg", "stroke": 0}}
+    assert "bore.stroke: the needle touches the nozzle" in error_of(data)
+
+
+def test_fillet_is_tangent_and_flow_area(nozzle_dict):
+    from axibore.geometry import build_profile
+
+    p = build_profile(case_from_dict(nozzle_dict))
+    arc = [s for s in p.wall if s.kind == "arc"][0]
+    before, after = p.wall[p.wall.index(arc) - 1], p.wall[p.wall.index(arc) + 1]
+    assert np.allclose(before.tangent_at("end"), arc.tangent_at("start"), atol=1e-2)
+    assert np.allclose(arc.tangent_at("end"), after.tangent_at("start"), atol=1e-2)
+    assert p.flow_area(0.05) == pytest.approx(math.pi * 0.04**2)
+    assert p.flow_area(p.x_outlet - 1e-3) == pytest.approx(math.pi * 0.0125**2)
+    assert not any(c.convex for c in p.corners())  # the lip is rounded
+
+
+def test_polygon_area_and_pappus_volume():
+    p = validate(Profile((Segment((0, 1), (2, 1)), Segment((2, 1), (3, 0.5)))))
+    # rectangle 2 x 1 plus trapezoid of width 1 between r = 1 and 0.5
+    assert p.area == pytest.approx(2.0 + 0.75)
+    # volume / 2 pi = integral r dA: 2 * 1/2 + integral_0^1 (r(x)^2 / 2) dx with r = 1 - x/2
+    assert p.volume_per_radian == pytest.approx(1.0 + (1 - 0.5 + 1 / 12) / 2)
