@@ -1,0 +1,77 @@
+"""`axibore run`: the run directory is complete (or absent), and summary.json keeps its contract."""
+
+import json
+
+import meshio
+import numpy as np
+import pytest
+
+from axibore.cli import main
+from axibore.io.files import read_csv
+
+KEYS = {
+    "solver": {"kind", "converged", "iterations", "residual", "mass_imbalance", "seconds"},
+    "mesh": {"cells", "level", "h_m"},
+    "flow": {"volume_flow_m3_s", "mass_flow_kg_s", "inlet_mean_velocity_m_s", "outlet_mean_velocity_m_s", "max_speed_m_s"},
+    "pressure": {"inlet_gauge_Pa", "outlet_gauge_Pa", "min_wall_gauge_Pa", "min_wall_x_m", "min_wall_absolute_Pa", "cavitation_index"},
+    "forces": {"wall_x_N", "centerbody_x_N", "momentum_x_N", "onedim_x_N", "reconciliation_rel", "per_bolt_N"},
+    "onedim": {"force_dev_rel", "wall_pressure_max_dev", "breakdown_x_ranges_m", "outlet_momentum_factor", "outlet_energy_factor"},
+}
+
+
+@pytest.fixture(scope="module")
+def demo_run(tmp_path_factory):
+    out = tmp_path_factory.mktemp("runs") / "demo"
+    assert main(["run", "--out", str(out)]) == 0
+    return out
+
+
+def test_run_directory_contents(demo_run):
+    for name in ("case.toml", "mesh.msh", "fields.vtu", "wall.csv", "summary.json"):
+        assert (demo_run / name).stat().st_size > 0
+    assert not list(demo_run.parent.glob(".*partial"))
+
+
+def test_summary_contract(demo_run):
+    s = json.loads((demo_run / "summary.json").read_text())
+    assert s["schema"] == 1 and isinstance(s["title"], str) and isinstance(s["warnings"], list)
+    for section, keys in KEYS.items():
+        assert keys <= set(s[section]), section
+    f = s["forces"]
+    assert f["per_bolt_N"] == pytest.approx(f["wall_x_N"] / 4)
+    assert abs(f["reconciliation_rel"]) < 1e-3
+
+
+def test_wall_csv_integrates_to_wall_force(demo_run):
+    s = json.loads((demo_run / "summary.json").read_text())
+    w = read_csv(demo_run / "wall.csv")
+    F = 2 * np.pi * np.sum(w["p_gauge_Pa"] * w["n_x"] * w["r_m"] * w["face_length_m"])
+    assert F == pytest.approx(s["forces"]["wall_x_N"], rel=1e-8)
+    assert w["cumulative_force_x_N"][-1] == pytest.approx(s["forces"]["wall_x_N"], rel=1e-8)
+    assert np.all(np.diff(w["s_m"]) >= 0)
+
+
+def test_fields_vtu(demo_run):
+    m = meshio.read(demo_run / "fields.vtu")
+    s = json.loads((demo_run / "summary.json").read_text())
+    assert sum(len(c.data) for c in m.cells) == s["mesh"]["cells"]
+    speed = np.concatenate(m.cell_data["speed_m_s"])
+    assert speed.max() <= s["flow"]["max_speed_m_s"] * (1 + 1e-12)
+
+
+def test_resolved_case_reloads(demo_run):
+    from axibore.case import load_case
+
+    c = load_case(demo_run / "case.toml")
+    assert c.bore.exit_diameter == pytest.approx(0.025)
+    assert c.inlet.pressure == pytest.approx(7e5)
+
+
+def test_failed_run_leaves_nothing(tmp_path):
+    case = tmp_path / "expander.toml"
+    case.write_text('[fluid]\nkind = "water"\ntemperature = "15 degC"\n[bore]\ntemplate = "reducer"\n'
+                    'inlet_diameter = "120 mm"\noutlet_diameter = "200 mm"\nhalf_angle = "8 deg"\n'
+                    'inlet_length = "180 mm"\noutlet_length = "300 mm"\n[inlet]\npressure = "2 bar"\n[mesh]\nsize = 0.3\n')
+    out = tmp_path / "run"
+    assert main(["run", str(case), "--out", str(out)]) == 2
+    assert not out.exists() and not list(tmp_path.glob(".run*"))
