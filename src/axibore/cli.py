@@ -222,12 +222,80 @@ def cmd_run(args) -> int:
 
 
 # ---------------------------------------------------------------------------------------------
+# gridstudy
+
+
+def _levels(text: str) -> list[int]:
+    try:
+        levels = [int(v) for v in text.split(",") if v.strip()]
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected comma-separated integers, got {text!r}") from None
+    if len(levels) < 2 or any(v < 0 for v in levels) or len(set(levels)) != len(levels):
+        raise argparse.ArgumentTypeError("expected two or more distinct levels >= 0, e.g. 0,1,2,3")
+    return sorted(levels)
+
+
+def add_gridstudy_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("case", nargs="?", help="case file (TOML); default: the built-in demo")
+    p.add_argument("--levels", type=_levels, default=[0, 1, 2, 3], help="mesh levels, e.g. 0,1,2,3 (default)")
+    p.add_argument("--out", help="study directory (default: runs/<case name>-gridstudy)")
+
+
+def cmd_gridstudy(args) -> int:
+    from .study.gridstudy import run_grid_study, table_lines
+
+    case = _load(args.case)
+    refused = case.unsupported()
+    if refused:
+        _err(f"{case.source}: cannot run this case yet: {'; '.join(refused)}")
+        return 2
+    stem = Path(args.case).stem if args.case else "demo"
+    out = Path(args.out) if args.out else Path("runs") / f"{stem}-gridstudy"
+    _out(f"axibore {__version__}: grid study of {case.title}, levels {','.join(map(str, args.levels))}")
+    study = run_grid_study(case, args.levels, out, _out)
+    _out("")
+    for line in table_lines(study):
+        _out(line)
+    _out("")
+    _out("GCI: Celik et al. 2008, J. Fluids Eng. 130(7) 078001; safety factor 1.25 (three or more grids), 3 (two).")
+    _out(f"wrote {out}/ (gridstudy.json, gridstudy.csv, convergence.png, level-N/ run directories)")
+    return 0 if any(lv.summary for lv in study.levels) else 1
+
+
+# ---------------------------------------------------------------------------------------------
+# verify
+
+
+def add_verify_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("--out", default="runs/verify", help="directory for verify.csv and verify.json (default runs/verify)")
+    p.add_argument("--quick", action="store_true", help="coarser grids (seconds instead of about a minute)")
+
+
+def cmd_verify(args) -> int:
+    from .study.verify import run_verification, table_lines
+
+    _out(f"axibore {__version__}: verification against exact solutions and published values")
+    rows = run_verification(Path(args.out), quick=args.quick, progress=_out)
+    _out("")
+    for line in table_lines(rows):
+        _out(line)
+    failed = [r for r in rows if not r.passed]
+    _out("")
+    _out(f"{len(rows) - len(failed)} passed, {len(failed)} failed; wrote {args.out}/verify.csv")
+    return 1 if failed else 0
+
+
+# ---------------------------------------------------------------------------------------------
 
 COMMANDS = {
     "run": ("the whole job on a case (default: the built-in demo): mesh, solve, forces, checks, run directory",
             add_run_args, cmd_run),
     "check": ("validate a case and print what was understood", add_check_args, cmd_check),
     "mesh": ("build the meridional mesh of a case and report its quality", add_mesh_args, cmd_mesh),
+    "gridstudy": ("grid-convergence study: the case at several mesh levels, observed order, extrapolation, GCI",
+                  add_gridstudy_args, cmd_gridstudy),
+    "verify": ("run the verification set (exact solutions, published values) and tabulate the errors",
+               add_verify_args, cmd_verify),
 }
 
 

@@ -129,6 +129,7 @@ def summary(res: RunResult) -> dict:
             "outlet_gauge_Pa": p_out,
             "min_wall_gauge_Pa": c.min_wall_gauge_Pa,
             "min_wall_x_m": c.min_wall_x_m,
+            "min_wall_r_m": c.min_wall_r_m,
             "min_wall_boundary": c.min_wall_boundary,
             "min_wall_absolute_Pa": c.min_wall_absolute_Pa,
             "cavitation_index": c.cavitation_index,
@@ -156,6 +157,10 @@ def summary(res: RunResult) -> dict:
             "outlet_energy_factor": o.outlet_energy_factor,
             "meaningful": o.meaningful,
         },
+        "corners": [
+            {"x_m": k.x, "r_m": k.r, "turn_deg": math.degrees(k.turn), "convex": k.convex, "boundary": k.boundary, "key": k.key}
+            for k in res.profile.corners()
+        ],
         "seconds": res.seconds,
         "warnings": c.warnings,
         "cautions": [

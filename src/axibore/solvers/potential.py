@@ -92,6 +92,22 @@ def _boundary_kinds(mesh: FVMesh, bcs: dict[str, BoundaryCondition]) -> tuple[np
     return is_value, data
 
 
+def _scatter(idx: np.ndarray, vals: np.ndarray, n: int) -> np.ndarray:
+    """Sum (k, 2, 2) blocks into (n, 2, 2) by index (bincount per entry: faster than np.add.at)."""
+    out = np.empty((n, 2, 2))
+    for i in range(2):
+        for j in range(2):
+            out[:, i, j] = np.bincount(idx, weights=vals[:, i, j], minlength=n)
+    return out
+
+
+def _inv2(M: np.ndarray) -> np.ndarray:
+    """Inverse of each symmetric 2x2 block, in closed form."""
+    a, b, c, d = M[:, 0, 0], M[:, 0, 1], M[:, 1, 0], M[:, 1, 1]
+    det = a * d - b * c
+    return np.stack([np.stack([d, -b], -1), np.stack([-c, a], -1)], 1) / det[:, None, None]
+
+
 def assemble(mesh: FVMesh, is_value: np.ndarray) -> Operators:
     C, F = mesh.n_cells, mesh.n_faces
     c = mesh.cell_centroid
@@ -111,13 +127,10 @@ def assemble(mesh: FVMesh, is_value: np.ndarray) -> Operators:
     w = 1.0 / np.einsum("ij,ij->i", d, d)
     dD = xf[fD] - c[PD]
     wD = 1.0 / np.einsum("ij,ij->i", dD, dD)
-    M = np.zeros((C, 2, 2))
     outer = w[:, None, None] * d[:, :, None] * d[:, None, :]
-    np.add.at(M, P, outer)
-    np.add.at(M, N, outer)
-    np.add.at(M, PD, wD[:, None, None] * dD[:, :, None] * dD[:, None, :])
-    np.add.at(M, PN, n[fN][:, :, None] * n[fN][:, None, :])
-    Minv = np.linalg.inv(M)
+    M = _scatter(np.r_[P, N, PD, PN], np.concatenate([
+        outer, outer, wD[:, None, None] * dD[:, :, None] * dD[:, None, :], n[fN][:, :, None] * n[fN][:, None, :]]), C)
+    Minv = _inv2(M)
     vP = np.einsum("kij,kj->ki", Minv[P], w[:, None] * d)
     vN = np.einsum("kij,kj->ki", Minv[N], w[:, None] * d)
     vD = np.einsum("kij,kj->ki", Minv[PD], wD[:, None] * dD)

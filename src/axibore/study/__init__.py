@@ -1,0 +1,1 @@
+"""Studies over many cases: grid convergence (GCI), parameter sweeps."""

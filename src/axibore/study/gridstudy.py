@@ -1,0 +1,181 @@
+"""Grid-convergence study of a case: one full run per mesh level, GCI of the headline numbers."""
+
+from __future__ import annotations
+
+import json
+import math
+import time
+import traceback
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Callable
+
+from ..io.files import atomic_file, atomic_write_text
+from .gci import GCIResult, gci
+
+# (name, summary section, summary key)
+QUANTITIES = (
+    ("wall_x_N", "forces", "wall_x_N"),
+    ("centerbody_x_N", "forces", "centerbody_x_N"),
+    ("total_x_N", "forces", "total_x_N"),
+    ("volume_flow_m3_s", "flow", "volume_flow_m3_s"),
+    ("discharge_coefficient", "flow", "discharge_coefficient"),
+    ("min_wall_gauge_Pa", "pressure", "min_wall_gauge_Pa"),
+    ("max_speed_m_s", "flow", "max_speed_m_s"),
+)
+DESIGN_ORDER = 2.0
+
+
+@dataclass
+class LevelResult:
+    level: int
+    run_dir: Path
+    summary: dict | None = None
+    error: str | None = None
+    seconds: float = 0.0
+
+
+@dataclass
+class GridStudy:
+    title: str
+    levels: list[LevelResult]
+    results: dict[str, GCIResult] = field(default_factory=dict)
+    notes: dict[str, list[str]] = field(default_factory=dict)
+
+    def as_dict(self) -> dict:
+        return {
+            "schema": 1,
+            "title": self.title,
+            "procedure": "Celik et al. 2008, J. Fluids Eng. 130(7) 078001",
+            "design_order": DESIGN_ORDER,
+            "levels": [{"level": lv.level, "run_dir": str(lv.run_dir), "ok": lv.error is None, "error": lv.error,
+                        "cells": lv.summary["mesh"]["cells"] if lv.summary else None,
+                        "h_m": lv.summary["mesh"]["h_m"] if lv.summary else None, "seconds": lv.seconds} for lv in self.levels],
+            "quantities": {k: {**v.as_dict(), "notes": self.notes.get(k, [])} for k, v in self.results.items()},
+        }
+
+
+def _corner_notes(name: str, summary: dict, result: GCIResult) -> list[str]:
+    """Why a quantity of a bore with sharp convex corners does not converge cleanly."""
+    corners = [c for c in summary.get("corners", []) if c["convex"]]
+    if not corners or (result.in_asymptotic_range is True and not result.flags):
+        return []
+    where = ", ".join(f"{c['boundary']} x = {c['x_m'] * 1e3:.4g} mm ({c['key']})" for c in corners)
+    if name in ("min_wall_gauge_Pa", "max_speed_m_s"):
+        p = summary["pressure"]
+        h = summary["mesh"]["target_h_m"]
+        near = [c for c in corners if math.hypot(c["x_m"] - p["min_wall_x_m"], c["r_m"] - p.get("min_wall_r_m", c["r_m"])) < 6 * h]
+        if near:
+            return [f"the minimum pressure sits at a sharp convex corner ({where}) where the exact potential-flow "
+                    "suction is infinite: it grows without limit under refinement and has no converged value"]
+    return [f"the bore has sharp convex corners ({where}): their singular suction slows the convergence"]
+
+
+def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[str], None] | None = None) -> GridStudy:
+    from ..run import run_case
+
+    progress = progress or (lambda msg: None)
+    out_dir = Path(out_dir)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    done: list[LevelResult] = []
+    for k, level in enumerate(levels, 1):
+        lv = LevelResult(level, out_dir / f"level-{level}")
+        progress(f"[{k}/{len(levels)}] level {level}: running")
+        t = time.perf_counter()
+        try:
+            res = run_case(case.with_level(level), lv.run_dir)
+            lv.summary = res.summary()
+        except Exception as exc:  # a failed level is reported; the study goes on with the others
+            lv.error = f"{type(exc).__name__}: {exc}"
+            (out_dir / f"level-{level}.error.txt").write_text(traceback.format_exc())
+        lv.seconds = time.perf_counter() - t
+        progress(f"[{k}/{len(levels)}] level {level}: " + (f"{lv.summary['mesh']['cells']:,} cells, {lv.seconds:.1f} s"
+                                                            if lv.error is None else f"FAILED ({lv.error})"))
+        done.append(lv)
+    study = GridStudy(case.title, done)
+    ok = [lv for lv in done if lv.summary]
+    for name, section, key in QUANTITIES:
+        vals = [lv.summary[section].get(key) for lv in ok]
+        if any(v is None for v in vals) or not ok:
+            continue
+        if name == "centerbody_x_N" and all(v == 0 for v in vals):
+            continue
+        r = gci([lv.summary["mesh"]["h_m"] for lv in ok], vals, DESIGN_ORDER)
+        study.results[name] = r
+        notes = _corner_notes(name, ok[-1].summary, r)
+        if name == "volume_flow_m3_s" and case.inlet.flow_rate is not None:
+            notes.append("given in the case (inlet.flow_rate): constant by construction")
+        study.notes[name] = notes
+    write_study(study, out_dir)
+    return study
+
+
+def write_study(study: GridStudy, out_dir: Path) -> None:
+    data = study.as_dict()
+    atomic_write_text(out_dir / "gridstudy.json", json.dumps(data, indent=2) + "\n")
+    lines = ["quantity,level,cells,h_m,value,observed_order,extrapolated,gci_fine,in_asymptotic_range,flags"]
+    ok = [lv for lv in study.levels if lv.summary]
+    for name, r in study.results.items():
+        for lv, h, v in zip(sorted(ok, key=lambda lv: lv.summary["mesh"]["h_m"]), r.h, r.phi):
+            flags = "; ".join(r.flags + study.notes.get(name, [])).replace(",", ";")
+            lines.append(f"{name},{lv.level},{lv.summary['mesh']['cells']},{h:.8g},{v:.10g},"
+                         f"{'' if r.order is None else f'{r.order:.4f}'},{'' if r.extrapolated is None else f'{r.extrapolated:.10g}'},"
+                         f"{'' if r.gci_fine is None else f'{r.gci_fine:.6g}'},{r.in_asymptotic_range},{flags}")
+    atomic_write_text(out_dir / "gridstudy.csv", "\n".join(lines) + "\n")
+    if len(ok) >= 2:
+        plot_convergence(study, out_dir / "convergence.png")
+
+
+def plot_convergence(study: GridStudy, path: Path) -> Path:
+    """Log-log plot of |phi - phi_extrapolated| / |phi_extrapolated| against h, with a slope-2 guide."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    fig, ax = plt.subplots(figsize=(6.4, 4.6), dpi=120)
+    hs_all = []
+    for name, r in study.results.items():
+        if r.extrapolated is None or not r.extrapolated or r.gci_fine in (None, 0.0):
+            continue
+        err = [abs(v - r.extrapolated) / abs(r.extrapolated) for v in r.phi]
+        pts = [(h, e) for h, e in zip(r.h, err) if e > 0]
+        if len(pts) < 2:
+            continue
+        hs, es = zip(*pts)
+        hs_all += hs
+        label = f"{name} (p = {r.order:.2f})" if r.order is not None else name
+        ax.loglog(hs, es, "o-", label=label)
+    if hs_all:
+        h0, h1 = min(hs_all), max(hs_all)
+        ref = [1e-3 * (h / h1) ** 2 for h in (h0, h1)]
+        ax.loglog([h0, h1], ref, "k--", lw=1, label="slope 2")
+    ax.set_xlabel("representative cell size h [m]")
+    ax.set_ylabel("|value - extrapolated| / |extrapolated|")
+    ax.set_title(f"Grid convergence: {study.title}", fontsize=10)
+    ax.grid(True, which="both", alpha=0.3)
+    ax.legend(fontsize=8)
+    fig.tight_layout()
+    with atomic_file(path) as tmp:
+        fig.savefig(tmp, format="png")
+    plt.close(fig)
+    return path
+
+
+def table_lines(study: GridStudy) -> list[str]:
+    ok = sorted([lv for lv in study.levels if lv.summary], key=lambda lv: -lv.summary["mesh"]["h_m"])
+    head = f"{'quantity':<22}" + "".join(f"{'L' + str(lv.level):>14}" for lv in ok) + f"{'order':>8}{'extrapolated':>15}{'GCI fine':>10}"
+    lines = [head]
+    for name, r in study.results.items():
+        vals = dict(zip(r.h, r.phi))
+        row = f"{name:<22}" + "".join(f"{vals.get(lv.summary['mesh']['h_m'], math.nan):>14.6g}" for lv in ok)
+        row += f"{'-' if r.order is None else f'{r.order:.2f}':>8}"
+        row += f"{'-' if r.extrapolated is None else f'{r.extrapolated:.6g}':>15}"
+        row += f"{'-' if r.gci_fine is None else f'{r.gci_fine:.3%}':>10}"
+        lines.append(row)
+        for flag in r.flags + study.notes.get(name, []):
+            lines.append(f"{'':<22}! {flag}")
+    for lv in study.levels:
+        if lv.error:
+            lines.append(f"level {lv.level} failed: {lv.error}")
+    return lines

@@ -1,0 +1,110 @@
+"""GCI procedure (Celik et al. 2008), grid studies of the demos, and the verification set."""
+
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from axibore.case import load_case
+from axibore.cli import main
+from axibore.study.gci import gci
+from axibore.study.gridstudy import run_grid_study
+from axibore.verification import cone_sink
+
+CASES = Path(__file__).parents[1] / "cases"
+
+
+def test_celik_table1_first_column():
+    # Celik et al., J. Fluids Eng. 130(7) 078001, 2008, Table 1, first column:
+    # N = 18000, 8000, 4500; phi = 6.063, 5.972, 5.863 -> p = 1.53, phi_ext = 6.1685,
+    # e_a21 = 1.5 %, e_ext21 = 1.7 %, GCI_fine21 = 2.2 %
+    h = [math.sqrt(1.0 / n) for n in (18000, 8000, 4500)]
+    r = gci(h, [6.063, 5.972, 5.863])
+    assert round(r.order, 2) == 1.53
+    assert round(r.extrapolated, 4) == 6.1685
+    assert round(100 * r.e_a21, 1) == 1.5
+    assert round(100 * r.e_ext21, 1) == 1.7
+    assert round(100 * r.gci_fine, 1) == 2.2
+    assert r.safety_factor == 1.25 and not r.flags
+
+
+def test_two_grids_use_safety_factor_3():
+    r = gci([0.01, 0.02], [1.0, 1.04])
+    assert r.order_assumed and r.order == 2.0 and r.safety_factor == 3.0
+    assert r.gci_fine == pytest.approx(3.0 * 0.04 / 3.0)
+
+
+def test_flags():
+    # exact second-order data: phi = 1 + h^2, ratio 2
+    r = gci([0.1, 0.2, 0.4], [1.01, 1.04, 1.16])
+    assert r.order == pytest.approx(2.0, abs=1e-9) and r.extrapolated == pytest.approx(1.0)
+    assert r.in_asymptotic_range
+    assert any("oscillatory" in f for f in gci([0.1, 0.2, 0.4], [1.0, 1.1, 0.95]).flags)
+    assert any("divergent" in f for f in gci([0.1, 0.2, 0.4], [1.0, 1.1, 1.15]).flags)
+    assert any("below 1.3" in f for f in gci([0.1, 0.12, 0.2], [1.0, 1.01, 1.05]).flags)
+
+
+def test_observed_order_on_exact_solution():
+    # cone sink flow (derived exact: Q = 1): the study's order matches the design order 2
+    res = [cone_sink(h) for h in (0.02, 0.01, 0.005)]
+    r = gci([x.h for x in res], [x.flow_rate for x in res])
+    assert abs(r.order - 2.0) < 0.2
+    assert abs(r.extrapolated - 1.0) < abs(res[-1].flow_rate - 1.0)
+    f = gci([x.h for x in res], [x.wall_force for x in res])
+    assert abs(f.extrapolated - res[0].wall_force_exact) < abs(res[-1].wall_force - res[0].wall_force_exact)
+
+
+def test_gridstudy_demo_rounded_profile(tmp_path, capsys):
+    assert main(["gridstudy", str(CASES / "water_main_reducer.toml"), "--levels", "0,1,2", "--out", str(tmp_path)]) == 0
+    data = json.loads((tmp_path / "gridstudy.json").read_text())
+    wall = data["quantities"]["wall_x_N"]
+    assert wall["observed_order"] is not None
+    assert wall["gci_fine"] < 0.01
+    assert (tmp_path / "convergence.png").stat().st_size > 5000
+    assert (tmp_path / "gridstudy.csv").read_text().startswith("quantity,level,cells")
+    for lv in (0, 1, 2):
+        assert (tmp_path / f"level-{lv}" / "summary.json").exists()
+    out = capsys.readouterr().out
+    assert "[3/3] level 2" in out and "wall_x_N" in out
+
+
+def test_gridstudy_sharp_corner_flagged(tmp_path):
+    from axibore.case import case_from_dict
+
+    case = case_from_dict({
+        "fluid": {"kind": "water", "temperature": "15 degC"}, "inlet": {"flow_rate": "0.05 m^3/s", "pressure": "5 bar"},
+        "bore": {"template": "reducer", "inlet_diameter": "200 mm", "outlet_diameter": "120 mm", "half_angle": "30 deg",
+                 "inlet_length": "300 mm", "outlet_length": "200 mm"},
+        "mesh": {"size": 0.15}})
+    study = run_grid_study(case, [0, 1, 2], tmp_path)
+    r = study.results["min_wall_gauge_Pa"]
+    assert r.flags  # order far from 2 or outside the asymptotic range: said
+    assert any("sits at a sharp convex corner" in n for n in study.notes["min_wall_gauge_Pa"])
+    assert study.results["wall_x_N"].gci_fine < 0.01  # the force still converges
+
+
+def test_gridstudy_failed_level_reported(tmp_path, monkeypatch):
+    import axibore.run as run_mod
+
+    real = run_mod.run_case
+
+    def flaky(case, out, progress=None):
+        if case.mesh.level == 1:
+            raise RuntimeError("mesher crashed")
+        return real(case, out, progress)
+
+    monkeypatch.setattr(run_mod, "run_case", flaky)
+    case = load_case(CASES / "water_main_reducer.toml")
+    study = run_grid_study(case, [0, 1, 2], tmp_path)
+    data = json.loads((tmp_path / "gridstudy.json").read_text())
+    assert [lv["ok"] for lv in data["levels"]] == [True, False, True]
+    assert "mesher crashed" in data["levels"][1]["error"]
+    assert study.results["wall_x_N"].order_assumed  # two grids left
+
+
+def test_verify_quick(tmp_path):
+    assert main(["verify", "--quick", "--out", str(tmp_path)]) == 0
+    rows = json.loads((tmp_path / "verify.json").read_text())
+    assert len(rows) >= 10 and all(r["passed"] for r in rows) and all(r["source"] for r in rows)
