@@ -90,10 +90,10 @@ def test_gridstudy_failed_level_reported(tmp_path, monkeypatch):
 
     real = run_mod.run_case
 
-    def flaky(case, out, progress=None):
+    def flaky(case, out, progress=None, report=True):
         if case.mesh.level == 1:
             raise RuntimeError("mesher crashed")
-        return real(case, out, progress)
+        return real(case, out, progress, report=report)
 
     monkeypatch.setattr(run_mod, "run_case", flaky)
     case = load_case(CASES / "water_main_reducer.toml")

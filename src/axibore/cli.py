@@ -217,7 +217,7 @@ def cmd_run(args) -> int:
         _out(f"warning: {w}")
     _out("")
     _out(CAUTION)
-    _out(f"wrote {out}/ (summary.json, wall.csv, fields.vtu, mesh.msh, case.toml)")
+    _out(f"wrote {out}/ (report.html, summary.json, wall.csv, wall_load.vtu, fields.vtu, mesh.msh, case.toml)")
     return 0
 
 
@@ -263,6 +263,53 @@ def cmd_gridstudy(args) -> int:
 
 
 # ---------------------------------------------------------------------------------------------
+# view and report
+
+
+def _run_dir(path: str) -> Path:
+    p = Path(path)
+    if not (p / "summary.json").exists():
+        raise CaseError(str(p), [("", "not a run directory (no summary.json): give a directory written by `axibore run`")])
+    return p
+
+
+def add_view_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("run_dir", help="run directory written by `axibore run`")
+    p.add_argument("--field", choices=["pressure", "speed", "cp"], default="pressure", help="field on the cut planes")
+    p.add_argument("--angle", type=float, default=270.0, help="revolution angle in degrees (default 270: a cut-away)")
+    p.add_argument("--png", help="render off-screen to this PNG instead of opening a window")
+    p.add_argument("--meridional", action="store_true", help="flat meridional view with streamlines")
+
+
+def cmd_view(args) -> int:
+    from .view.scene import render
+
+    run = _run_dir(args.run_dir)
+    if not 0 < args.angle <= 360:
+        _err(f"--angle: expected 0 < angle <= 360 degrees, got {args.angle:g}")
+        return 2
+    png, info = render(run, args.field, args.angle, args.png, meridional=args.meridional)
+    lo, hi = info.field_range
+    if png is not None:
+        _out(f"wrote {png} ({args.field} {lo:.6g} to {hi:.6g})")
+    return 0
+
+
+def add_report_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("run_dir", help="run directory written by `axibore run`")
+    p.add_argument("--no-3d", action="store_true", help="leave out the rendered 3D view")
+
+
+def cmd_report(args) -> int:
+    from .view.report import build_report
+
+    run = _run_dir(args.run_dir)
+    path = build_report(run, include_3d=not args.no_3d)
+    _out(f"wrote {path}")
+    return 0
+
+
+# ---------------------------------------------------------------------------------------------
 # verify
 
 
@@ -294,6 +341,8 @@ COMMANDS = {
     "mesh": ("build the meridional mesh of a case and report its quality", add_mesh_args, cmd_mesh),
     "gridstudy": ("grid-convergence study: the case at several mesh levels, observed order, extrapolation, GCI",
                   add_gridstudy_args, cmd_gridstudy),
+    "view": ("show a run in 3D (PyVista window, or PNG off-screen)", add_view_args, cmd_view),
+    "report": ("rebuild report.html of a run directory", add_report_args, cmd_report),
     "verify": ("run the verification set (exact solutions, published values) and tabulate the errors",
                add_verify_args, cmd_verify),
 }

@@ -175,10 +175,13 @@ def summary(res: RunResult) -> dict:
     }
 
 
-def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None) -> RunResult:
-    """Solve ``case`` and write its run directory; the directory appears complete or not at all."""
-    from .io.rundir import write_run
+def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, report: bool = True) -> RunResult:
+    """Solve ``case`` and write its run directory; the directory appears complete or not at all.
+
+    ``report``: also draw the plots and write report.html (the view stage; timed separately).
+    """
     from .io.files import atomic_dir
+    from .io.rundir import write_run
 
     progress = progress or _quiet
     with atomic_dir(out_dir) as tmp:
@@ -187,5 +190,12 @@ def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None) 
         write_run(res, tmp)
         res.seconds["write"] = time.perf_counter() - t
         write_run(res, tmp, only_summary=True)  # with the write time
+        if report:
+            from .view.report import build_report
+
+            progress("report", "plots, 3D view and report.html")
+            t = time.perf_counter()
+            build_report(tmp)
+            res.seconds["report"] = time.perf_counter() - t
     progress("write", f"run directory {out_dir}")
     return res

@@ -18,6 +18,7 @@ def atomic_write_text(path: str | Path, text: str) -> Path:
     try:
         with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
             fh.write(text)
+        os.chmod(tmp, 0o644)
         os.replace(tmp, path)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
@@ -37,6 +38,7 @@ def atomic_file(path: str | Path, suffix: str | None = None):
     os.close(fd)
     try:
         yield Path(tmp)
+        os.chmod(tmp, 0o644)
         os.replace(tmp, path)
     except BaseException:
         Path(tmp).unlink(missing_ok=True)
@@ -49,6 +51,7 @@ def atomic_dir(path: str | Path):
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}.", suffix=".partial", dir=path.parent))
+    os.chmod(tmp, 0o755)
     try:
         yield tmp
     except BaseException:
@@ -82,7 +85,7 @@ def read_csv(path: str | Path) -> dict[str, np.ndarray]:
     return {n: data[:, i] for i, n in enumerate(names)}
 
 
-def mesh_to_meshio(mesh, cell_data: dict[str, np.ndarray] | None = None):
+def mesh_to_meshio(mesh, cell_data: dict[str, np.ndarray] | None = None, point_data: dict[str, np.ndarray] | None = None):
     """meshio.Mesh of an FVMesh (z = 0 plane: x along the axis, y = r); cell data per cell."""
     import meshio
 
@@ -99,11 +102,12 @@ def mesh_to_meshio(mesh, cell_data: dict[str, np.ndarray] | None = None):
     for name, values in (cell_data or {}).items():
         values = np.asarray(values)  # (C,) scalars or (C, 3) vectors
         data[name] = [values[idx] for idx in order]
-    return meshio.Mesh(pts, blocks, cell_data=data)
+    return meshio.Mesh(pts, blocks, cell_data=data, point_data=point_data or {})
 
 
-def write_vtu(path: str | Path, mesh, cell_data: dict[str, np.ndarray] | None = None) -> Path:
-    m = mesh_to_meshio(mesh, cell_data)
+def write_vtu(path: str | Path, mesh, cell_data: dict[str, np.ndarray] | None = None,
+              point_data: dict[str, np.ndarray] | None = None) -> Path:
+    m = mesh_to_meshio(mesh, cell_data, point_data)
     with atomic_file(path) as tmp:
         m.write(str(tmp), file_format="vtu")
     return Path(path)

@@ -33,18 +33,23 @@ def write_run(res, out: Path, only_summary: bool = False) -> None:
         rho = fl.density
         v_out = fl.volume_flow / fl.outlet_area
         vel3 = np.column_stack([fl.velocity[0], fl.velocity[1], np.zeros(mesh.n_cells)])
+        from ..post.stream import stream_function
+
         write_vtu(out / "fields.vtu", mesh, {
             "velocity_m_s": vel3,
             "speed_m_s": fl.speed,
             "p_gauge_Pa": fl.pressure,
             "cp": (fl.pressure - summary["pressure"]["outlet_gauge_Pa"]) / (0.5 * rho * v_out**2),
-        })
+        }, {"stream_function_m3_s": stream_function(mesh, fl.face_flux)})
         for name, t in res.tables.items():
             cols = t.columns()
             dev = res.onedim.deviation.get(name)
             if dev is not None:
                 cols["onedim_dev"] = dev
             write_csv(out / f"{name}.csv", cols, WALL_HEADER)
+        from .wall_load import write_wall_load
+
+        write_wall_load(out)
     atomic_write_text(out / "summary.json", json.dumps(summary, indent=2) + "\n")
 
 

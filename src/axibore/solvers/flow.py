@@ -52,6 +52,7 @@ class Flow:
     outlet_area: float
     info: SolveInfo
     phi: np.ndarray  # (C,) velocity potential [m^2/s]
+    face_flux: np.ndarray  # (F,) volume flux per radian out of each face's owner [m^3/s/rad]
 
     @property
     def speed(self) -> np.ndarray:
@@ -123,4 +124,4 @@ def solve_case_flow(case, mesh: FVMesh, tol: float | None = None) -> Flow:
     for n in names:
         g = grads[n] * s
         boundary[n] = BoundaryValues(mesh.boundary[n], g, H - 0.5 * rho * (g[0] ** 2 + g[1] ** 2))
-    return Flow(vel, pressure, boundary, rho, H, Q, A_in, A_out, unit.info, field.phi)
+    return Flow(vel, pressure, boundary, rho, H, Q, A_in, A_out, unit.info, field.phi, field.face_flux)

@@ -83,7 +83,7 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
         progress(f"[{k}/{len(levels)}] level {level}: running")
         t = time.perf_counter()
         try:
-            res = run_case(case.with_level(level), lv.run_dir)
+            res = run_case(case.with_level(level), lv.run_dir, report=False)
             lv.summary = res.summary()
         except Exception as exc:  # a failed level is reported; the study goes on with the others
             lv.error = f"{type(exc).__name__}: {exc}"
@@ -107,6 +107,13 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
             notes.append("given in the case (inlet.flow_rate): constant by construction")
         study.notes[name] = notes
     write_study(study, out_dir)
+    from ..view.report import build_report
+
+    for lv in ok:  # reports last, so that each embeds the study's convergence plot
+        try:
+            build_report(lv.run_dir)
+        except Exception as exc:
+            progress(f"level {lv.level}: report not built ({type(exc).__name__}: {exc})")
     return study
 
 

@@ -1,0 +1,1 @@
+"""Views of run directories: matplotlib plots, PyVista scenes, the HTML report."""

@@ -1,0 +1,198 @@
+"""Plots of a run directory (matplotlib, PNG): wall pressure 2D vs 1D, cumulative axial force,
+the mesh with a zoom, the speed field with streamlines. Everything is read back from the run
+directory (summary.json, wall.csv, centerbody.csv, fields.vtu), never from solver objects."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import numpy as np
+
+from ..io.files import atomic_file, read_csv
+
+DRAW_CELLS_MAX = 60_000  # above this, fields are binned to pixels and the full mesh view shows the outline only
+COLOURS = {"wall": "#1f4e79", "centerbody": "#b5462b", "onedim": "#6b6b6b", "band": "#f2c94c"}
+
+
+def _plt():
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    return plt
+
+
+def _save(fig, path: Path) -> Path:
+    with atomic_file(path) as tmp:
+        fig.savefig(tmp, format="png")
+    _plt().close(fig)
+    return path
+
+
+def load_run(run_dir: str | Path) -> dict:
+    run_dir = Path(run_dir)
+    data = {"dir": run_dir, "summary": json.loads((run_dir / "summary.json").read_text())}
+    data["tables"] = {n: read_csv(run_dir / f"{n}.csv") for n in ("wall", "centerbody") if (run_dir / f"{n}.csv").exists()}
+    return data
+
+
+def read_fields(run_dir: str | Path):
+    """(nodes (N, 2), cells list of arrays, cell data dict (concatenated), point data dict)."""
+    import meshio
+
+    m = meshio.read(Path(run_dir) / "fields.vtu")
+    cells = [c.data for c in m.cells]
+    cd = {k: np.concatenate(v) for k, v in m.cell_data.items()}
+    return m.points[:, :2], cells, cd, dict(m.point_data)
+
+
+def _triangles(cells) -> np.ndarray:
+    tris = []
+    for c in cells:
+        if c.shape[1] == 3:
+            tris.append(c)
+        else:
+            tris += [c[:, [0, 1, 2]], c[:, [0, 2, 3]]]
+    return np.vstack(tris)
+
+
+def wall_pressure_plot(run_dir, path=None) -> Path:
+    """Wall gauge pressure along x: 2D result and the 1D model, breakdown ranges shaded."""
+    plt = _plt()
+    run = load_run(run_dir)
+    s = run["summary"]
+    q_out = 0.5 * s["flow"]["density_kg_m3"] * s["flow"]["outlet_mean_velocity_m_s"] ** 2
+    fig, ax = plt.subplots(figsize=(7.2, 3.8), dpi=130)
+    for a, b in s["onedim"]["breakdown_x_ranges_m"]:
+        ax.axvspan(a * 1e3, b * 1e3, color=COLOURS["band"], alpha=0.35, lw=0)
+    for name, t in run["tables"].items():
+        ax.plot(t["x_m"] * 1e3, t["p_gauge_Pa"] / 1e5, color=COLOURS[name], lw=1.6, label=f"{name}, 2D")
+        if "onedim_dev" in t:
+            p1 = t["p_gauge_Pa"] - t["onedim_dev"] * q_out
+            ax.plot(t["x_m"] * 1e3, p1 / 1e5, "--", color=COLOURS["onedim"], lw=1.1, label=f"{name}, 1D (Bernoulli)" if name == "wall" else None)
+    pv = s["pressure"]["vapour_pressure_Pa"] - s["pressure"]["ambient_pressure_Pa"]
+    if s["pressure"]["min_wall_gauge_Pa"] < pv + 0.2 * abs(s["pressure"]["inlet_gauge_Pa"] - pv):
+        ax.axhline(pv / 1e5, color="#c0392b", lw=0.9, ls=":", label="vapour pressure (gauge)")
+    ax.set_xlabel("x [mm]")
+    ax.set_ylabel("gauge pressure [bar]")
+    thr = s["onedim"]["breakdown_threshold"]
+    ax.set_title(f"Wall pressure; shaded: 2D departs from 1D by more than {thr:.0%} of the outlet dynamic pressure", fontsize=8.5)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7.5, loc="best")
+    fig.tight_layout()
+    return _save(fig, Path(path or Path(run_dir) / "plot_wall_pressure.png"))
+
+
+def axial_force_plot(run_dir, path=None) -> Path:
+    """Cumulative axial force on the part from the inlet, along x."""
+    plt = _plt()
+    run = load_run(run_dir)
+    s = run["summary"]
+    fig, ax = plt.subplots(figsize=(7.2, 3.4), dpi=130)
+    for name, t in run["tables"].items():
+        ax.plot(t["x_m"] * 1e3, t["cumulative_force_x_N"] / 1e3, color=COLOURS[name], lw=1.6, label=name)
+    ax.axhline(s["forces"]["onedim_x_N"] / 1e3, color=COLOURS["onedim"], ls="--", lw=1,
+               label=f"1D formula (wall + body) {s['forces']['onedim_x_N'] / 1e3:.4g} kN")
+    ax.set_xlabel("x [mm]")
+    ax.set_ylabel("cumulative axial force [kN]")
+    ax.set_title("Axial force of the fluid on the part from the inlet (+x downstream)", fontsize=9)
+    ax.grid(alpha=0.3)
+    ax.legend(fontsize=7.5)
+    fig.tight_layout()
+    return _save(fig, Path(path or Path(run_dir) / "plot_axial_force.png"))
+
+
+def mesh_plot(run_dir, path=None, zoom_at: tuple[float, float] | None = None) -> Path:
+    """The meridional mesh, and a zoom around the minimum wall pressure (a lip or knuckle)."""
+    from matplotlib.collections import PolyCollection
+
+    plt = _plt()
+    run = load_run(run_dir)
+    s = run["summary"]
+    nodes, cells, _, _ = read_fields(run_dir)
+    allc = np.vstack([np.column_stack([c, c[:, :1]]) if c.shape[1] == 3 else c for c in cells])
+    zx, zr = zoom_at or (s["pressure"]["min_wall_x_m"], s["pressure"].get("min_wall_r_m", nodes[:, 1].max()))
+    span = 12 * s["mesh"]["target_h_m"]
+    fig, axes = plt.subplots(1, 2, figsize=(7.4, 3.4), dpi=130, gridspec_kw={"width_ratios": [2.2, 1]})
+    centre = nodes[allc].mean(axis=1)
+    inside = (np.abs(centre[:, 0] - zx) < 1.5 * span) & (np.abs(centre[:, 1] - zr) < 1.5 * span)
+    if len(allc) <= DRAW_CELLS_MAX:
+        axes[0].add_collection(PolyCollection(nodes[allc], facecolor="none", edgecolor="#2c3e50", linewidth=0.15))
+    else:
+        for name, t in run["tables"].items():
+            axes[0].plot(t["x_m"], t["r_m"], color=COLOURS[name], lw=1)
+        axes[0].text(0.5, 0.5, "cells too dense to draw here: see the zoom", transform=axes[0].transAxes, ha="center", fontsize=7)
+    axes[1].add_collection(PolyCollection(nodes[allc[inside]], facecolor="none", edgecolor="#2c3e50", linewidth=0.5))
+    for ax in axes:
+        ax.set_aspect("equal")
+    axes[0].set_xlim(nodes[:, 0].min(), nodes[:, 0].max())
+    axes[0].set_ylim(0, nodes[:, 1].max() * 1.02)
+    axes[0].add_patch(plt.Rectangle((zx - span, zr - span), 2 * span, 2 * span, fill=False, ec="#c0392b", lw=1))
+    axes[0].set_title(f"{s['mesh']['cells']:,} cells ({s['mesh']['method']})", fontsize=8.5)
+    axes[1].set_xlim(zx - span, zx + span)
+    axes[1].set_ylim(zr - span, zr + span)
+    axes[1].set_title("zoom at the minimum wall pressure", fontsize=8.5)
+    for ax in axes:
+        ax.set_xlabel("x [m]")
+    axes[0].set_ylabel("r [m]")
+    fig.tight_layout()
+    return _save(fig, Path(path or Path(run_dir) / "plot_mesh.png"))
+
+
+def speed_plot(run_dir, path=None, lines: int = 12) -> Path:
+    """Speed field with streamlines (contours of the Stokes stream function at equal flow fractions)."""
+    import matplotlib.tri as mtri
+
+    plt = _plt()
+    run = load_run(run_dir)
+    s = run["summary"]
+    nodes, cells, cd, pd = read_fields(run_dir)
+    fig, ax = plt.subplots(figsize=(7.4, 3.2), dpi=130)
+    from matplotlib.collections import PolyCollection
+
+    psi = pd["stream_function_m3_s"]
+    levels = np.linspace(psi.min(), psi.max(), lines + 2)[1:-1]
+    allc = np.vstack([np.column_stack([c, c[:, :1]]) if c.shape[1] == 3 else c for c in cells])
+    speed = cd["speed_m_s"]
+    if len(allc) <= DRAW_CELLS_MAX:
+        pc = PolyCollection(nodes[allc], array=speed, cmap="viridis", edgecolor="face", linewidth=0.05)
+        ax.add_collection(pc)
+        tri = mtri.Triangulation(nodes[:, 0], nodes[:, 1], _triangles(cells))
+        ax.tricontour(tri, psi, levels=levels, colors="white", linewidths=0.6)
+    else:  # bin cells (and nodes) to pixels: O(cells), for meshes finer than the picture
+        ext = (nodes[:, 0].min(), nodes[:, 0].max(), 0.0, nodes[:, 1].max())
+        nx = 900
+        nr = max(20, int(nx * (ext[3] - ext[2]) / (ext[1] - ext[0])))
+        bins = [np.linspace(ext[0], ext[1], nx + 1), np.linspace(ext[2], ext[3], nr + 1)]
+        centre = nodes[allc].mean(axis=1)
+        num, _, _ = np.histogram2d(centre[:, 0], centre[:, 1], bins, weights=speed)
+        cnt, _, _ = np.histogram2d(centre[:, 0], centre[:, 1], bins)
+        img = np.where(cnt > 0, num / np.maximum(cnt, 1), np.nan).T
+        pc = ax.imshow(img, origin="lower", extent=ext, cmap="viridis", aspect="auto", interpolation="nearest")
+        pn, _, _ = np.histogram2d(nodes[:, 0], nodes[:, 1], bins, weights=psi)
+        pcnt, _, _ = np.histogram2d(nodes[:, 0], nodes[:, 1], bins)
+        grid_psi = np.where(pcnt > 0, pn / np.maximum(pcnt, 1), np.nan).T
+        xc = 0.5 * (bins[0][1:] + bins[0][:-1])
+        rc = 0.5 * (bins[1][1:] + bins[1][:-1])
+        ax.contour(xc, rc, np.ma.masked_invalid(grid_psi), levels=levels, colors="white", linewidths=0.6)
+    ax.set_xlim(nodes[:, 0].min(), nodes[:, 0].max())
+    ax.set_ylim(0, nodes[:, 1].max() * 1.02)
+    ax.set_aspect("equal")
+    cb = fig.colorbar(pc, ax=ax, shrink=0.85)
+    cb.set_label("speed [m/s]")
+    ax.set_xlabel("x [m]")
+    ax.set_ylabel("r [m]")
+    ax.set_title(f"Speed; white: streamlines, each band carries 1/{lines + 1} of the flow", fontsize=8.5)
+    fig.tight_layout()
+    return _save(fig, Path(path or Path(run_dir) / "plot_speed.png"))
+
+
+def all_plots(run_dir) -> dict[str, Path]:
+    return {
+        "wall_pressure": wall_pressure_plot(run_dir),
+        "axial_force": axial_force_plot(run_dir),
+        "mesh": mesh_plot(run_dir),
+        "speed": speed_plot(run_dir),
+    }

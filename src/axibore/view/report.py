@@ -1,0 +1,177 @@
+"""report.html of a run directory: self-contained (images embedded), printable on A4.
+
+Built only from the run directory (summary.json, case.toml, wall.csv, fields.vtu) so that
+``axibore report RUN_DIR`` rebuilds it at any time. Every headline number carries its
+summary.json key and raw value as data attributes (``data-key``, ``data-value``).
+"""
+
+from __future__ import annotations
+
+import base64
+import datetime as dt
+import html
+import json
+import math
+from pathlib import Path
+
+from .. import __version__
+from ..io.files import atomic_write_text
+
+CAUTIONS = (
+    "Hydrodynamic load only: steady, inviscid flow of the fluid on the part.",
+    "Bolt preload, gasket loads, water hammer and other transients, fatigue and code allowables are outside this result.",
+    "Defer to the applicable codes and to licensed engineering practice before sizing bolts or thrust restraints.",
+)
+
+CSS = """
+@page { size: A4; margin: 14mm 13mm; }
+* { box-sizing: border-box; }
+body { font-family: "DejaVu Sans", Arial, sans-serif; font-size: 10pt; color: #1b1b1b; max-width: 184mm; margin: 8mm auto; line-height: 1.35; }
+h1 { font-size: 16pt; margin: 0 0 2mm 0; color: #1f4e79; }
+h2 { font-size: 12pt; margin: 6mm 0 2mm 0; color: #1f4e79; border-bottom: 0.4mm solid #1f4e79; page-break-after: avoid; }
+.meta { color: #555; font-size: 8.5pt; }
+.caution { border: 0.6mm solid #b5462b; background: #fbeee9; padding: 2.5mm 3.5mm; margin: 3mm 0; page-break-inside: avoid; }
+.caution strong { color: #b5462b; }
+.warn { border-left: 1.2mm solid #d4a017; background: #fdf7e3; padding: 1.5mm 3mm; margin: 1.5mm 0; font-size: 9pt; }
+table { border-collapse: collapse; width: 100%; font-size: 9.5pt; page-break-inside: avoid; }
+td, th { border-bottom: 0.2mm solid #ccc; padding: 1mm 2mm; text-align: left; vertical-align: top; }
+td.num { text-align: right; font-variant-numeric: tabular-nums; white-space: nowrap; }
+th { background: #eef3f8; }
+figure { margin: 3mm 0; page-break-inside: avoid; }
+figure img { width: 100%; height: auto; border: 0.2mm solid #ddd; }
+figcaption { font-size: 8.5pt; color: #444; }
+pre { font-size: 8pt; white-space: pre-wrap; background: #f6f6f6; padding: 2mm; }
+"""
+
+
+def _img(path: Path) -> str:
+    return "data:image/png;base64," + base64.b64encode(path.read_bytes()).decode("ascii")
+
+
+def _num(summary: dict, key: str, text: str) -> str:
+    section, name = key.split(".")
+    v = summary[section].get(name)
+    raw = "" if v is None else repr(v)
+    return f'<td class="num" data-key="{key}" data-value="{html.escape(raw)}">{html.escape(text)}</td>'
+
+
+def _fmt(v, unit="", digits=5, scale=1.0):
+    if v is None or (isinstance(v, float) and not math.isfinite(v)):
+        return "-"
+    v = v * scale
+    if abs(v) < 1e-12:
+        v = 0.0
+    return f"{v:.{digits}g} {unit}".strip()
+
+
+def headline_rows(s: dict) -> list[tuple[str, str, str]]:
+    """(label, key, formatted) of the headline table, in order."""
+    f, fl, p, o = s["forces"], s["flow"], s["pressure"], s["onedim"]
+    rows = [
+        ("Volume flow", "flow.volume_flow_m3_s", _fmt(fl["volume_flow_m3_s"], "m³/s")),
+        ("Mass flow", "flow.mass_flow_kg_s", _fmt(fl["mass_flow_kg_s"], "kg/s")),
+        ("Mean velocity, inlet", "flow.inlet_mean_velocity_m_s", _fmt(fl["inlet_mean_velocity_m_s"], "m/s")),
+        ("Mean velocity, outlet", "flow.outlet_mean_velocity_m_s", _fmt(fl["outlet_mean_velocity_m_s"], "m/s")),
+        ("Maximum speed", "flow.max_speed_m_s", _fmt(fl["max_speed_m_s"], "m/s")),
+        ("Discharge coefficient (inviscid)", "flow.discharge_coefficient", _fmt(fl.get("discharge_coefficient"), "", 6)),
+        ("Inlet pressure (gauge, mean)", "pressure.inlet_gauge_Pa", _fmt(p["inlet_gauge_Pa"], "kPa", 6, 1e-3)),
+        ("Outlet pressure (gauge, mean)", "pressure.outlet_gauge_Pa", _fmt(p["outlet_gauge_Pa"], "kPa", 6, 1e-3)),
+        ("Wall axial force (on the part, +x downstream)", "forces.wall_x_N", _fmt(f["wall_x_N"], "N", 6)),
+        ("Centre-body axial force", "forces.centerbody_x_N", _fmt(f["centerbody_x_N"], "N", 6)),
+        ("Momentum balance (inlet - outlet planes)", "forces.momentum_x_N", _fmt(f["momentum_x_N"], "N", 6)),
+        ("Reconciliation (wall + body - momentum) / momentum", "forces.reconciliation_rel", _fmt(f["reconciliation_rel"], "", 3)),
+        ("1D formula p1 A1 - p2 A2 + mdot (V1 - V2)", "forces.onedim_x_N", _fmt(f["onedim_x_N"], "N", 6)),
+        ("Force deviation (2D - 1D) / |1D|", "onedim.force_dev_rel", _fmt(o.get("force_dev_rel"), "", 3)),
+    ]
+    if f.get("per_bolt_N") is not None:
+        rows.append((f"Per bolt ({f.get('bolts')} bolts, wall force shared equally)", "forces.per_bolt_N", _fmt(f["per_bolt_N"], "N", 5)))
+    rows += [
+        ("Minimum wall pressure (gauge)", "pressure.min_wall_gauge_Pa", _fmt(p["min_wall_gauge_Pa"], "kPa", 6, 1e-3)),
+        ("  at x", "pressure.min_wall_x_m", _fmt(p["min_wall_x_m"], "mm", 5, 1e3)),
+        ("Minimum wall pressure (absolute)", "pressure.min_wall_absolute_Pa", _fmt(p["min_wall_absolute_Pa"], "kPa", 6, 1e-3)),
+        ("Vapour pressure (absolute)", "pressure.vapour_pressure_Pa", _fmt(p["vapour_pressure_Pa"], "kPa", 5, 1e-3)),
+        ("Cavitation index (p_out,abs - p_v) / (rho V_out² / 2)", "pressure.cavitation_index", _fmt(p["cavitation_index"], "", 4)),
+        ("Inception index -Cp_min", "pressure.inception_index", _fmt(p["inception_index"], "", 4)),
+        ("Largest wall-pressure deviation from 1D (of outlet dynamic pressure)", "onedim.wall_pressure_max_dev",
+         _fmt(o["wall_pressure_max_dev"], "", 4)),
+        ("Outlet momentum correction factor", "onedim.outlet_momentum_factor", _fmt(o["outlet_momentum_factor"], "", 6)),
+        ("Outlet kinetic-energy correction factor", "onedim.outlet_energy_factor", _fmt(o["outlet_energy_factor"], "", 6)),
+    ]
+    return rows
+
+
+def build_report(run_dir: str | Path, include_3d: bool = True) -> Path:
+    """Write run_dir/report.html (plots are made if missing)."""
+    from ..case import load_case
+    from ..cli import describe
+    from . import plots
+
+    run_dir = Path(run_dir)
+    s = json.loads((run_dir / "summary.json").read_text(encoding="utf-8"))
+    figs = plots.all_plots(run_dir)
+    notes = []
+    if include_3d:
+        try:
+            import pyvista as pv
+
+            pv.OFF_SCREEN = True
+            from .scene import render
+
+            png, _ = render(run_dir, "pressure", 270.0, run_dir / "view_pressure.png", window_size=(1200, 700))
+            figs["view3d"] = png
+        except Exception as exc:  # the report is still useful without the 3D picture: say why it is missing
+            notes.append(f"3D view not rendered here ({type(exc).__name__}: {exc})")
+    study = run_dir.parent / "convergence.png"
+    if (run_dir.parent / "gridstudy.json").exists() and study.exists():
+        figs["gridstudy"] = study
+    try:
+        understood = describe(load_case(run_dir / "case.toml"))
+    except Exception as exc:
+        understood = [f"case.toml could not be read back: {exc}"]
+
+    e = html.escape
+    parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>axibore report: {e(s['title'])}</title>",
+             f"<style>{CSS}</style></head><body>"]
+    parts.append(f"<h1>{e(s['title'])}</h1>")
+    parts.append(f"<p class='meta'>axibore {e(s.get('software', {}).get('version', __version__))} · report built "
+                 f"{dt.datetime.now().strftime('%Y-%m-%d %H:%M')} · run directory {e(run_dir.name)} · solver {e(s['solver']['kind'])}</p>")
+    parts.append("<div class='caution'><strong>Caution.</strong> " + " ".join(e(c) for c in CAUTIONS) + "</div>")
+    parts.append("<h2>Headline numbers</h2><table><tr><th>quantity</th><th>value</th></tr>")
+    for label, key, text in headline_rows(s):
+        parts.append(f"<tr><td>{e(label)}</td>{_num(s, key, text)}</tr>")
+    ranges = s["onedim"]["breakdown_x_ranges_m"]
+    rtext = ", ".join(f"{a * 1e3:.4g} to {b * 1e3:.4g} mm" for a, b in ranges) or "none"
+    parts.append(f"<tr><td>x ranges where the wall pressure departs from 1D by more than "
+                 f"{s['onedim']['breakdown_threshold']:.3g} of the outlet dynamic pressure</td><td class='num'>{e(rtext)}</td></tr>")
+    parts.append("</table>")
+    if s["warnings"] or notes:
+        parts.append("<h2>Warnings</h2>")
+        parts += [f"<div class='warn'>{e(w)}</div>" for w in s["warnings"] + notes]
+    captions = {
+        "view3d": "Cut-away of the bore revolved 270° about the axis; cut planes and wall coloured by gauge pressure.",
+        "wall_pressure": "Wall gauge pressure along the axis: the 2D result and the 1D model (Bernoulli and continuity with the local flow area).",
+        "axial_force": "Cumulative axial force on the part from the inlet; its end value is the wall force.",
+        "speed": "Speed in the meridional plane with streamlines.",
+        "mesh": "The mesh, with a zoom at the minimum wall pressure.",
+        "gridstudy": "Grid convergence of the grid study this run belongs to.",
+    }
+    parts.append("<h2>Plots</h2>")
+    for key in ("view3d", "wall_pressure", "axial_force", "speed", "mesh", "gridstudy"):
+        if key in figs:
+            parts.append(f"<figure><img alt='{e(key)}' src='{_img(Path(figs[key]))}'><figcaption>{e(captions[key])}</figcaption></figure>")
+    parts.append("<h2>The case as understood (SI with units)</h2><pre>" + e("\n".join(understood)) + "</pre>")
+    sv, m = s["solver"], s["mesh"]
+    facts = [
+        ("solver", f"{sv['kind']}, {sv.get('method', '')}, {sv['iterations']} iterations"),
+        ("linear residual", f"{sv['residual']:.3g}"), ("mass imbalance", f"{sv['mass_imbalance']:.3g}"),
+        ("solve time", f"{sv['seconds']:.3g} s"), ("cells", f"{m['cells']:,} ({m.get('method', '')}, level {m['level']})"),
+        ("representative cell size h", f"{m['h_m'] * 1e3:.4g} mm"),
+        ("max non-orthogonality", f"{m.get('max_non_orthogonality_deg', float('nan')):.3g} deg"),
+        ("max aspect ratio", f"{m.get('max_aspect_ratio', float('nan')):.3g}"),
+    ]
+    parts.append("<h2>Solver and mesh</h2><table>" + "".join(f"<tr><td>{e(a)}</td><td class='num'>{e(b)}</td></tr>" for a, b in facts) + "</table>")
+    parts.append("<h2>Conventions</h2><ul>" + "".join(f"<li>{e(n)}</li>" for n in s.get("notes", [])) +
+                 "<li>gauge pressure is relative to the ambient pressure outside the part</li></ul>")
+    parts.append(f"<p class='meta'>axibore {e(__version__)}. " + " ".join(e(c) for c in CAUTIONS) + "</p>")
+    parts.append("</body></html>")
+    return atomic_write_text(run_dir / "report.html", "\n".join(parts))

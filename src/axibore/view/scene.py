@@ -1,0 +1,169 @@
+"""PyVista scenes of a run directory: the meridional field revolved into a 3D cut-away, or the
+flat meridional plane with streamlines. Rendered in a window where a display exists, or
+off-screen to a PNG."""
+
+from __future__ import annotations
+
+import os
+import sys
+from dataclasses import dataclass
+from pathlib import Path
+
+import numpy as np
+
+from ..io.files import atomic_file, read_csv
+from ..io.wall_load import revolve
+
+FIELDS = {
+    "pressure": ("p_gauge_Pa", "gauge pressure [Pa]"),
+    "speed": ("speed_m_s", "speed [m/s]"),
+    "cp": ("cp", "pressure coefficient Cp [-] (on the outlet dynamic pressure)"),
+}
+
+
+@dataclass
+class SceneInfo:
+    bounds: tuple[float, float, float, float, float, float]  # of the revolved geometry
+    field: str
+    field_range: tuple[float, float]  # of the cut-plane field
+    wall_range: tuple[float, float]  # of the wall pressure
+
+
+def has_display() -> bool:
+    if sys.platform.startswith("linux"):
+        return bool(os.environ.get("DISPLAY") or os.environ.get("WAYLAND_DISPLAY"))
+    return True
+
+
+def _meridional_grid(run_dir: Path):
+    import pyvista as pv
+
+    return pv.read(run_dir / "fields.vtu")
+
+
+def _rotated(grid, angle_rad: float):
+    """Copy of the meridional grid (x, r, 0) turned about the x axis by ``angle_rad``."""
+    g = grid.copy()
+    p = g.points.copy()
+    r = p[:, 1].copy()
+    p[:, 1] = r * np.cos(angle_rad)
+    p[:, 2] = r * np.sin(angle_rad)
+    g.points = p
+    return g
+
+
+def revolved_bounds(run_dir: Path, angle_deg: float) -> tuple[float, ...]:
+    """Exact bounds of the meridional region revolved from 0 to ``angle_deg`` about x."""
+    import meshio
+
+    pts = meshio.read(Path(run_dir) / "fields.vtu").points
+    x0, x1, rmax = pts[:, 0].min(), pts[:, 0].max(), pts[:, 1].max()
+    th = np.radians(np.linspace(0, angle_deg, 4 * int(angle_deg) + 1))
+    th = np.r_[th, [a for a in np.radians([90, 180, 270]) if a <= np.radians(angle_deg) + 1e-12]]
+    cy, sz = np.cos(th), np.sin(th)
+    return (float(x0), float(x1), float(rmax * min(cy.min(), 0.0)), float(rmax * max(cy.max(), 0.0)),
+            float(rmax * min(sz.min(), 0.0)), float(rmax * max(sz.max(), 0.0)))
+
+
+def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_deg: float = 270.0) -> SceneInfo:
+    """Add the 3D cut-away of a run to ``plotter``: cut planes coloured by ``field``, the wall by pressure."""
+    import pyvista as pv
+
+    if field not in FIELDS:
+        raise ValueError(f"field must be one of {', '.join(FIELDS)}, got {field!r}")
+    if not 0 < angle_deg <= 360:
+        raise ValueError(f"angle must be in (0, 360] degrees, got {angle_deg}")
+    run_dir = Path(run_dir)
+    grid = _meridional_grid(run_dir)
+    name, label = FIELDS[field]
+    values = grid.cell_data[name]
+    frange = (float(values.min()), float(values.max()))
+    planes = [grid] if angle_deg >= 360 else [grid, _rotated(grid, np.radians(angle_deg))]
+    for k, g in enumerate(planes):
+        plotter.add_mesh(g, scalars=name, cmap="viridis", clim=frange, show_scalar_bar=(k == 0),
+                         scalar_bar_args={"title": label, "vertical": True, "position_x": 0.86, "position_y": 0.1})
+
+    wall_ranges = []
+    for part in ("wall", "centerbody"):
+        src = run_dir / f"{part}.csv"
+        if not src.exists():
+            continue
+        cols = read_csv(src)
+        segments = max(8, int(round(angle_deg / 360 * 144)))
+        pts, quads, node_p, _ = revolve(cols, segments=segments, angle_deg=angle_deg)
+        surf = pv.PolyData(pts, np.hstack([np.full((len(quads), 1), 4), quads]).ravel())
+        surf.point_data["wall gauge pressure [Pa]"] = node_p
+        wall_ranges.append((node_p.min(), node_p.max()))
+        if field == "pressure":
+            plotter.add_mesh(surf, scalars="wall gauge pressure [Pa]", cmap="viridis", clim=frange, show_scalar_bar=False,
+                             opacity=0.55)
+    if field != "pressure" and wall_ranges:
+        wr = (min(a for a, _ in wall_ranges), max(b for _, b in wall_ranges))
+        for part in ("wall", "centerbody"):
+            src = run_dir / f"{part}.csv"
+            if src.exists():
+                cols = read_csv(src)
+                pts, quads, node_p, _ = revolve(cols, segments=max(8, int(round(angle_deg / 360 * 144))), angle_deg=angle_deg)
+                surf = pv.PolyData(pts, np.hstack([np.full((len(quads), 1), 4), quads]).ravel())
+                surf.point_data["wall gauge pressure [Pa]"] = node_p
+                plotter.add_mesh(surf, scalars="wall gauge pressure [Pa]", cmap="plasma", clim=wr, opacity=0.55,
+                                 scalar_bar_args={"title": "wall gauge pressure [Pa]", "vertical": True,
+                                                  "position_x": 0.07, "position_y": 0.1, "title_font_size": 14})
+    b = revolved_bounds(run_dir, angle_deg)
+    x0, x1 = b[0], b[1]
+    rmax = max(abs(v) for v in b[2:])
+    plotter.add_mesh(pv.Line((x0, 0, 0), (x1, 0, 0)), color="black", line_width=2)
+    plotter.add_point_labels(np.array([[x0, 0, 0], [x1, 0, 0], [0.5 * (x0 + x1), 0, 0]]), ["inlet", "outlet", "axis"],
+                             font_size=14, point_size=8, point_color="black", text_color="black", shape_opacity=0.4)
+    plotter.add_text("flow in +x", position="upper_left", font_size=10, color="black")
+    plotter.set_background("white")
+    # look into the open wedge (its bisector), from slightly upstream
+    tm = np.radians(angle_deg + 0.5 * (360.0 - angle_deg)) if angle_deg < 360 else np.radians(-45.0)
+    dist = 2.5 * rmax + 1.25 * (x1 - x0)
+    xc = 0.5 * (x0 + x1)
+    plotter.camera_position = [(xc - 0.45 * (x1 - x0), dist * np.cos(tm), dist * np.sin(tm)), (xc, 0, 0),
+                               (0, np.sin(tm), -np.cos(tm))]
+    plotter.camera.Azimuth(-28.0)
+    plotter.camera.Elevation(18.0)
+    plotter.camera.OrthogonalizeViewUp()
+    plotter.reset_camera()
+    plotter.camera.Zoom(1.15)
+    wr = (min(a for a, _ in wall_ranges), max(b_ for _, b_ in wall_ranges)) if wall_ranges else frange
+    return SceneInfo(b, field, frange, (float(wr[0]), float(wr[1])))
+
+
+def build_meridional(plotter, run_dir: str | Path, field: str = "speed", lines: int = 12) -> SceneInfo:
+    """Flat meridional view coloured by ``field`` with streamlines (stream-function contours)."""
+    run_dir = Path(run_dir)
+    grid = _meridional_grid(run_dir)
+    name, label = FIELDS[field]
+    values = grid.cell_data[name]
+    frange = (float(values.min()), float(values.max()))
+    plotter.add_mesh(grid, scalars=name, cmap="viridis", clim=frange, scalar_bar_args={"title": label})
+    psi = grid.point_data["stream_function_m3_s"]
+    levels = np.linspace(psi.min(), psi.max(), lines + 2)[1:-1]
+    iso = grid.contour(isosurfaces=levels, scalars="stream_function_m3_s")
+    if iso.n_points:
+        plotter.add_mesh(iso, color="white", line_width=1.5)
+    plotter.set_background("white")
+    plotter.view_xy()
+    b = grid.bounds
+    return SceneInfo(tuple(float(v) for v in b), field, frange, frange)
+
+
+def render(run_dir: str | Path, field: str = "pressure", angle_deg: float = 270.0, png: str | Path | None = None,
+           meridional: bool = False, window_size=(1400, 900)) -> tuple[Path | None, SceneInfo]:
+    """Open a window (display and no ``png``) or render off-screen to ``png``."""
+    import pyvista as pv
+
+    off = png is not None or not has_display() or pv.OFF_SCREEN
+    plotter = pv.Plotter(off_screen=off, window_size=list(window_size))
+    info = (build_meridional(plotter, run_dir, field) if meridional else build_cutaway(plotter, run_dir, field, angle_deg))
+    if not off:
+        plotter.show(title=f"axibore: {Path(run_dir).name}")
+        return None, info
+    png = Path(png or Path(run_dir) / f"view_{'meridional_' if meridional else ''}{field}.png")
+    with atomic_file(png) as tmp:
+        plotter.screenshot(str(tmp))
+    plotter.close()
+    return png, info

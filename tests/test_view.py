@@ -1,0 +1,151 @@
+"""Seeing the result: off-screen 3D views, plots, report.html, the structural load export."""
+
+import json
+import os
+import re
+import shutil
+import subprocess
+
+import meshio
+import numpy as np
+import pytest
+
+pv = pytest.importorskip("pyvista")
+pv.OFF_SCREEN = True
+
+from axibore.cli import main  # noqa: E402
+from axibore.io.files import read_csv  # noqa: E402
+
+
+@pytest.fixture(scope="module")
+def run_dir(tmp_path_factory):
+    out = tmp_path_factory.mktemp("view") / "spear"
+    from pathlib import Path
+
+    case = Path(__file__).parents[1] / "cases" / "spear_nozzle.toml"
+    assert main(["run", str(case), "--out", str(out), "--level", "0"]) == 0
+    return out
+
+
+def _png_pixels(path):
+    import matplotlib.image as mpimg
+
+    return mpimg.imread(str(path))
+
+
+def test_offscreen_png_not_blank(run_dir, tmp_path):
+    png = tmp_path / "v.png"
+    assert main(["view", str(run_dir), "--png", str(png), "--field", "speed"]) == 0
+    img = _png_pixels(png)
+    assert img.shape[0] > 100 and img.shape[1] > 100
+    assert img[..., :3].std() > 0.05  # not a blank (single-colour) image
+    assert (img[..., :3] < 0.9).mean() > 0.05  # something drawn on the white background
+
+
+def test_scene_bounds_and_scalar_range(run_dir):
+    from axibore.view.scene import build_cutaway, revolved_bounds
+
+    p = pv.Plotter(off_screen=True)
+    info = build_cutaway(p, run_dir, "pressure", 270.0)
+    expected = revolved_bounds(run_dir, 270.0)
+    # revolved from 0 to 270 degrees: y = r cos(theta) spans [-R, R], z = r sin(theta) spans [-R, R]
+    m = meshio.read(run_dir / "fields.vtu")
+    R, x0, x1 = m.points[:, 1].max(), m.points[:, 0].min(), m.points[:, 0].max()
+    assert np.allclose(expected, (x0, x1, -R, R, -R, R), rtol=0, atol=1e-12)
+    assert np.allclose(p.bounds, expected, rtol=0, atol=1e-9 * R)
+    field = np.concatenate(m.cell_data["p_gauge_Pa"])
+    assert info.field_range == pytest.approx((field.min(), field.max()), rel=1e-12)
+    ranges = []
+    for a in p.renderer.actors.values():
+        mapper = getattr(a, "mapper", None)
+        data = getattr(mapper, "dataset", None)
+        if data is not None and "p_gauge_Pa" in data.cell_data:
+            ranges.append(mapper.scalar_range)
+    assert ranges and all(np.allclose(r, (field.min(), field.max())) for r in ranges)
+    p.close()
+
+
+def test_meridional_view_has_streamlines(run_dir, tmp_path):
+    assert main(["view", str(run_dir), "--meridional", "--png", str(tmp_path / "m.png")]) == 0
+    grid = pv.read(run_dir / "fields.vtu")
+    psi = grid.point_data["stream_function_m3_s"]
+    s = json.loads((run_dir / "summary.json").read_text())
+    # stream function: 0 on the needle, the whole flow on the wall (discrete conservation)
+    assert psi.min() == pytest.approx(0.0, abs=1e-9 * s["flow"]["volume_flow_m3_s"])
+    assert psi.max() == pytest.approx(s["flow"]["volume_flow_m3_s"], rel=1e-9)
+
+
+def test_wall_load_vtu_integrates_to_wall_force(run_dir):
+    s = json.loads((run_dir / "summary.json").read_text())
+    surf = pv.read(run_dir / "wall_load.vtu").extract_surface(algorithm="dataset_surface")
+    surf = surf.compute_normals(cell_normals=True, point_normals=False, auto_orient_normals=False,
+                                consistent_normals=False, split_vertices=False).compute_cell_sizes()
+    p_cell = surf.point_data_to_cell_data(pass_point_data=False).cell_data["p_gauge_Pa"]
+    F = np.sum(p_cell * surf.cell_data["Normals"][:, 0] * surf.cell_data["Area"])
+    assert F == pytest.approx(s["forces"]["wall_x_N"], rel=5e-3)
+
+
+def test_wall_load_csv(run_dir):
+    s = json.loads((run_dir / "summary.json").read_text())
+    w = read_csv(run_dir / "wall_load.csv")
+    assert {"x_m", "r_m", "p_gauge_Pa", "n_x", "n_r"} <= set(w)
+    assert np.allclose(np.hypot(w["n_x"], w["n_r"]), 1.0)
+    assert np.sum(w["p_gauge_Pa"] * w["n_x"] * w["ring_area_m2"]) == pytest.approx(s["forces"]["wall_x_N"], rel=1e-9)
+    c = read_csv(run_dir / "centerbody_load.csv")
+    assert np.sum(c["p_gauge_Pa"] * c["n_x"] * c["ring_area_m2"]) == pytest.approx(s["forces"]["centerbody_x_N"], rel=1e-9)
+
+
+def test_report_numbers_equal_summary(run_dir):
+    s = json.loads((run_dir / "summary.json").read_text())
+    text = (run_dir / "report.html").read_text()
+    found = re.findall(r'data-key="([\w.]+)" data-value="([^"]*)"', text)
+    keys = {k for k, _ in found}
+    assert {"forces.wall_x_N", "forces.reconciliation_rel", "pressure.min_wall_gauge_Pa", "pressure.cavitation_index",
+            "flow.volume_flow_m3_s", "forces.onedim_x_N"} <= keys
+    for key, value in found:
+        section, name = key.split(".")
+        if value:
+            assert float(value) == s[section][name], key
+    assert "hydrodynamic load only" in text.lower() and "licensed engineering practice" in text
+    assert "<img" in text and "src='data:image/png;base64," in text and "http" not in text.split("<body>")[1]
+    for w in s["warnings"]:
+        assert w.split(":")[0][:40] in text
+
+
+def test_report_rebuilds(run_dir):
+    (run_dir / "report.html").unlink()
+    assert main(["report", str(run_dir), "--no-3d"]) == 0
+    assert (run_dir / "report.html").stat().st_size > 20_000
+
+
+def test_bad_run_dir(tmp_path, capsys):
+    assert main(["view", str(tmp_path)]) == 2
+    assert "not a run directory" in capsys.readouterr().err
+
+
+def _chromium():
+    for name in ("chromium", "chromium-browser", "google-chrome"):
+        path = shutil.which(name)
+        if path:
+            return path
+    return None
+
+
+def test_report_renders_in_headless_chromium(run_dir, tmp_path):
+    exe = _chromium()
+    if exe is None:
+        if os.environ.get("CI"):
+            pytest.fail("headless Chromium is needed in CI (.ci/run installs it)")
+        pytest.skip("chromium is not installed")
+    shot = tmp_path / "report.png"
+    proc = subprocess.run(
+        [exe, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
+         "--disable-background-networking", "--disable-component-update", "--disable-sync",
+         f"--user-data-dir={tmp_path / 'profile'}", "--enable-logging=stderr", "--v=0", "--hide-scrollbars",
+         "--window-size=900,1800", f"--screenshot={shot}", (run_dir / "report.html").as_uri()],
+        capture_output=True, text=True, timeout=120)
+    assert shot.exists(), proc.stderr[-2000:]
+    img = _png_pixels(shot)
+    assert img[..., :3].std() > 0.05
+    console = [ln for ln in proc.stderr.splitlines() if "CONSOLE" in ln or "Uncaught" in ln]
+    assert not console, console
