@@ -165,3 +165,16 @@ def test_onedim_breakdown_and_factors():
     # uniform outlet after 2 diameters: correction factors 1 (momentum and energy)
     assert o.outlet_momentum_factor == pytest.approx(1.0, abs=1e-4)
     assert o.outlet_energy_factor == pytest.approx(1.0, abs=3e-4)
+
+
+def test_lip_radius_removes_the_nozzle_suction_singularity(nozzle_dict):
+    # conical nozzle: the cone-to-tip knuckle is a convex corner; lip_radius rounds it
+    mins = {}
+    for lip in ("0 mm", "20 mm"):
+        nozzle_dict["bore"]["lip_radius"] = lip
+        res = [solve_case(case_from_dict({**nozzle_dict, "mesh": {"size": 0.1, "level": k}})) for k in (0, 2, 4)]
+        mins[lip] = np.array([r.checks.min_wall_gauge_Pa for r in res])
+        assert any("sharp convex corner" in w for w in res[0].checks.warnings) == (lip == "0 mm")
+    d_sharp, d_round = -np.diff(mins["0 mm"]), np.abs(np.diff(mins["20 mm"]))
+    assert np.all(d_sharp > 0) and d_sharp[1] > 0.5 * d_sharp[0]
+    assert d_round[1] < 0.4 * d_round[0] and d_round[1] < 0.1 * d_sharp[1]

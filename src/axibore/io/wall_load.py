@@ -80,7 +80,7 @@ def write_wall_load(run_dir: str | Path) -> list[Path]:
         m = meshio.Mesh(pts, [("quad", quads)], point_data={"p_gauge_Pa": node_p}, cell_data={"p_gauge_Pa": [cell_p]})
         path = run_dir / f"{name}_load.vtu"
         with atomic_file(path) as tmp:
-            m.write(str(tmp), file_format="vtu")
+            m.write(str(tmp), file_format="vtu", compression=None)  # 10x faster than zlib, 2.3x larger
         written.append(path)
         ring = 2 * np.pi * cols["r_m"] * cols["face_length_m"]
         csv_path = run_dir / f"{name}_load.csv"

@@ -178,10 +178,22 @@ def assemble(mesh: FVMesh, is_value: np.ndarray) -> Operators:
     return Operators(tuple(G), tuple(B), flux_phi, flux_data, K, R, K_orth, is_value)
 
 
+# Below this many cells SuperLU is faster than GMRES + AMG (measured by scripts/bench_potential.py:
+# 25k cells 0.22 s vs 0.35 s; 99k cells 1.56 s vs 0.73 s).
+DIRECT_MAX_CELLS = 40_000
+
+
 def _solve_linear(K: sp.csr_matrix, b: np.ndarray, K_orth: sp.csr_matrix, tol: float):
-    """GMRES with an AMG preconditioner on the orthogonal part; SuperLU when that stalls."""
+    """SuperLU for small systems; else GMRES with an AMG preconditioner on the orthogonal part
+    (SuperLU again if that stalls)."""
     history: list[float] = []
     bnorm = float(np.linalg.norm(b)) or 1.0
+    if K.shape[0] <= DIRECT_MAX_CELLS:
+        import scipy.sparse.linalg as spla
+
+        x = spla.spsolve(K.tocsc(), b)
+        res = float(np.linalg.norm(K @ x - b)) / bnorm
+        return x, 1, res, [res], "superlu"
     try:
         import pyamg
         import scipy.sparse.linalg as spla
