@@ -6,7 +6,7 @@ import numpy as np
 import pytest
 
 from axibore.case import CaseError, case_from_dict
-from axibore.geometry import Profile, ProfileError, Segment, validate
+from axibore.geometry import Profile, Segment, validate
 
 
 def seg_case(start, segments, centerbody=None):

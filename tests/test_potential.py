@@ -1,6 +1,5 @@
 """Potential-flow solver, forces, 1D comparison: exact solutions, the momentum theorem, demos."""
 
-import copy
 import math
 from pathlib import Path
 

@@ -149,3 +149,13 @@ def test_report_renders_in_headless_chromium(run_dir, tmp_path):
     assert img[..., :3].std() > 0.05
     console = [ln for ln in proc.stderr.splitlines() if "CONSOLE" in ln or "Uncaught" in ln]
     assert not console, console
+
+
+def test_plots_of_dense_meshes_are_sampled(run_dir, tmp_path, monkeypatch):
+    from axibore.view import plots
+
+    monkeypatch.setattr(plots, "DRAW_CELLS_MAX", 1000)  # force the pixel-sampled path
+    for fn in (plots.speed_plot, plots.mesh_plot, plots.wall_pressure_plot, plots.axial_force_plot):
+        path = fn(run_dir, tmp_path / f"{fn.__name__}.png")
+        img = _png_pixels(path)
+        assert img[..., :3].std() > 0.05, fn.__name__

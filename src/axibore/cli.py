@@ -4,12 +4,12 @@ function; ``main(argv) -> int`` wires them (exit 0 ok, 2 bad input, 1 failure)."
 from __future__ import annotations
 
 import argparse
-import math
 import sys
 from pathlib import Path
 
 from . import __version__
 from .case import Case, CaseError, demo_case_path, load_case
+from .describe import describe
 from .units import show
 
 CAUTION = (
@@ -33,66 +33,6 @@ def _load(path: str | None) -> Case:
 
 # ---------------------------------------------------------------------------------------------
 # check
-
-
-def describe(case: Case) -> list[str]:
-    """What was understood from a case, in SI with units."""
-    from .geometry import build_profile
-    from .mesh.gmsh_build import expected_cells, target_size
-
-    f = case.fluid
-    lines = [f"case      {case.title}  ({case.source})"]
-    if f.is_liquid:
-        lines.append(
-            f"fluid     {f.name}: density {show(f.density, 'density')}, vapour pressure {show(f.vapour_pressure, 'pressure')} absolute"
-            + (f", at {show(f.temperature, 'temperature')}" if f.temperature else "")
-            + f"  [{f.source}]"
-        )
-    else:
-        lines.append(f"fluid     {f.name}: ideal gas, R = {f.gas_constant:.6g} J/(kg K), gamma = {f.gamma:.4g}  [{f.source}]")
-    b = case.bore
-    params = []
-    for key, value in b.model_dump(exclude_none=True).items():
-        if key in ("template", "centerbody", "segment", "start", "file", "smooth"):
-            continue
-        dim = "angle" if "angle" in key else "length"
-        params.append(f"{key} {show(value, dim)}")
-    lines.append(f"bore      template {b.template}" + (": " + ", ".join(params) if params else ""))
-    p = build_profile(case)
-    lines.append(
-        f"profile   x {show(p.x_inlet, 'length')} to {show(p.x_outlet, 'length')}, inlet radius {show(p.r_inlet, 'length')}, "
-        f"outlet radius {show(p.r_outlet, 'length')}, smallest channel height {show(p.min_channel_height, 'length')}, "
-        f"{len(p.wall)} wall segments" + (f", centre body of {len(p.centerbody)} segments" if p.centerbody else "")
-    )
-    for note in p.notes:
-        lines.append(f"          {note}")
-    for c in p.corners():
-        kind = "convex (suction peak, singular in potential flow)" if c.convex else "concave"
-        lines.append(f"corner    {c.boundary} at x = {show(c.x, 'length')}, r = {show(c.r, 'length')}: turns {math.degrees(abs(c.turn)):.3g} deg, {kind} [{c.key}]")
-    i, o = case.inlet, case.outlet
-    if f.is_liquid:
-        parts = []
-        if i.pressure is not None:
-            parts.append(f"static pressure {show(i.pressure, 'pressure')} gauge")
-        if i.flow_rate is not None:
-            kind, v = i.flow_rate
-            parts.append(f"flow rate {show(v, 'volume_flow' if kind == 'volume' else 'mass_flow')}")
-        lines.append("inlet     " + ", ".join(parts))
-    else:
-        lines.append(f"inlet     total pressure {show(i.total_pressure, 'pressure')} gauge, total temperature {show(i.total_temperature, 'temperature')}")
-    p_out = "computed" if (o.pressure is None and i.pressure is not None and i.flow_rate is not None) else show(o.pressure or 0.0, "pressure") + " gauge"
-    lines.append(f"outlet    {o.kind}, static pressure {p_out}, ambient {show(o.ambient_pressure, 'pressure')} absolute")
-    h = target_size(p, case.mesh.size, case.mesh.level)
-    lines.append(
-        f"mesh      {case.mesh.cells}, size {case.mesh.size:g} x smallest channel height, level {case.mesh.level}: "
-        f"target cell {show(h, 'length')}, about {expected_cells(p, case.mesh.size, case.mesh.level):,.0f} cells"
-    )
-    lines.append(f"solver    {case.solver_kind} (tolerance {case.solver.tolerance:g}); 1D breakdown threshold {case.onedim.threshold:.3g} of the outlet dynamic pressure")
-    if case.flange.bolts:
-        lines.append(f"flange    {case.flange.bolts} bolts")
-    for msg in case.unsupported():
-        lines.append(f"note      {msg}; `run` will refuse this case")
-    return lines
 
 
 def add_check_args(p: argparse.ArgumentParser) -> None:

@@ -195,7 +195,7 @@ def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, 
 
             progress("report", "plots, 3D view and report.html")
             t = time.perf_counter()
-            build_report(tmp)
+            build_report(tmp, shown_dir=out_dir)
             res.seconds["report"] = time.perf_counter() - t
     progress("write", f"run directory {out_dir}")
     return res

@@ -169,7 +169,7 @@ class FVMesh:
         """Representative cell size sqrt(total area / cells) (Celik et al. 2008, eq. 1 in 2D)."""
         return float(np.sqrt(self.cell_area.sum() / self.n_cells))
 
-    def cell_neighbours(self) -> "scipy.sparse.csr_matrix":  # noqa: F821
+    def cell_neighbours(self):
         """Symmetric cell adjacency through interior faces."""
         import scipy.sparse as sp
 

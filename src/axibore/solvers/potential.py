@@ -117,7 +117,6 @@ def assemble(mesh: FVMesh, is_value: np.ndarray) -> Operators:
     fi = mesh.interior
     fb = mesh.boundary_faces
     P, N = mesh.owner[fi], mesh.neighbour[fi]
-    Pb = mesh.owner[fb]
     bval = is_value[fb]
     fD, fN = fb[bval], fb[~bval]
     PD, PN = mesh.owner[fD], mesh.owner[fN]

@@ -100,13 +100,18 @@ def headline_rows(s: dict) -> list[tuple[str, str, str]]:
     return rows
 
 
-def build_report(run_dir: str | Path, include_3d: bool = True) -> Path:
-    """Write run_dir/report.html (plots are made if missing)."""
+def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | Path | None = None) -> Path:
+    """Write run_dir/report.html (plots are made if missing).
+
+    ``shown_dir``: the directory name the report should show (a run is built in a temporary
+    directory and renamed when complete).
+    """
     from ..case import load_case
-    from ..cli import describe
+    from ..describe import describe
     from . import plots
 
     run_dir = Path(run_dir)
+    shown = Path(shown_dir) if shown_dir is not None else run_dir
     s = json.loads((run_dir / "summary.json").read_text(encoding="utf-8"))
     figs = plots.all_plots(run_dir)
     notes = []
@@ -125,7 +130,7 @@ def build_report(run_dir: str | Path, include_3d: bool = True) -> Path:
     if (run_dir.parent / "gridstudy.json").exists() and study.exists():
         figs["gridstudy"] = study
     try:
-        understood = describe(load_case(run_dir / "case.toml"))
+        understood = [ln.replace(str(run_dir), str(shown)) for ln in describe(load_case(run_dir / "case.toml"))]
     except Exception as exc:
         understood = [f"case.toml could not be read back: {exc}"]
 
@@ -134,7 +139,7 @@ def build_report(run_dir: str | Path, include_3d: bool = True) -> Path:
              f"<style>{CSS}</style></head><body>"]
     parts.append(f"<h1>{e(s['title'])}</h1>")
     parts.append(f"<p class='meta'>axibore {e(s.get('software', {}).get('version', __version__))} · report built "
-                 f"{dt.datetime.now().strftime('%Y-%m-%d %H:%M')} · run directory {e(run_dir.name)} · solver {e(s['solver']['kind'])}</p>")
+                 f"{dt.datetime.now().strftime('%Y-%m-%d %H:%M')} · run directory {e(str(shown))} · solver {e(s['solver']['kind'])}</p>")
     parts.append("<div class='caution'><strong>Caution.</strong> " + " ".join(e(c) for c in CAUTIONS) + "</div>")
     parts.append("<h2>Headline numbers</h2><table><tr><th>quantity</th><th>value</th></tr>")
     for label, key, text in headline_rows(s):
@@ -172,6 +177,6 @@ def build_report(run_dir: str | Path, include_3d: bool = True) -> Path:
     parts.append("<h2>Solver and mesh</h2><table>" + "".join(f"<tr><td>{e(a)}</td><td class='num'>{e(b)}</td></tr>" for a, b in facts) + "</table>")
     parts.append("<h2>Conventions</h2><ul>" + "".join(f"<li>{e(n)}</li>" for n in s.get("notes", [])) +
                  "<li>gauge pressure is relative to the ambient pressure outside the part</li></ul>")
-    parts.append(f"<p class='meta'>axibore {e(__version__)}. " + " ".join(e(c) for c in CAUTIONS) + "</p>")
+    parts.append(f"<p class='meta'>axibore {e(__version__)}</p>")
     parts.append("</body></html>")
     return atomic_write_text(run_dir / "report.html", "\n".join(parts))
