@@ -65,6 +65,24 @@ def revolved_bounds(run_dir: Path, angle_deg: float) -> tuple[float, ...]:
             float(rmax * min(sz.min(), 0.0)), float(rmax * max(sz.max(), 0.0)))
 
 
+WALL_P = "wall gauge pressure [Pa]"
+
+
+def _wall_surfaces(run_dir: Path, angle_deg: float) -> list:
+    """Wall (and centre body) revolved from 0 to ``angle_deg``, gauge pressure as point data."""
+    import pyvista as pv
+
+    out = []
+    for part in ("wall", "centerbody"):
+        src = run_dir / f"{part}.csv"
+        if src.exists():
+            pts, quads, node_p, _ = revolve(read_csv(src), segments=max(8, int(round(angle_deg / 360 * 144))), angle_deg=angle_deg)
+            surf = pv.PolyData(pts, np.hstack([np.full((len(quads), 1), 4), quads]).ravel())
+            surf.point_data[WALL_P] = node_p
+            out.append(surf)
+    return out
+
+
 def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_deg: float = 270.0) -> SceneInfo:
     """Add the 3D cut-away of a run to ``plotter``: cut planes coloured by ``field``, the wall by pressure."""
     import pyvista as pv
@@ -83,32 +101,16 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
         plotter.add_mesh(g, scalars=name, cmap="viridis", clim=frange, show_scalar_bar=(k == 0),
                          scalar_bar_args={"title": label, "vertical": True, "position_x": 0.86, "position_y": 0.1})
 
-    wall_ranges = []
-    for part in ("wall", "centerbody"):
-        src = run_dir / f"{part}.csv"
-        if not src.exists():
-            continue
-        cols = read_csv(src)
-        segments = max(8, int(round(angle_deg / 360 * 144)))
-        pts, quads, node_p, _ = revolve(cols, segments=segments, angle_deg=angle_deg)
-        surf = pv.PolyData(pts, np.hstack([np.full((len(quads), 1), 4), quads]).ravel())
-        surf.point_data["wall gauge pressure [Pa]"] = node_p
-        wall_ranges.append((node_p.min(), node_p.max()))
-        if field == "pressure":
-            plotter.add_mesh(surf, scalars="wall gauge pressure [Pa]", cmap="viridis", clim=frange, show_scalar_bar=False,
-                             opacity=0.55)
-    if field != "pressure" and wall_ranges:
-        wr = (min(a for a, _ in wall_ranges), max(b for _, b in wall_ranges))
-        for part in ("wall", "centerbody"):
-            src = run_dir / f"{part}.csv"
-            if src.exists():
-                cols = read_csv(src)
-                pts, quads, node_p, _ = revolve(cols, segments=max(8, int(round(angle_deg / 360 * 144))), angle_deg=angle_deg)
-                surf = pv.PolyData(pts, np.hstack([np.full((len(quads), 1), 4), quads]).ravel())
-                surf.point_data["wall gauge pressure [Pa]"] = node_p
-                plotter.add_mesh(surf, scalars="wall gauge pressure [Pa]", cmap="plasma", clim=wr, opacity=0.55,
-                                 scalar_bar_args={"title": "wall gauge pressure [Pa]", "vertical": True,
-                                                  "position_x": 0.07, "position_y": 0.1, "title_font_size": 14})
+    surfaces = _wall_surfaces(run_dir, angle_deg)
+    wall_ranges = [(float(w.point_data[WALL_P].min()), float(w.point_data[WALL_P].max())) for w in surfaces]
+    wr = (min(a for a, _ in wall_ranges), max(b for _, b in wall_ranges)) if wall_ranges else frange
+    for k, surf in enumerate(surfaces):
+        if field == "pressure":  # one colour scale for planes and wall
+            plotter.add_mesh(surf, scalars=WALL_P, cmap="viridis", clim=frange, show_scalar_bar=False, opacity=0.55)
+        else:
+            plotter.add_mesh(surf, scalars=WALL_P, cmap="plasma", clim=wr, opacity=0.55, show_scalar_bar=(k == 0),
+                             scalar_bar_args={"title": WALL_P, "vertical": True, "position_x": 0.07, "position_y": 0.1,
+                                              "title_font_size": 14})
     b = revolved_bounds(run_dir, angle_deg)
     x0, x1 = b[0], b[1]
     rmax = max(abs(v) for v in b[2:])
@@ -128,7 +130,6 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
     plotter.camera.OrthogonalizeViewUp()
     plotter.reset_camera()
     plotter.camera.Zoom(1.15)
-    wr = (min(a for a, _ in wall_ranges), max(b_ for _, b_ in wall_ranges)) if wall_ranges else frange
     return SceneInfo(b, field, frange, (float(wr[0]), float(wr[1])))
 
 
