@@ -177,3 +177,16 @@ def test_lip_radius_removes_the_nozzle_suction_singularity(nozzle_dict):
     d_sharp, d_round = -np.diff(mins["0 mm"]), np.abs(np.diff(mins["20 mm"]))
     assert np.all(d_sharp > 0) and d_sharp[1] > 0.5 * d_sharp[0]
     assert d_round[1] < 0.4 * d_round[0] and d_round[1] < 0.1 * d_sharp[1]
+
+
+def test_re_entrant_tube_meshes_and_solves():
+    # a re-entrant (Borda-like) tube: the wall runs back upstream, so the mesh is unstructured;
+    # the momentum balance still reconciles with the wall force
+    bore = {"template": "segments", "start": [0, "300 mm"],
+            "segment": [{"to": ["500 mm", "300 mm"]}, {"to": ["500 mm", "60 mm"]}, {"to": ["300 mm", "60 mm"]},
+                        {"to": ["300 mm", "50 mm"], "radius": "5 mm"}, {"to": ["800 mm", "50 mm"]}]}
+    r = run(bore, inlet={"flow_rate": "0.01 m^3/s", "pressure": "2 bar"}, mesh={"size": 0.1})
+    assert r.mesh.method.startswith("unstructured")
+    assert not r.onedim.meaningful
+    assert any("backwards in x" in w for w in r.checks.warnings)
+    assert abs(r.forces.reconciliation_rel) < 2e-3

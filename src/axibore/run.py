@@ -171,6 +171,8 @@ def summary(res: RunResult) -> dict:
         "notes": [
             "forces are exerted by the fluid on the part, +x downstream, from gauge pressure",
             "per_bolt_N divides the wall force only (a centre body is taken as supported elsewhere)",
+            "cavitation_index = (p_outlet,abs - p_vapour) / (rho V_outlet^2 / 2); inception_index = -Cp_min "
+            "(common practice; cf. ISA-RP75.23-1995 for valves)",
         ],
     }
 
