@@ -1,6 +1,7 @@
 """`axibore run`: the run directory is complete (or absent), and summary.json keeps its contract."""
 
 import json
+from pathlib import Path
 
 import meshio
 import numpy as np
@@ -75,3 +76,17 @@ def test_failed_run_leaves_nothing(tmp_path):
     out = tmp_path / "run"
     assert main(["run", str(case), "--out", str(out)]) == 2
     assert not out.exists() and not list(tmp_path.glob(".run*"))
+
+
+def test_report_failure_keeps_the_numbers(tmp_path, monkeypatch):
+    import axibore.view.report as report
+
+    def broken(*args, **kwargs):
+        raise RuntimeError("no fonts")
+
+    monkeypatch.setattr(report, "build_report", broken)
+    out = tmp_path / "run"
+    assert main(["run", str(Path(__file__).parents[1] / "cases" / "water_main_reducer.toml"),
+                 "--out", str(out)]) == 0
+    assert (out / "summary.json").exists() and not (out / "report.html").exists()
+    assert "no fonts" in (out / "report_error.txt").read_text()

@@ -197,7 +197,12 @@ def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, 
 
             progress("report", "plots, 3D view and report.html")
             t = time.perf_counter()
-            build_report(tmp, shown_dir=out_dir)
+            try:
+                build_report(tmp, shown_dir=out_dir)
+            except Exception as exc:  # the numbers are complete without the report: keep them, say why
+                (tmp / "report_error.txt").write_text(f"report.html was not built: {type(exc).__name__}: {exc}\n"
+                                                      "rebuild it with `axibore report RUN_DIR`\n")
+                progress("report", f"NOT built ({type(exc).__name__}: {exc}); see report_error.txt")
             res.seconds["report"] = time.perf_counter() - t
     progress("write", f"run directory {out_dir}")
     return res
