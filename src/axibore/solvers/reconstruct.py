@@ -2,7 +2,7 @@
 
 For each boundary face, phi is fitted in the face's local frame (t along the face, n out of the
 fluid, origin at the face centre) by ``a + b t + c n + d t^2 + e t n + f n^2`` over the cells
-within two face-neighbour rings of the owner, weighted by 1/distance^2, with the boundary
+within two (quads) or three (triangles) face-neighbour rings of the owner, weighted by 1/distance^2, with the boundary
 condition imposed exactly:
 
 * flux faces (given dphi/dn = g): c = g;
@@ -19,14 +19,26 @@ import numpy as np
 from ..mesh import FVMesh
 
 
+# Face-neighbour rings around the owner in each fit. Three rings average the cell-scale noise of
+# solutions on unstructured triangles (sphere, rms Cp error at h = R/100: 4.9e-4 with 3 rings,
+# 5.7e-4 with 2; observed order 1.78 vs 1.43); on smooth quad meshes two rings are more accurate
+# (cone sink at h = 0.005: 1.2e-4 with 2 rings, 2.1e-4 with 3).
+RINGS_TRIANGLES = 3
+RINGS_QUADS = 2
+
+
 def _stencils(mesh: FVMesh, faces: np.ndarray) -> np.ndarray:
-    """(m, K) padded (-1) cell ids within two rings of each face's owner."""
+    """(m, K) padded (-1) cell ids within the fit's rings of face neighbours of each face's owner."""
     import scipy.sparse as sp
 
+    rings = RINGS_TRIANGLES if np.mean(mesh.nvert == 3) > 0.5 else RINGS_QUADS
     A = mesh.cell_neighbours()
     A = (A + sp.identity(mesh.n_cells, format="csr")).tocsr()
     own = mesh.owner[faces]
-    R = (A[own] @ A).tocsr()
+    R = A[own]
+    for _ in range(rings - 1):
+        R = R @ A
+    R = R.tocsr()
     R.sort_indices()
     counts = np.diff(R.indptr)
     K = int(counts.max())
