@@ -471,8 +471,6 @@ def resolved_dict(case: Case) -> dict:
     if data["bore"]["template"] == "points":
         data["bore"]["file"] = str(case.resolve_path(data["bore"]["file"]).resolve())
     data.setdefault("solver", {})["kind"] = case.solver_kind
-    if case.fluid.is_liquid:
-        data["fluid"]["density"] = case.fluid.density if case.fluid.kind != "water" else data["fluid"].get("density")
-        if data["fluid"]["density"] is None:
-            del data["fluid"]["density"]
+    if case.fluid.kind in ("seawater", "liquid"):  # water takes its density from IAPWS-IF97
+        data["fluid"]["density"] = case.fluid.density
     return data

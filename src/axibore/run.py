@@ -39,6 +39,7 @@ class RunResult:
     onedim: OneDimComparison
     checks: Checks
     seconds: dict[str, float] = field(default_factory=dict)
+    mesh_quality: dict = field(default_factory=dict)
 
     def summary(self) -> dict:
         return summary(self)
@@ -74,8 +75,9 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
     frc = forces(mesh, flow, tables, case.flange.bolts)
     od = compare(profile, mesh, flow, tables, frc.total_x_N, frc.onedim_x_N, case.onedim.threshold)
     chk = checks(case, profile, mesh, flow, tables, frc, od)
+    quality = mesh.quality()
     sec["post"] = time.perf_counter() - t
-    return RunResult(case, profile, mres, flow, tables, frc, od, chk, sec)
+    return RunResult(case, profile, mres, flow, tables, frc, od, chk, sec, quality)
 
 
 def _f(v):
@@ -91,7 +93,7 @@ def summary(res: RunResult) -> dict:
     info = fl.info
     p_in = fl.plane_mean("inlet", fl.boundary["inlet"].pressure, mesh)
     p_out = fl.plane_mean("outlet", fl.boundary["outlet"].pressure, mesh)
-    q = mesh.quality()
+    q = res.mesh_quality or mesh.quality()
     return {
         "schema": SCHEMA,
         "title": res.case.title,

@@ -54,8 +54,7 @@ class FVMesh:
         nxt = np.where(nvert[:, None] == 3, cells[:, [1, 2, 0, 0]], cells[:, [1, 2, 3, 0]])
         a, b = cells.ravel(), nxt.ravel()
         cell_of = np.repeat(np.arange(len(cells)), 4)
-        keep = a >= 0
-        keep &= ~((np.arange(a.size) % 4 == 3) & np.repeat(tri, 4))
+        keep = a >= 0  # the padding column of triangles
         a, b, cell_of = a[keep], b[keep], cell_of[keep]
         key = np.minimum(a, b) * (len(nodes) + 1) + np.maximum(a, b)
         order = np.argsort(key, kind="stable")

@@ -242,4 +242,4 @@ def expected_cells(profile: Profile, size: float, level: int) -> float:
     return 2.3 * profile.area / (h * h)
 
 
-__all__ = ["MeshResult", "mesh_profile", "target_size", "gmsh_session", "read_model", "expected_cells"]
+__all__ = ["MeshResult", "mesh_loop", "mesh_profile", "target_size", "gmsh_session", "read_model", "expected_cells"]
