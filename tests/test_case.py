@@ -181,3 +181,11 @@ def test_import_is_light():
             "heavy = [m for m in ('gmsh', 'pyvista', 'matplotlib', 'dask') if m in sys.modules]; print(heavy)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True).stdout
     assert out.strip() == "[]"
+
+
+def test_bad_levels_exit_2(capsys):
+    for argv in (["run", "--level", "-1"], ["mesh", "--out", "x", "--level", "99"], ["gridstudy", "--levels", "1"]):
+        with pytest.raises(SystemExit) as exc:
+            main(argv)
+        assert exc.value.code == 2
+    assert "level" in capsys.readouterr().err

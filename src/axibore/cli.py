@@ -10,13 +10,20 @@ from pathlib import Path
 from . import __version__
 from .case import Case, CaseError, demo_case_path, load_case
 from .describe import describe
+from .safety import caution_text
 from .units import show
 
-CAUTION = (
-    "Caution: hydrodynamic load only (steady, inviscid). Bolt preload, gasket loads, water hammer "
-    "and other transients, fatigue and code allowables are outside it. Defer to the applicable "
-    "codes and to licensed engineering practice before sizing bolts or thrust restraints."
-)
+CAUTION = caution_text()
+
+
+def _level(text: str) -> int:
+    try:
+        v = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"expected an integer level, got {text!r}") from None
+    if not 0 <= v <= 12:
+        raise argparse.ArgumentTypeError(f"expected a level from 0 to 12, got {v}")
+    return v
 
 
 def _out(text: str = "") -> None:
@@ -54,7 +61,7 @@ def cmd_check(args) -> int:
 def add_mesh_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("case", nargs="?", help="case file (TOML); default: the built-in demo")
     p.add_argument("--out", required=True, help="directory for mesh.msh and mesh.vtu")
-    p.add_argument("--level", type=int, default=None, help="refinement level (overrides mesh.level)")
+    p.add_argument("--level", type=_level, default=None, help="refinement level 0-12 (overrides mesh.level)")
 
 
 def cmd_mesh(args) -> int:
@@ -64,9 +71,6 @@ def cmd_mesh(args) -> int:
 
     case = _load(args.case)
     if args.level is not None:
-        if args.level < 0:
-            _err("--level: expected an integer >= 0")
-            return 2
         case = case.with_level(args.level)
     out = Path(args.out)
     out.mkdir(parents=True, exist_ok=True)
@@ -124,7 +128,7 @@ def headline(summary: dict) -> list[str]:
 def add_run_args(p: argparse.ArgumentParser) -> None:
     p.add_argument("case", nargs="?", help="case file (TOML); default: the built-in demo")
     p.add_argument("--out", help="run directory to write (default: runs/<case name>)")
-    p.add_argument("--level", type=int, default=None, help="refinement level (overrides mesh.level)")
+    p.add_argument("--level", type=_level, default=None, help="refinement level 0-12 (overrides mesh.level)")
 
 
 def _progress(stage: str, detail: str) -> None:
@@ -170,8 +174,8 @@ def _levels(text: str) -> list[int]:
         levels = [int(v) for v in text.split(",") if v.strip()]
     except ValueError:
         raise argparse.ArgumentTypeError(f"expected comma-separated integers, got {text!r}") from None
-    if len(levels) < 2 or any(v < 0 for v in levels) or len(set(levels)) != len(levels):
-        raise argparse.ArgumentTypeError("expected two or more distinct levels >= 0, e.g. 0,1,2,3")
+    if len(levels) < 2 or any(not 0 <= v <= 12 for v in levels) or len(set(levels)) != len(levels):
+        raise argparse.ArgumentTypeError("expected two or more distinct levels from 0 to 12, e.g. 0,1,2,3")
     return sorted(levels)
 
 

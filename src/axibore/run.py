@@ -16,6 +16,7 @@ from .case import Case
 from .geometry import Profile, build_profile
 from .mesh.gmsh_build import MeshResult, mesh_profile
 from .post.checks import Checks, checks
+from .safety import CAUTIONS
 from .post.loads import Forces, WallTable, forces, wall_table
 from .solvers.flow import Flow, solve_case_flow
 from .solvers.onedim import OneDimComparison, compare
@@ -165,11 +166,7 @@ def summary(res: RunResult) -> dict:
         ],
         "seconds": res.seconds,
         "warnings": c.warnings,
-        "cautions": [
-            "hydrodynamic load only (steady, inviscid)",
-            "bolt preload, gasket loads, water hammer and other transients, fatigue and code allowables are outside it",
-            "defer to the applicable codes and to licensed engineering practice",
-        ],
+        "cautions": list(CAUTIONS),
         "notes": [
             "forces are exerted by the fluid on the part, +x downstream, from gauge pressure",
             "per_bolt_N divides the wall force only (a centre body is taken as supported elsewhere)",

@@ -16,12 +16,8 @@ from pathlib import Path
 
 from .. import __version__
 from ..io.files import atomic_write_text
+from ..safety import CAUTIONS
 
-CAUTIONS = (
-    "Hydrodynamic load only: steady, inviscid flow of the fluid on the part.",
-    "Bolt preload, gasket loads, water hammer and other transients, fatigue and code allowables are outside this result.",
-    "Defer to the applicable codes and to licensed engineering practice before sizing bolts or thrust restraints.",
-)
 
 CSS = """
 @page { size: A4; margin: 14mm 13mm; }
