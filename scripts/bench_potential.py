@@ -79,7 +79,7 @@ def main() -> int:
     ]
     for n, m, a, lsolve, p, w, tot, rep in rows:
         lines.append(f"{n:>9,} {m:>8.3f} {a:>8.3f} {lsolve:>8.3f} {p:>8.3f} {w:>8.3f} {tot:>8.3f} {tot / lsolve:>11.2f} {rep:>9.3f}")
-    lines.append("(solve s: AMG set-up + GMRES; total s: whole run from the case to a complete run directory without the report)")
+    lines.append("(solve s: the linear solve, SuperLU up to 40k cells, else AMG set-up + GMRES; total s: whole run from the case to a complete run directory, without the report)")
     n = np.array([r[0] for r in rows], float)
     tot = np.array([r[6] for r in rows])
     exponent = np.polyfit(np.log(n), np.log(tot), 1)[0]
