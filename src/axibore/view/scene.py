@@ -155,6 +155,9 @@ def build_meridional(plotter, run_dir: str | Path, field: str = "speed", lines: 
 def render(run_dir: str | Path, field: str = "pressure", angle_deg: float = 270.0, png: str | Path | None = None,
            meridional: bool = False, window_size=(1400, 900)) -> tuple[Path | None, SceneInfo]:
     """Open a window (display and no ``png``) or render off-screen to ``png``."""
+    if not has_display():
+        # headless: render through EGL directly instead of trying (and warning about) an X server
+        os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
     import pyvista as pv
 
     off = png is not None or not has_display() or pv.OFF_SCREEN
