@@ -15,7 +15,7 @@ from axibore.mesh import FVMesh, MeshError
 from axibore.mesh.gmsh_build import mesh_profile
 
 FLUID = {"kind": "water", "temperature": "15 degC"}
-SETTINGS = settings(max_examples=8, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+SETTINGS = settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 
 
 def _check_groups(mesh: FVMesh, expected: set[str]):
@@ -45,6 +45,24 @@ def spear(draw):
 
 
 @st.composite
+def reducer(draw):
+    d_in = draw(st.floats(0.05, 1.0))
+    d_out = d_in * draw(st.sampled_from([draw(st.floats(0.3, 0.9)), draw(st.floats(1.1, 2.0))]))
+    return {"template": "reducer", "inlet_diameter": d_in, "outlet_diameter": d_out,
+            "half_angle": math.radians(draw(st.floats(5, 45))), "inlet_length": d_in * draw(st.floats(0.3, 2)),
+            "outlet_length": d_out * draw(st.floats(0.3, 2)), "knuckle_radius": min(d_in, d_out) * draw(st.sampled_from([0.0, 0.5]))}
+
+
+@st.composite
+def contoured(draw):
+    d_in = draw(st.floats(0.02, 0.5))
+    d_ex = d_in * draw(st.floats(0.2, 0.8))
+    return {"template": "contoured", "inlet_diameter": d_in, "exit_diameter": d_ex,
+            "contraction_length": d_in * draw(st.floats(0.5, 2.0)), "inlet_length": d_in * draw(st.floats(0.2, 1.5)),
+            "tip_length": d_ex * draw(st.floats(0.2, 1.5))}
+
+
+@st.composite
 def polygon(draw):
     """A polygonal wall running forward in x (segments template)."""
     n = draw(st.integers(2, 6))
@@ -58,7 +76,7 @@ def _case(bore):
 
 
 @SETTINGS
-@given(bore=st.one_of(conical(), spear()), cells=st.sampled_from(["triangles", "quads"]))
+@given(bore=st.one_of(conical(), spear(), reducer(), contoured()), cells=st.sampled_from(["triangles", "quads"]))
 def test_valid_templates_always_mesh(bore, cells):
     try:
         case = _case(bore)

@@ -57,7 +57,7 @@ def fillet_chain(vertices, radii, keys, radius_keys) -> list[Segment]:
         d0 = cut_in[k] if k in arcs else 0.0
         d1 = cut_in[k + 1] if (k + 1) in arcs else 0.0
         if d0 + d1 > L * (1 - 1e-9):
-            which = radius_keys[k] if k in arcs else radius_keys[k + 1 - 1]
+            which = radius_keys[k] if d1 > 0 else radius_keys[k - 1]  # the rounding at vertex k+1, else at k
             raise ProfileError(which, f"the rounding needs {d0 + d1:.6g} m of straight wall but {keys[k]} gives only {L:.6g} m")
         if k in arcs:
             s0, e0, R = arcs[k]
@@ -112,6 +112,27 @@ def _clip_x(chain: list[Segment], x_lo: float, x_hi: float) -> list[Segment]:
         a = s.start if x_lo <= x0 <= x_hi else at(x_lo if x0 < x_lo else x_hi)
         b = s.end if x_lo <= x1 <= x_hi else at(x_hi if x1 > x_hi else x_lo)
         out.append(Segment(a, b, key=s.key))
+    return out
+
+
+def smooth_resample(pts: np.ndarray, minimum: int = 64) -> np.ndarray:
+    """Points of a smooth curve through ``pts``, evenly spaced in arc length.
+
+    Shape-preserving cubic interpolation (PCHIP) of x and r against chord length does not
+    overshoot, so a wall whose points run forward in x stays forward; even spacing keeps the
+    Catmull-Rom spline that Gmsh draws through the result free of loops.
+    """
+    from scipy.interpolate import PchipInterpolator
+
+    t = np.r_[0.0, np.cumsum(np.linalg.norm(np.diff(pts, axis=0), axis=1))]
+    fx, fr = PchipInterpolator(t, pts[:, 0]), PchipInterpolator(t, pts[:, 1])
+    dense_t = np.linspace(0.0, t[-1], 40 * len(pts))
+    dense = np.column_stack([fx(dense_t), fr(dense_t)])
+    s = np.r_[0.0, np.cumsum(np.linalg.norm(np.diff(dense, axis=0), axis=1))]
+    n = max(minimum, 4 * len(pts))
+    tt = np.interp(np.linspace(0.0, s[-1], n), s, dense_t)
+    out = np.column_stack([fx(tt), fr(tt)])
+    out[0], out[-1] = pts[0], pts[-1]
     return out
 
 
@@ -209,7 +230,8 @@ def build_profile(case) -> Profile:
         path = case.resolve_path(b.file)
         pts = _read_points(path, "bore.file")
         if b.smooth and len(pts) > 2:
-            wall = [Segment(tuple(pts[0]), tuple(pts[-1]), "spline", via=tuple(map(tuple, pts[1:-1])), key="bore.file")]
+            even = smooth_resample(pts)
+            wall = [Segment(tuple(even[0]), tuple(even[-1]), "spline", via=tuple(map(tuple, even[1:-1])), key="bore.file")]
         else:
             wall = [Segment(tuple(p), tuple(q), key=f"bore.file row {i}") for i, (p, q) in enumerate(zip(pts[:-1], pts[1:]), 1)]
     else:  # pragma: no cover - the schema admits only the templates above
