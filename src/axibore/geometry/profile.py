@@ -49,6 +49,11 @@ class Segment:
     def chord(self) -> float:
         return math.hypot(self.end[0] - self.start[0], self.end[1] - self.start[1])
 
+    @property
+    def length(self) -> float:
+        """Length along the (sampled) curve."""
+        return float(np.sum(np.linalg.norm(np.diff(self.sample(), axis=0), axis=1)))
+
     def arc_center(self) -> tuple[float, float]:
         (x0, r0), (x1, r1) = self.start, self.end
         L = self.chord

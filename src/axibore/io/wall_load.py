@@ -13,7 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .files import atomic_file, read_csv, write_csv
+from .files import atomic_file, write_csv
 
 SEGMENTS = 144  # around the axis: the faceted ring's projected area is N sin(2 pi / N) / (2 pi) = 1 - 3.2e-4 of the true one
 
@@ -66,16 +66,13 @@ def revolve(cols: dict[str, np.ndarray], segments: int = SEGMENTS, angle_deg: fl
     return pts, quads, np.repeat(node_p, n_ang), cell_p
 
 
-def write_wall_load(run_dir: str | Path) -> list[Path]:
+def write_wall_load(run_dir: str | Path, tables: dict[str, dict[str, np.ndarray]]) -> list[Path]:
+    """Write <name>_load.vtu and <name>_load.csv for each wall table (columns as in wall.csv)."""
     import meshio
 
     run_dir = Path(run_dir)
     written = []
-    for name in ("wall", "centerbody"):
-        src = run_dir / f"{name}.csv"
-        if not src.exists():
-            continue
-        cols = read_csv(src)
+    for name, cols in tables.items():
         pts, quads, node_p, cell_p = revolve(cols)
         m = meshio.Mesh(pts, [("quad", quads)], point_data={"p_gauge_Pa": node_p}, cell_data={"p_gauge_Pa": [cell_p]})
         path = run_dir / f"{name}_load.vtu"

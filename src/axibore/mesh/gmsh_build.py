@@ -57,41 +57,48 @@ def gmsh_session():
         gmsh.finalize()
 
 
-def _add_geometry(gmsh, loop_segments, h: float, tol: float) -> list:
-    geo = gmsh.model.geo
-    points: dict[tuple, int] = {}
+class GeoBuilder:
+    """Points (merged within ``tol``) and curves of Segments in Gmsh's built-in geometry kernel."""
 
-    def point(p) -> int:
-        k = (round(p[0] / tol), round(p[1] / tol))
-        if k not in points:
-            points[k] = geo.addPoint(float(p[0]), float(p[1]), 0.0, h)
-        return points[k]
+    def __init__(self, gmsh, tol: float, size: float = 0.0):
+        self.geo = gmsh.model.geo
+        self.tol = tol
+        self.size = size
+        self._points: dict[tuple, int] = {}
 
-    groups: dict[str, list[int]] = {}
-    curved: list = []
-    loop = []
-    for group, seg in loop_segments:
-        a, b = point(seg.start), point(seg.end)
+    def point(self, p) -> int:
+        k = (round(p[0] / self.tol), round(p[1] / self.tol))
+        if k not in self._points:
+            self._points[k] = self.geo.addPoint(float(p[0]), float(p[1]), 0.0, self.size)
+        return self._points[k]
+
+    def curve(self, seg) -> int:
+        a, b = self.point(seg.start), self.point(seg.end)
         if seg.kind == "line":
-            c = geo.addLine(a, b)
-        elif seg.kind == "arc":
+            return self.geo.addLine(a, b)
+        if seg.kind == "arc":
             cx, cr = seg.arc_center()
-            centre = geo.addPoint(cx, cr, 0.0, h)
-            c = geo.addCircleArc(a, centre, b)
-        else:
-            via = [geo.addPoint(float(x), float(r), 0.0, h) for x, r in seg.via]
-            c = geo.addSpline([a, *via, b])
+            return self.geo.addCircleArc(a, self.geo.addPoint(cx, cr, 0.0, self.size), b)
+        via = [self.geo.addPoint(float(x), float(r), 0.0, self.size) for x, r in seg.via]
+        return self.geo.addSpline([a, *via, b])
+
+
+def _add_geometry(gmsh, loop_segments, h: float, tol: float) -> list[tuple[int, object]]:
+    """One plane surface bounded by the loop, physical groups by name; returns (curve tag, segment)."""
+    build = GeoBuilder(gmsh, tol, h)
+    groups: dict[str, list[int]] = {}
+    curves = []
+    for group, seg in loop_segments:
+        c = build.curve(seg)
         groups.setdefault(group, []).append(c)
-        loop.append(c)
-        if seg.kind != "line":
-            curved.append((c, seg))
-    cl = geo.addCurveLoop(loop)
-    geo.addPlaneSurface([cl], tag=1)
-    geo.synchronize()
-    for name, curves in groups.items():
-        gmsh.model.addPhysicalGroup(1, curves, name=name)
+        curves.append((c, seg))
+    cl = build.geo.addCurveLoop([c for c, _ in curves])
+    build.geo.addPlaneSurface([cl], tag=1)
+    build.geo.synchronize()
+    for name, tags in groups.items():
+        gmsh.model.addPhysicalGroup(1, tags, name=name)
     gmsh.model.addPhysicalGroup(2, [1], name="fluid")
-    return curved
+    return curves
 
 
 def _min_curvature_radius(seg) -> float:
@@ -116,15 +123,16 @@ def _threshold(gmsh, distance_field: int, size_min: float, h: float) -> int:
     return thr
 
 
-def _add_size_fields(gmsh, corners, h: float, curved) -> None:
+def _add_size_fields(gmsh, corners, h: float, curves) -> None:
     fields = []
-    for tag, seg in curved:  # curvature: CURVATURE_ELEMENTS faces per full turn
+    for tag, seg in curves:  # curvature: CURVATURE_ELEMENTS faces per full turn
+        if seg.kind == "line":
+            continue
         hc = 2 * math.pi * _min_curvature_radius(seg) / CURVATURE_ELEMENTS
         if hc < h:
             dist = gmsh.model.mesh.field.add("Distance")
             gmsh.model.mesh.field.setNumbers(dist, "CurvesList", [tag])
-            length = float(np.sum(np.linalg.norm(np.diff(seg.sample(), axis=0), axis=1)))
-            gmsh.model.mesh.field.setNumber(dist, "Sampling", int(min(2000, max(20, 4 * length / hc))))
+            gmsh.model.mesh.field.setNumber(dist, "Sampling", int(min(2000, max(20, 4 * seg.length / hc))))
             fields.append(_threshold(gmsh, dist, hc, h))
     if corners:
         occ_pts = [gmsh.model.geo.addPoint(x, r, 0.0, h * CORNER_FACTOR) for x, r in corners]
@@ -199,18 +207,17 @@ def mesh_loop(loop_segments, h: float, cells: str = "triangles", corners=(), msh
     """
     with gmsh_session() as gmsh:
         gmsh.model.add("bore")
-        curved = _add_geometry(gmsh, loop_segments, h, tol)
+        curves = _add_geometry(gmsh, loop_segments, h, tol)
         if mapped:
-            if len(loop_segments) != 4:
+            if len(curves) != 4:
                 raise ValueError("a mapped mesh needs a loop of four segments")
-            lengths = [float(np.sum(np.linalg.norm(np.diff(s.sample(), axis=0), axis=1))) for _, s in loop_segments]
-            n = [max(1, math.ceil(max(lengths[k], lengths[k + 2]) / h)) for k in (0, 1)]
-            for k, (dim, tag) in enumerate(gmsh.model.getEntities(1)):
+            n = [max(1, math.ceil(max(curves[k][1].length, curves[k + 2][1].length) / h)) for k in (0, 1)]
+            for k, (tag, _) in enumerate(curves):
                 gmsh.model.mesh.setTransfiniteCurve(tag, n[k % 2] + 1)
             gmsh.model.mesh.setTransfiniteSurface(1)
             gmsh.model.mesh.setRecombine(2, 1)
         else:
-            _add_size_fields(gmsh, list(corners), h, curved)
+            _add_size_fields(gmsh, list(corners), h, curves)
             _set_options(gmsh, h, cells)
         gmsh.model.mesh.generate(2)
         if msh_path is not None:
@@ -237,7 +244,7 @@ def mesh_profile(profile: Profile, size: float = 0.05, level: int = 0, cells: st
 
 
 def expected_cells(profile: Profile, size: float, level: int) -> float:
-    """Rough cell count of a triangle mesh (for progress messages and refusing huge meshes)."""
+    """Rough cell count of an unstructured triangle mesh (printed by `check`; mapped meshes are similar)."""
     h = target_size(profile, size, level)
     return 2.3 * profile.area / (h * h)
 

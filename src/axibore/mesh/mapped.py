@@ -80,11 +80,6 @@ def _cover(chain, xa: float, xb: float):
     return None
 
 
-def _length(seg: Segment) -> float:
-    p = seg.sample()
-    return float(np.sum(np.linalg.norm(np.diff(p, axis=0), axis=1)))
-
-
 def blocks(profile: Profile) -> list[tuple[Segment, Segment, str]]:
     """(bottom, top, bottom group) for each block, in +x order."""
     for chain in (profile.wall, profile.centerbody):
@@ -111,7 +106,7 @@ def blocks(profile: Profile) -> list[tuple[Segment, Segment, str]]:
 
 def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
     """Transfinite quad mesh with about ``h`` along the axis and square-ish cells."""
-    from .gmsh_build import gmsh_session, read_model
+    from .gmsh_build import GeoBuilder, gmsh_session, read_model
 
     blks = blocks(profile)
     heights = []
@@ -121,39 +116,26 @@ def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
                         float(np.min(np.interp(pb[:, 0], pa[:, 0], pa[:, 1]) - pb[:, 1]))))
     h_max = max(max(a, b) for a, b, _ in heights)
     n_r = max(2, math.ceil(h_max / h))
+    tol = 1e-10 * profile.length_scale
     with gmsh_session() as gmsh:
-        geo = gmsh.model.geo
         gmsh.model.add("bore-mapped")
-        pts: dict[tuple, int] = {}
+        build = GeoBuilder(gmsh, tol)
+        geo = build.geo
+        verticals: dict[int, int] = {}
 
-        def point(p):
-            k = (round(p[0] * 1e12), round(p[1] * 1e12))
-            if k not in pts:
-                pts[k] = geo.addPoint(float(p[0]), float(p[1]), 0.0)
-            return pts[k]
-
-        def curve(seg: Segment) -> int:
-            a, b = point(seg.start), point(seg.end)
-            if seg.kind == "line":
-                return geo.addLine(a, b)
-            if seg.kind == "arc":
-                cx, cr = seg.arc_center()
-                return geo.addCircleArc(a, geo.addPoint(cx, cr, 0.0), b)
-            return geo.addSpline([a, *[geo.addPoint(x, r, 0.0) for x, r in seg.via], b])
-
-        verticals: dict[float, int] = {}
+        def vkey(x: float) -> int:
+            return round(x / tol)
 
         def vertical(x, r0, r1):
-            key = round(x * 1e12)
-            if key not in verticals:
-                verticals[key] = geo.addLine(point((x, r0)), point((x, r1)))
-            return verticals[key]
+            if vkey(x) not in verticals:
+                verticals[vkey(x)] = geo.addLine(build.point((x, r0)), build.point((x, r1)))
+            return verticals[vkey(x)]
 
         groups: dict[str, list[int]] = {"wall": [], "axis": [], "centerbody": []}
         surfaces, transfinite = [], []
-        for (bottom, top, bgroup), (ha, hb, hmin) in zip(blks, heights):
-            cb = curve(bottom)
-            ct = curve(top)
+        for (bottom, top, bgroup), (_, _, hmin) in zip(blks, heights):
+            cb = build.curve(bottom)
+            ct = build.curve(top)
             vl = vertical(bottom.start[0], bottom.start[1], top.start[1])
             vr = vertical(bottom.end[0], bottom.end[1], top.end[1])
             loop = geo.addCurveLoop([cb, vr, -ct, -vl])
@@ -163,7 +145,7 @@ def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
             groups[bgroup].append(cb)
             dr = max(hmin, 1e-12) / n_r  # smallest radial spacing in the block
             dx = min(h, max(dr, h / 8.0))
-            n_x = max(1, math.ceil(max(_length(top), _length(bottom)) / dx))
+            n_x = max(1, math.ceil(max(top.length, bottom.length) / dx))
             transfinite.append((cb, ct, n_x))
         geo.synchronize()
         for cb, ct, n_x in transfinite:
@@ -174,8 +156,8 @@ def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
         for s in surfaces:
             gmsh.model.mesh.setTransfiniteSurface(s)
             gmsh.model.mesh.setRecombine(2, s)
-        first = verticals[round(blks[0][0].start[0] * 1e12)]
-        last = verticals[round(blks[-1][0].end[0] * 1e12)]
+        first = verticals[vkey(blks[0][0].start[0])]
+        last = verticals[vkey(blks[-1][0].end[0])]
         gmsh.model.addPhysicalGroup(1, [first], name="inlet")
         gmsh.model.addPhysicalGroup(1, [last], name="outlet")
         for name, tags in groups.items():

@@ -28,15 +28,14 @@ class Checks:
     warnings: list[str]
 
 
-def checks(case, profile, mesh, flow, tables: dict, forces, onedim) -> Checks:
-    rho = flow.density
-    V_out = flow.volume_flow / flow.outlet_area
-    q_out = 0.5 * rho * V_out**2
+def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
+    q_out = flow.outlet_dynamic_pressure
     p_amb = case.ambient_pressure
-    name, k = min(((n, int(np.argmin(t.pressure))) for n, t in tables.items()), key=lambda nk: tables[nk[0]].pressure[nk[1]])
+    name = min(tables, key=lambda n: tables[n].pressure.min())
     t = tables[name]
+    k = int(np.argmin(t.pressure))
     p_min = float(t.pressure[k])
-    p_out = flow.plane_mean("outlet", flow.boundary["outlet"].pressure, mesh)
+    p_out = flow.outlet_pressure
     pv = case.fluid.vapour_pressure
     sigma = (p_out + p_amb - pv) / q_out
     cp_min = (p_min - p_out) / q_out

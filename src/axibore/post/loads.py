@@ -110,7 +110,7 @@ def plane_momentum(mesh: FVMesh, flow: Flow, name: str) -> float:
 def onedim_force(flow: Flow) -> float:
     """p1 A1 - p2 A2 + mdot (V1 - V2), uniform velocity on each plane, Bernoulli pressures."""
     rho, Q = flow.density, flow.volume_flow
-    V1, V2 = Q / flow.inlet_area, Q / flow.outlet_area
+    V1, V2 = flow.inlet_velocity, flow.outlet_velocity
     p1 = flow.total_pressure - 0.5 * rho * V1 * V1
     p2 = flow.total_pressure - 0.5 * rho * V2 * V2
     return p1 * flow.inlet_area - p2 * flow.outlet_area + rho * Q * (V1 - V2)

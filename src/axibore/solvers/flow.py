@@ -53,6 +53,8 @@ class Flow:
     info: SolveInfo
     phi: np.ndarray  # (C,) velocity potential [m^2/s]
     face_flux: np.ndarray  # (F,) volume flux per radian out of each face's owner [m^3/s/rad]
+    inlet_pressure: float  # area-mean gauge pressure on the inlet plane
+    outlet_pressure: float  # area-mean gauge pressure on the outlet plane
 
     @property
     def speed(self) -> np.ndarray:
@@ -62,15 +64,30 @@ class Flow:
     def mass_flow(self) -> float:
         return self.density * self.volume_flow
 
-    def plane_mean(self, name: str, values: np.ndarray, mesh: FVMesh) -> float:
-        """Area average over a boundary plane (r-weighted)."""
-        f = self.boundary[name].faces
-        return float(np.sum(values * mesh.face_area[f]) / np.sum(mesh.face_area[f]))
+    @property
+    def inlet_velocity(self) -> float:
+        """Mean (1D) velocity on the inlet plane."""
+        return self.volume_flow / self.inlet_area
+
+    @property
+    def outlet_velocity(self) -> float:
+        return self.volume_flow / self.outlet_area
+
+    @property
+    def outlet_dynamic_pressure(self) -> float:
+        """rho V_out^2 / 2 with the mean outlet velocity: the scale of Cp and of the 1D deviations."""
+        return 0.5 * self.density * self.outlet_velocity**2
+
+    @property
+    def momentum_change(self) -> float:
+        """mdot (V_out - V_in) with mean plane velocities [N]."""
+        return self.mass_flow * (self.outlet_velocity - self.inlet_velocity)
 
 
-def _mean_sq_speed(mesh: FVMesh, faces: np.ndarray, grad: np.ndarray) -> float:
+def _plane_mean(mesh: FVMesh, faces: np.ndarray, values: np.ndarray) -> float:
+    """Area average over boundary faces (r-weighted)."""
     a = mesh.face_area[faces]
-    return float(np.sum((grad[0] ** 2 + grad[1] ** 2) * a) / np.sum(a))
+    return float(np.sum(values * a) / np.sum(a))
 
 
 def solve_case_flow(case, mesh: FVMesh, tol: float | None = None) -> Flow:
@@ -87,13 +104,14 @@ def solve_case_flow(case, mesh: FVMesh, tol: float | None = None) -> Flow:
     unit = solve_potential(mesh, bcs, tol=tol or case.solver.tolerance)
     names = list(mesh.boundary)
     grads = {n: boundary_gradients(mesh, unit.phi, mesh.boundary[n], unit.is_value, unit.boundary_data) for n in names}
-    # on the inlet the normal velocity is imposed exactly: keep it exact in the reconstruction
-    A_in = 2 * math.pi * float(mesh.face_area[mesh.boundary["inlet"]].sum())
-    A_out = 2 * math.pi * float(mesh.face_area[mesh.boundary["outlet"]].sum())
-    q2_in = _mean_sq_speed(mesh, mesh.boundary["inlet"], grads["inlet"])
-    q2_out = _mean_sq_speed(mesh, mesh.boundary["outlet"], grads["outlet"])
+    fin, fout = mesh.boundary["inlet"], mesh.boundary["outlet"]
+    A_in = 2 * math.pi * float(mesh.face_area[fin].sum())
+    A_out = 2 * math.pi * float(mesh.face_area[fout].sum())
+    q2_in = _plane_mean(mesh, fin, grads["inlet"][0] ** 2 + grads["inlet"][1] ** 2)
+    q2_out = _plane_mean(mesh, fout, grads["outlet"][0] ** 2 + grads["outlet"][1] ** 2)
 
     i, o = case.inlet, case.outlet
+    p_out = o.pressure if o.pressure is not None else 0.0
     if i.flow_rate is not None:
         kind, value = i.flow_rate
         Q = value if kind == "volume" else value / rho
@@ -101,10 +119,8 @@ def solve_case_flow(case, mesh: FVMesh, tol: float | None = None) -> Flow:
         if i.pressure is not None:
             H = i.pressure + 0.5 * rho * s * s * q2_in
         else:
-            p_out = o.pressure if o.pressure is not None else 0.0
             H = p_out + 0.5 * rho * s * s * q2_out
     else:
-        p_out = o.pressure if o.pressure is not None else 0.0
         dp = i.pressure - p_out
         dq2 = q2_out - q2_in
         if dq2 <= 0:
@@ -124,4 +140,5 @@ def solve_case_flow(case, mesh: FVMesh, tol: float | None = None) -> Flow:
     for n in names:
         g = grads[n] * s
         boundary[n] = BoundaryValues(mesh.boundary[n], g, H - 0.5 * rho * (g[0] ** 2 + g[1] ** 2))
-    return Flow(vel, pressure, boundary, rho, H, Q, A_in, A_out, unit.info, field.phi, field.face_flux)
+    return Flow(vel, pressure, boundary, rho, H, Q, A_in, A_out, unit.info, field.phi, field.face_flux,
+                _plane_mean(mesh, fin, boundary["inlet"].pressure), _plane_mean(mesh, fout, boundary["outlet"].pressure))

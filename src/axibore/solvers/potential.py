@@ -14,14 +14,15 @@ Discretisation (every operator is a sparse matrix assembled face-wise, no loop o
 * Boundary conditions: ``flux`` (given normal derivative g = grad phi . n, n out of the fluid)
   or ``value`` (given phi on the face).
 
-The system is solved by restarted GMRES preconditioned with algebraic multigrid (pyamg,
-Ruge-Stuben) built on the orthogonal, symmetric part of the operator; SuperLU is the fall-back.
+The system is solved by SuperLU up to DIRECT_MAX_CELLS cells, and above that by restarted GMRES
+preconditioned with algebraic multigrid (pyamg, Ruge-Stuben) built on the orthogonal, symmetric
+part of the operator, with SuperLU as the fall-back.
 """
 
 from __future__ import annotations
 
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
@@ -63,7 +64,7 @@ class PotentialField:
 
 @dataclass(frozen=True, eq=False)
 class Operators:
-    """Sparse operators of the discretisation on one mesh (reusable for several right-hand sides)."""
+    """Sparse operators of the discretisation on one mesh and one set of boundary kinds."""
 
     G: tuple[sp.csr_matrix, sp.csr_matrix]  # cell gradient from phi
     B: tuple[sp.csr_matrix, sp.csr_matrix]  # cell gradient from boundary data
@@ -72,7 +73,6 @@ class Operators:
     K: sp.csr_matrix  # cell balance matrix (positive diagonal): K phi = R data
     R: sp.csr_matrix
     K_orth: sp.csr_matrix  # symmetric orthogonal part (preconditioner)
-    is_value: np.ndarray = field(repr=False)
 
 
 def _boundary_kinds(mesh: FVMesh, bcs: dict[str, BoundaryCondition]) -> tuple[np.ndarray, np.ndarray]:
@@ -102,7 +102,7 @@ def _scatter(idx: np.ndarray, vals: np.ndarray, n: int) -> np.ndarray:
 
 
 def _inv2(M: np.ndarray) -> np.ndarray:
-    """Inverse of each symmetric 2x2 block, in closed form."""
+    """Inverse of each 2x2 block, in closed form."""
     a, b, c, d = M[:, 0, 0], M[:, 0, 1], M[:, 1, 0], M[:, 1, 1]
     det = a * d - b * c
     return np.stack([np.stack([d, -b], -1), np.stack([-c, a], -1)], 1) / det[:, None, None]
@@ -174,40 +174,15 @@ def assemble(mesh: FVMesh, is_value: np.ndarray) -> Operators:
     K = (-(D @ flux_phi)).tocsr()
     R = (D @ flux_data).tocsr()
     K_orth = (-(D @ direct)).tocsr()
-    return Operators(tuple(G), tuple(B), flux_phi, flux_data, K, R, K_orth, is_value)
+    return Operators(tuple(G), tuple(B), flux_phi, flux_data, K, R, K_orth)
 
 
-# Below this many cells SuperLU is faster than GMRES + AMG (measured by scripts/bench_potential.py:
-# 25k cells 0.22 s vs 0.35 s; 99k cells 1.56 s vs 0.73 s).
+# Below this many cells SuperLU is faster than GMRES + AMG (scripts/results/bench_potential.txt:
+# 25k cells 0.17 s vs 0.26 s; 99k cells 1.19 s vs 0.53 s).
 DIRECT_MAX_CELLS = 40_000
 
 
-def _solve_linear(K: sp.csr_matrix, b: np.ndarray, K_orth: sp.csr_matrix, tol: float):
-    """SuperLU for small systems; else GMRES with an AMG preconditioner on the orthogonal part
-    (SuperLU again if that stalls)."""
-    history: list[float] = []
-    bnorm = float(np.linalg.norm(b)) or 1.0
-    if K.shape[0] <= DIRECT_MAX_CELLS:
-        import scipy.sparse.linalg as spla
-
-        x = spla.spsolve(K.tocsc(), b)
-        res = float(np.linalg.norm(K @ x - b)) / bnorm
-        return x, 1, res, [res], "superlu"
-    try:
-        import pyamg
-        import scipy.sparse.linalg as spla
-
-        ml = pyamg.ruge_stuben_solver(K_orth.tocsr(), max_coarse=500)
-        Mprec = ml.aspreconditioner(cycle="V")
-        x, info = spla.gmres(
-            K, b, rtol=tol, atol=0.0, restart=60, maxiter=20, M=Mprec,
-            callback=lambda rk: history.append(float(rk)), callback_type="pr_norm",
-        )
-        res = float(np.linalg.norm(K @ x - b)) / bnorm
-        if info == 0 and res < 10 * tol:
-            return x, len(history), res, history, "gmres+amg"
-    except ImportError:
-        pass
+def _direct(K: sp.csr_matrix, b: np.ndarray, bnorm: float, history: list[float]):
     import scipy.sparse.linalg as spla
 
     x = spla.spsolve(K.tocsc(), b)
@@ -215,8 +190,28 @@ def _solve_linear(K: sp.csr_matrix, b: np.ndarray, K_orth: sp.csr_matrix, tol: f
     return x, 1, res, history + [res], "superlu"
 
 
-def solve_potential(mesh: FVMesh, bcs: dict[str, BoundaryCondition], tol: float = 1e-10,
-                    operators: Operators | None = None) -> PotentialField:
+def _solve_linear(K: sp.csr_matrix, b: np.ndarray, K_orth: sp.csr_matrix, tol: float):
+    """SuperLU for small systems; else GMRES with an AMG preconditioner on the orthogonal part
+    (SuperLU again if GMRES stalls)."""
+    import pyamg
+    import scipy.sparse.linalg as spla
+
+    bnorm = float(np.linalg.norm(b)) or 1.0
+    if K.shape[0] <= DIRECT_MAX_CELLS:
+        return _direct(K, b, bnorm, [])
+    history: list[float] = []
+    ml = pyamg.ruge_stuben_solver(K_orth.tocsr(), max_coarse=500)
+    x, info = spla.gmres(
+        K, b, rtol=tol, atol=0.0, restart=60, maxiter=20, M=ml.aspreconditioner(cycle="V"),
+        callback=lambda rk: history.append(float(rk)), callback_type="pr_norm",
+    )
+    res = float(np.linalg.norm(K @ x - b)) / bnorm
+    if info == 0 and res < 10 * tol:
+        return x, len(history), res, history, "gmres+amg"
+    return _direct(K, b, bnorm, history)
+
+
+def solve_potential(mesh: FVMesh, bcs: dict[str, BoundaryCondition], tol: float = 1e-10) -> PotentialField:
     """Solve div(r grad phi) = 0 on ``mesh`` with boundary conditions by group name.
 
     At least one ``value`` boundary is needed for a unique potential.
@@ -225,7 +220,7 @@ def solve_potential(mesh: FVMesh, bcs: dict[str, BoundaryCondition], tol: float 
     is_value, data = _boundary_kinds(mesh, bcs)
     if not np.any(is_value):
         raise ValueError("the potential needs at least one 'value' boundary (an outlet)")
-    ops = operators if operators is not None and np.array_equal(operators.is_value, is_value) else assemble(mesh, is_value)
+    ops = assemble(mesh, is_value)
     t1 = time.perf_counter()
     b = ops.R @ data
     phi, iters, res, hist, method = _solve_linear(ops.K, b, ops.K_orth, tol)

@@ -60,15 +60,17 @@ def _corner_notes(name: str, summary: dict, result: GCIResult) -> list[str]:
     corners = [c for c in summary.get("corners", []) if c["convex"]]
     if not corners or (result.in_asymptotic_range is True and not result.flags):
         return []
-    where = ", ".join(f"{c['boundary']} x = {c['x_m'] * 1e3:.4g} mm ({c['key']})" for c in corners)
+    def where(cs):
+        return ", ".join(f"{c['boundary']} x = {c['x_m'] * 1e3:.4g} mm ({c['key']})" for c in cs)
+
     if name in ("min_wall_gauge_Pa", "max_speed_m_s"):
         p = summary["pressure"]
         h = summary["mesh"]["target_h_m"]
-        near = [c for c in corners if math.hypot(c["x_m"] - p["min_wall_x_m"], c["r_m"] - p.get("min_wall_r_m", c["r_m"])) < 6 * h]
+        near = [c for c in corners if math.hypot(c["x_m"] - p["min_wall_x_m"], c["r_m"] - p["min_wall_r_m"]) < 6 * h]
         if near:
-            return [f"the minimum pressure sits at a sharp convex corner ({where}) where the exact potential-flow "
+            return [f"the minimum pressure sits at a sharp convex corner ({where(near)}) where the exact potential-flow "
                     "suction is infinite: it grows without limit under refinement and has no converged value"]
-    return [f"the bore has sharp convex corners ({where}): their singular suction slows the convergence"]
+    return [f"the bore has sharp convex corners ({where(corners)}): their singular suction slows the convergence"]
 
 
 def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[str], None] | None = None) -> GridStudy:

@@ -1,15 +1,16 @@
 """Plots of a run directory (matplotlib, PNG): wall pressure 2D vs 1D, cumulative axial force,
 the mesh with a zoom, the speed field with streamlines. Everything is read back from the run
-directory (summary.json, wall.csv, centerbody.csv, fields.vtu), never from solver objects."""
+directory (summary.json, wall.csv, centerbody.csv, fields.vtu), never from solver objects. Each
+plot takes a run directory or a run loaded once with ``load_run``."""
 
 from __future__ import annotations
 
-import json
 from pathlib import Path
 
 import numpy as np
 
 from ..io.files import atomic_file, read_csv
+from ..io.rundir import read_summary
 
 DRAW_CELLS_MAX = 60_000  # above this, fields are binned to pixels and the full mesh view shows the outline only
 COLOURS = {"wall": "#1f4e79", "centerbody": "#b5462b", "onedim": "#6b6b6b", "band": "#f2c94c"}
@@ -32,20 +33,33 @@ def _save(fig, path: Path) -> Path:
 
 
 def load_run(run_dir: str | Path) -> dict:
+    """Summary and wall tables of a run directory; the fields are read on first use (``fields``)."""
     run_dir = Path(run_dir)
-    data = {"dir": run_dir, "summary": json.loads((run_dir / "summary.json").read_text())}
+    data = {"dir": run_dir, "summary": read_summary(run_dir)}
     data["tables"] = {n: read_csv(run_dir / f"{n}.csv") for n in ("wall", "centerbody") if (run_dir / f"{n}.csv").exists()}
     return data
 
 
-def read_fields(run_dir: str | Path):
-    """(nodes (N, 2), cells list of arrays, cell data dict (concatenated), point data dict)."""
-    import meshio
+def _as_run(run) -> dict:
+    return run if isinstance(run, dict) else load_run(run)
 
-    m = meshio.read(Path(run_dir) / "fields.vtu")
-    cells = [c.data for c in m.cells]
-    cd = {k: np.concatenate(v) for k, v in m.cell_data.items()}
-    return m.points[:, :2], cells, cd, dict(m.point_data)
+
+def fields(run: dict) -> dict:
+    """fields.vtu of a loaded run, read once: nodes (N, 2), cells (list of blocks), polygons
+    (C, 4; triangles repeat their first node), cell data and point data."""
+    if "fields" not in run:
+        import meshio
+
+        m = meshio.read(run["dir"] / "fields.vtu")
+        cells = [c.data for c in m.cells]
+        run["fields"] = {
+            "nodes": m.points[:, :2],
+            "cells": cells,
+            "polygons": np.vstack([np.column_stack([c, c[:, :1]]) if c.shape[1] == 3 else c for c in cells]),
+            "cell_data": {k: np.concatenate(v) for k, v in m.cell_data.items()},
+            "point_data": dict(m.point_data),
+        }
+    return run["fields"]
 
 
 def _triangles(cells) -> np.ndarray:
@@ -58,10 +72,10 @@ def _triangles(cells) -> np.ndarray:
     return np.vstack(tris)
 
 
-def wall_pressure_plot(run_dir, path=None) -> Path:
+def wall_pressure_plot(run, path=None) -> Path:
     """Wall gauge pressure along x: 2D result and the 1D model, breakdown ranges shaded."""
     plt = _plt()
-    run = load_run(run_dir)
+    run = _as_run(run)
     s = run["summary"]
     q_out = 0.5 * s["flow"]["density_kg_m3"] * s["flow"]["outlet_mean_velocity_m_s"] ** 2
     fig, ax = plt.subplots(figsize=(7.2, 3.8), dpi=130)
@@ -82,13 +96,13 @@ def wall_pressure_plot(run_dir, path=None) -> Path:
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7.5, loc="best")
     fig.tight_layout()
-    return _save(fig, Path(path or Path(run_dir) / "plot_wall_pressure.png"))
+    return _save(fig, Path(path or run["dir"] / "plot_wall_pressure.png"))
 
 
-def axial_force_plot(run_dir, path=None) -> Path:
+def axial_force_plot(run, path=None) -> Path:
     """Cumulative axial force on the part from the inlet, along x."""
     plt = _plt()
-    run = load_run(run_dir)
+    run = _as_run(run)
     s = run["summary"]
     fig, ax = plt.subplots(figsize=(7.2, 3.4), dpi=130)
     for name, t in run["tables"].items():
@@ -101,18 +115,18 @@ def axial_force_plot(run_dir, path=None) -> Path:
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7.5)
     fig.tight_layout()
-    return _save(fig, Path(path or Path(run_dir) / "plot_axial_force.png"))
+    return _save(fig, Path(path or run["dir"] / "plot_axial_force.png"))
 
 
-def mesh_plot(run_dir, path=None, zoom_at: tuple[float, float] | None = None) -> Path:
+def mesh_plot(run, path=None, zoom_at: tuple[float, float] | None = None) -> Path:
     """The meridional mesh, and a zoom around the minimum wall pressure (a lip or knuckle)."""
     from matplotlib.collections import PolyCollection
 
     plt = _plt()
-    run = load_run(run_dir)
+    run = _as_run(run)
     s = run["summary"]
-    nodes, cells, _, _ = read_fields(run_dir)
-    allc = np.vstack([np.column_stack([c, c[:, :1]]) if c.shape[1] == 3 else c for c in cells])
+    f = fields(run)
+    nodes, allc = f["nodes"], f["polygons"]
     zx, zr = zoom_at or (s["pressure"]["min_wall_x_m"], s["pressure"].get("min_wall_r_m", nodes[:, 1].max()))
     span = 12 * s["mesh"]["target_h_m"]
     fig, axes = plt.subplots(1, 2, figsize=(7.4, 3.4), dpi=130, gridspec_kw={"width_ratios": [2.2, 1]})
@@ -138,23 +152,24 @@ def mesh_plot(run_dir, path=None, zoom_at: tuple[float, float] | None = None) ->
         ax.set_xlabel("x [m]")
     axes[0].set_ylabel("r [m]")
     fig.tight_layout()
-    return _save(fig, Path(path or Path(run_dir) / "plot_mesh.png"))
+    return _save(fig, Path(path or run["dir"] / "plot_mesh.png"))
 
 
-def speed_plot(run_dir, path=None, lines: int = 12) -> Path:
+def speed_plot(run, path=None, lines: int = 12) -> Path:
     """Speed field with streamlines (contours of the Stokes stream function at equal flow fractions)."""
     import matplotlib.tri as mtri
 
     from matplotlib.collections import PolyCollection
 
     plt = _plt()
-    nodes, cells, cd, pd = read_fields(run_dir)
+    run = _as_run(run)
+    f = fields(run)
+    nodes, cells, allc = f["nodes"], f["cells"], f["polygons"]
     fig, ax = plt.subplots(figsize=(7.4, 3.2), dpi=130)
 
-    psi = pd["stream_function_m3_s"]
+    psi = f["point_data"]["stream_function_m3_s"]
     levels = np.linspace(psi.min(), psi.max(), lines + 2)[1:-1]
-    allc = np.vstack([np.column_stack([c, c[:, :1]]) if c.shape[1] == 3 else c for c in cells])
-    speed = cd["speed_m_s"]
+    speed = f["cell_data"]["speed_m_s"]
     if len(allc) <= DRAW_CELLS_MAX:
         pc = PolyCollection(nodes[allc], array=speed, cmap="viridis", edgecolor="face", linewidth=0.05)
         ax.add_collection(pc)
@@ -188,13 +203,14 @@ def speed_plot(run_dir, path=None, lines: int = 12) -> Path:
     ax.set_ylabel("r [m]")
     ax.set_title(f"Speed; white: streamlines, each band carries 1/{lines + 1} of the flow", fontsize=8.5)
     fig.tight_layout()
-    return _save(fig, Path(path or Path(run_dir) / "plot_speed.png"))
+    return _save(fig, Path(path or run["dir"] / "plot_speed.png"))
 
 
 def all_plots(run_dir) -> dict[str, Path]:
+    run = load_run(run_dir)  # read once for all plots
     return {
-        "wall_pressure": wall_pressure_plot(run_dir),
-        "axial_force": axial_force_plot(run_dir),
-        "mesh": mesh_plot(run_dir),
-        "speed": speed_plot(run_dir),
+        "wall_pressure": wall_pressure_plot(run),
+        "axial_force": axial_force_plot(run),
+        "mesh": mesh_plot(run),
+        "speed": speed_plot(run),
     }

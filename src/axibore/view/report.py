@@ -10,12 +10,12 @@ from __future__ import annotations
 import base64
 import datetime as dt
 import html
-import json
 import math
 from pathlib import Path
 
 from .. import __version__
 from ..io.files import atomic_write_text
+from ..io.rundir import read_summary
 from ..safety import CAUTIONS
 
 
@@ -97,7 +97,7 @@ def headline_rows(s: dict) -> list[tuple[str, str, str]]:
 
 
 def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | Path | None = None) -> Path:
-    """Write run_dir/report.html (plots are made if missing).
+    """Write run_dir/report.html (the plots are drawn afresh from the run directory).
 
     ``shown_dir``: the directory name the report should show (a run is built in a temporary
     directory and renamed when complete).
@@ -108,7 +108,7 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
 
     run_dir = Path(run_dir)
     shown = Path(shown_dir) if shown_dir is not None else run_dir
-    s = json.loads((run_dir / "summary.json").read_text(encoding="utf-8"))
+    s = read_summary(run_dir)
     figs = plots.all_plots(run_dir)
     notes = []
     if include_3d:

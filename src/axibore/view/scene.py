@@ -12,7 +12,7 @@ from pathlib import Path
 import numpy as np
 
 from ..io.files import atomic_file, read_csv
-from ..io.wall_load import revolve
+from ..io.wall_load import SEGMENTS, revolve
 
 FIELDS = {
     "pressure": ("p_gauge_Pa", "gauge pressure [Pa]"),
@@ -52,17 +52,15 @@ def _rotated(grid, angle_rad: float):
     return g
 
 
-def revolved_bounds(run_dir: Path, angle_deg: float) -> tuple[float, ...]:
-    """Exact bounds of the meridional region revolved from 0 to ``angle_deg`` about x."""
-    import meshio
-
-    pts = meshio.read(Path(run_dir) / "fields.vtu").points
-    x0, x1, rmax = pts[:, 0].min(), pts[:, 0].max(), pts[:, 1].max()
-    th = np.radians(np.linspace(0, angle_deg, 4 * int(angle_deg) + 1))
-    th = np.r_[th, [a for a in np.radians([90, 180, 270]) if a <= np.radians(angle_deg) + 1e-12]]
-    cy, sz = np.cos(th), np.sin(th)
-    return (float(x0), float(x1), float(rmax * min(cy.min(), 0.0)), float(rmax * max(cy.max(), 0.0)),
-            float(rmax * min(sz.min(), 0.0)), float(rmax * max(sz.max(), 0.0)))
+def revolved_bounds(x0: float, x1: float, rmax: float, angle_deg: float) -> tuple[float, ...]:
+    """Exact bounds of the region x0 <= x <= x1, 0 <= r <= rmax revolved from 0 to ``angle_deg`` about x
+    (y = r cos theta, z = r sin theta)."""
+    a = np.radians(angle_deg)
+    cos_min = -1.0 if a >= np.pi else np.cos(a)
+    sin_max = 1.0 if a >= np.pi / 2 else np.sin(a)
+    sin_min = -1.0 if a >= 1.5 * np.pi else min(0.0, np.sin(a))
+    return (float(x0), float(x1), float(rmax * min(cos_min, 0.0)), float(rmax),
+            float(rmax * sin_min), float(rmax * max(sin_max, 0.0)))
 
 
 WALL_P = "wall gauge pressure [Pa]"
@@ -76,7 +74,8 @@ def _wall_surfaces(run_dir: Path, angle_deg: float) -> list:
     for part in ("wall", "centerbody"):
         src = run_dir / f"{part}.csv"
         if src.exists():
-            pts, quads, node_p, _ = revolve(read_csv(src), segments=max(8, int(round(angle_deg / 360 * 144))), angle_deg=angle_deg)
+            segments = max(8, int(round(angle_deg / 360 * SEGMENTS)))
+            pts, quads, node_p, _ = revolve(read_csv(src), segments=segments, angle_deg=angle_deg)
             surf = pv.PolyData(pts, np.hstack([np.full((len(quads), 1), 4), quads]).ravel())
             surf.point_data[WALL_P] = node_p
             out.append(surf)
@@ -111,7 +110,8 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
             plotter.add_mesh(surf, scalars=WALL_P, cmap="plasma", clim=wr, opacity=0.55, show_scalar_bar=(k == 0),
                              scalar_bar_args={"title": WALL_P, "vertical": True, "position_x": 0.07, "position_y": 0.1,
                                               "title_font_size": 14})
-    b = revolved_bounds(run_dir, angle_deg)
+    gb = grid.bounds
+    b = revolved_bounds(gb[0], gb[1], gb[3], angle_deg)
     x0, x1 = b[0], b[1]
     rmax = max(abs(v) for v in b[2:])
     plotter.add_mesh(pv.Line((x0, 0, 0), (x1, 0, 0)), color="black", line_width=2)
