@@ -189,3 +189,10 @@ def test_bad_levels_exit_2(capsys):
             main(argv)
         assert exc.value.code == 2
     assert "level" in capsys.readouterr().err
+
+
+def test_list_positions_count_from_one(nozzle_dict):
+    # schema errors and profile errors name the same segment the same way
+    nozzle_dict["bore"] = {"template": "segments", "start": [0, "40 mm"],
+                           "segment": [{"to": ["0.1 m", "40 mm"]}, {"to": ["0.2 m", "20 mm"], "radius": "2 kg"}]}
+    assert 'x.toml: bore.segment[2].radius: expected a length, got "2 kg"' in problems(nozzle_dict)

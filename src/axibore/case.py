@@ -293,16 +293,13 @@ def _format_validation(exc: ValidationError, data: dict) -> list[tuple[str, str]
     template = data.get("bore", {}).get("template") if isinstance(data.get("bore"), dict) else None
     for err in exc.errors():
         loc = list(err["loc"])
-        # drop the discriminator tag pydantic inserts for the bore template, and the
-        # "function-before[...]" style wrappers of annotated types
+        # drop the discriminator tag pydantic inserts for the bore template
         if len(loc) > 1 and loc[0] == "bore" and loc[1] == template:
             del loc[1]
         parts = []
         for item in loc:
-            if isinstance(item, int):
-                parts[-1] = f"{parts[-1]}[{item}]" if parts else f"[{item}]"
-            elif isinstance(item, str) and ("[" in item and "]" in item and "function" in item):
-                continue
+            if isinstance(item, int):  # list positions count from 1, as in profile errors
+                parts[-1] = f"{parts[-1]}[{item + 1}]" if parts else f"[{item + 1}]"
             else:
                 parts.append(str(item))
         path = ".".join(parts)
