@@ -106,15 +106,29 @@ def test_flow_rate_volume_or_mass(nozzle_dict):
     assert case_from_dict(nozzle_dict).inlet.flow_rate == ("volume", pytest.approx(0.02))
 
 
-def test_gas_case_accepted_and_refused_by_run(tmp_path):
-    path = tmp_path / "air.toml"
-    path.write_text(
-        '[fluid]\nkind = "ideal-gas"\ngas = "air"\n[bore]\ntemplate = "conical"\ninlet_diameter = "20 mm"\n'
-        'exit_diameter = "8 mm"\nhalf_angle = "20 deg"\ninlet_length = "30 mm"\ntip_length = "6 mm"\n'
-        '[inlet]\ntotal_pressure = "6 bar"\ntotal_temperature = "20 degC"\n'
-    )
-    c = load_case(path)
-    assert c.solver_kind == "euler"
+def test_solver_kind_must_be_registered_and_fit_the_fluid(nozzle_dict):
+    from axibore.solvers import SOLVERS
+
+    nozzle_dict["solver"] = {"kind": "lattice"}
+    assert f"x.toml: solver.kind: expected one of the solvers of this version: {', '.join(SOLVERS)}; got 'lattice'" in problems(nozzle_dict)
+    c = case_from_dict({**nozzle_dict, "solver": {}})
+    assert c.solver_kind == "potential"
+
+
+def test_case_without_a_solver_is_refused_by_run(tmp_path, nozzle_dict):
+    from axibore.solvers import SOLVERS, register
+
+    register("stub-gas-only", "axibore.solvers.potential:solve", ("gas",), "a registry entry for this test")
+    try:  # a liquid case cannot take a gas-only solver
+        assert 'x.toml: solver.kind: "stub-gas-only" is for gases; a liquid takes "potential"' in problems(
+            {**nozzle_dict, "solver": {"kind": "stub-gas-only"}})
+    finally:
+        del SOLVERS["stub-gas-only"]
+    path = tmp_path / "jet.toml"
+    path.write_text('[fluid]\nkind = "water"\ntemperature = "15 degC"\n[bore]\ntemplate = "conical"\ninlet_diameter = "20 mm"\n'
+                    'exit_diameter = "8 mm"\nhalf_angle = "20 deg"\ninlet_length = "30 mm"\ntip_length = "6 mm"\n'
+                    '[inlet]\npressure = "2 bar"\n[outlet]\nkind = "free-jet"\n')
+    assert load_case(path).unsupported()
     assert main(["run", str(path), "--out", str(tmp_path / "run")]) == 2
     assert not (tmp_path / "run").exists()
 

@@ -70,9 +70,7 @@ def test_re_entrant_tube_is_accepted():
     data = seg_case([0, 0.3], [{"to": [0.5, 0.3]}, {"to": [0.5, 0.06]}, {"to": [0.3, 0.06]},
                                {"to": [0.3, 0.05]}, {"to": [0.8, 0.05]}])
     c = case_from_dict(data)
-    from axibore.geometry import build_profile
-
-    p = build_profile(c)
+    p = c.profile
     assert not p.monotone
     # fluid = [0, 0.5] x [0, 0.3] less the tube wall [0.3, 0.5] x [0.05, 0.06], plus the pipe [0.5, 0.8] x [0, 0.05]
     assert p.area == pytest.approx(0.15 - 0.002 + 0.015, rel=1e-12)
@@ -103,9 +101,7 @@ def test_spear_needs_open_stroke():
 
 
 def test_fillet_is_tangent_and_flow_area(nozzle_dict):
-    from axibore.geometry import build_profile
-
-    p = build_profile(case_from_dict(nozzle_dict))
+    p = case_from_dict(nozzle_dict).profile
     arc = [s for s in p.wall if s.kind == "arc"][0]
     before, after = p.wall[p.wall.index(arc) - 1], p.wall[p.wall.index(arc) + 1]
     assert np.allclose(before.tangent_at("end"), arc.tangent_at("start"), atol=1e-2)

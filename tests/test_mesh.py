@@ -10,7 +10,6 @@ from hypothesis import strategies as st
 
 from axibore.case import CaseError, case_from_dict
 from axibore.cli import main
-from axibore.geometry import build_profile
 from axibore.mesh import FVMesh, MeshError
 from axibore.mesh.gmsh_build import mesh_profile
 
@@ -83,7 +82,7 @@ def test_valid_templates_always_mesh(bore, cells):
     except CaseError as exc:  # a few random draws are not bores (a rounding too large): they say which key
         assert all(": bore." in line for line in exc.lines())
         assume(False)
-    p = build_profile(case)
+    p = case.profile
     res = mesh_profile(p, size=0.3, level=0, cells=cells)
     m = res.mesh
     _check_groups(m, set(m.boundary))
@@ -96,7 +95,7 @@ def test_valid_templates_always_mesh(bore, cells):
 @SETTINGS
 @given(bore=polygon(), cells=st.sampled_from(["triangles", "quads"]))
 def test_pappus_exact_on_polygons(bore, cells):
-    p = build_profile(_case(bore))
+    p = _case(bore).profile
     m = mesh_profile(p, size=0.4, level=0, cells=cells).mesh
     _check_groups(m, {"inlet", "outlet", "wall", "axis"})
     assert m.cell_area.sum() == pytest.approx(p.area, rel=1e-9)
@@ -127,15 +126,15 @@ def test_hand_mesh_geometry():
 
 
 def test_level_refines_by_sqrt2(nozzle_dict):
-    p = build_profile(case_from_dict(nozzle_dict))
+    p = case_from_dict(nozzle_dict).profile
     n0 = mesh_profile(p, 0.2, 0, "quads").mesh.n_cells
     n2 = mesh_profile(p, 0.2, 2, "quads").mesh.n_cells
     assert 3.3 < n2 / n0 < 4.7  # level 2 halves the size: about four times the cells
 
 
 def test_convex_corner_is_refined():
-    p = build_profile(_case({"template": "reducer", "inlet_diameter": 0.2, "outlet_diameter": 0.1,
-                             "half_angle": math.radians(30), "inlet_length": 0.3, "outlet_length": 0.3}))
+    p = _case({"template": "reducer", "inlet_diameter": 0.2, "outlet_diameter": 0.1,
+               "half_angle": math.radians(30), "inlet_length": 0.3, "outlet_length": 0.3}).profile
     m = mesh_profile(p, 0.2, 0, "triangles").mesh
     corner = np.array([[c.x, c.r] for c in p.corners() if c.convex][0])
     wf = m.boundary["wall"]

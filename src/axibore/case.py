@@ -7,11 +7,13 @@ gauge (relative to ambient) unless the key says absolute.
 
 from __future__ import annotations
 
+import copy
 import math
+import re
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Annotated, Any, Literal, Union
+from typing import TYPE_CHECKING, Annotated, Any, Literal, Union
 
 from pydantic import (
     AfterValidator,
@@ -25,6 +27,9 @@ from pydantic_core import PydanticCustomError
 
 from . import fluids
 from .units import UnitError, flow_rate_kind, to_si
+
+if TYPE_CHECKING:
+    from .geometry import Profile
 
 DEFAULT_AMBIENT = 101325.0
 
@@ -210,15 +215,33 @@ class OutletSpec(_Section):
     ambient_pressure: PosPressure = DEFAULT_AMBIENT
 
 
+MAX_LEVEL = 12
+
+
 class MeshSpec(_Section):
-    size: Annotated[float, Field(gt=0.0, le=1.0)] = 0.05
-    level: Annotated[int, Field(ge=0, le=12)] = 0
+    size: Annotated[float, Field(gt=0.0, le=1.0, strict=True)] = 0.05
+    level: Annotated[int, Field(ge=0, le=MAX_LEVEL, strict=True)] = 0
     cells: Literal["triangles", "quads"] = "quads"
 
 
+def _registered_solver(value: Any) -> Any:
+    from .solvers import SOLVERS
+
+    if value is not None and value not in SOLVERS:
+        raise PydanticCustomError("solver_kind", f"expected one of the solvers of this version: {', '.join(SOLVERS)}; got {value!r}")
+    return value
+
+
 class SolverSpec(_Section):
-    kind: Literal["potential", "euler"] | None = None
-    tolerance: Annotated[float, Field(gt=0.0, lt=1e-3)] = 1e-10
+    kind: Annotated[str | None, AfterValidator(_registered_solver)] = None
+    tolerance: Annotated[float, Field(gt=0.0, lt=1e-3, strict=True)] = 1e-10
+    # linear solves (numerics.linear.LinearSettings)
+    linear: Literal["auto", "direct", "iterative"] = "auto"
+    direct_max_cells: Annotated[int, Field(ge=0, strict=True)] = 40_000
+    gmres_restart: Annotated[int, Field(ge=5, le=1000, strict=True)] = 60
+    gmres_max_restarts: Annotated[int, Field(ge=1, le=1000, strict=True)] = 20
+    amg: Literal["ruge-stuben", "smoothed-aggregation"] = "ruge-stuben"
+    amg_max_coarse: Annotated[int, Field(ge=10, le=100_000, strict=True)] = 500
 
 
 class OneDimSpec(_Section):
@@ -245,47 +268,106 @@ class CaseModel(_Section):
 # the validated case
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Case:
-    """A validated case: every quantity a float in SI (pressures gauge unless named absolute)."""
+    """A validated case: every quantity a float in SI (pressures gauge unless named absolute).
 
-    title: str
+    One source of truth: ``data`` is the case as given (a parsed TOML table), ``model`` its
+    validated form; everything else derives from them. ``with_updates`` changes ``data`` and
+    validates again, so a changed case can never be stale.
+    """
+
+    data: dict
+    model: CaseModel
     fluid: fluids.Fluid
-    bore: ConicalBore | ContouredBore | ReducerBore | SpearBore | SegmentsBore | PointsBore
-    inlet: InletSpec
-    outlet: OutletSpec
-    mesh: MeshSpec
-    solver_kind: str
-    solver: SolverSpec
-    onedim: OneDimSpec
-    flange: FlangeSpec
+    profile: "Profile"
+    solver_kind: str | None  # the registered solver that will run (None: none for this fluid)
     source: str = "<memory>"
     base_dir: Path = field(default_factory=Path.cwd)
-    model: CaseModel | None = None
+
+    title = property(lambda self: self.model.title)
+    bore = property(lambda self: self.model.bore)
+    inlet = property(lambda self: self.model.inlet)
+    outlet = property(lambda self: self.model.outlet)
+    mesh = property(lambda self: self.model.mesh)
+    solver = property(lambda self: self.model.solver)
+    onedim = property(lambda self: self.model.onedim)
+    flange = property(lambda self: self.model.flange)
 
     @property
     def ambient_pressure(self) -> float:
         return self.outlet.ambient_pressure
 
+    @property
+    def linear_settings(self):
+        from .numerics.linear import LinearSettings
+
+        s = self.solver
+        return LinearSettings(method=s.linear, tolerance=s.tolerance, direct_max_cells=s.direct_max_cells,
+                              restart=s.gmres_restart, max_restarts=s.gmres_max_restarts, amg=s.amg,
+                              amg_max_coarse=s.amg_max_coarse)
+
     def resolve_path(self, name: str) -> Path:
         p = Path(name)
         return p if p.is_absolute() else (self.base_dir / p)
 
-    def with_level(self, level: int) -> "Case":
-        from dataclasses import replace
+    def with_updates(self, updates: dict[str, Any]) -> "Case":
+        """A new case with dotted keys replaced (``{"bore.half_angle": "14 deg", "mesh.level": 2}``),
+        values as in a case file; validated again with the same messages as a file.
 
-        return replace(self, mesh=self.mesh.model_copy(update={"level": level}))
+        A list entry is addressed from 1, as in error messages: ``bore.segment[2].radius``.
+        """
+        data = copy.deepcopy(self.data)
+        for key, value in updates.items():
+            _set_dotted(data, key, value, self.source)
+        keys = ", ".join(updates)
+        source = self.source if not updates else f"{self.source} (updated: {keys})"
+        return case_from_dict(data, source=source, base_dir=self.base_dir)
+
+    def with_level(self, level: int) -> "Case":
+        return self.with_updates({"mesh.level": level})
 
     def unsupported(self) -> list[str]:
         """Capabilities the case asks for that this version cannot run (refused by ``run``)."""
         out = []
-        if self.solver_kind == "euler":
-            out.append('solver.kind = "euler": the compressible solver is not available yet')
-        if not self.fluid.is_liquid:
-            out.append('fluid.kind = "ideal-gas": gas runs need the compressible solver, not available yet')
+        if self.solver_kind is None:
+            out.append(f'fluid.kind = "{self.fluid.kind}": no solver for {"liquids" if self.fluid.is_liquid else "gases"} '
+                       "in this version (the compressible solver is not available yet)")
         if self.outlet.kind == "free-jet":
             out.append('outlet.kind = "free-jet": the free-jet boundary is not available yet')
         return out
+
+
+_INDEXED = re.compile(r"^([A-Za-z_][A-Za-z0-9_]*)\[(\d+)\]$")
+
+
+def _set_dotted(data: dict, key: str, value: Any, source: str) -> None:
+    """data[a][b]... = value for key "a.b..." (sections created as needed; "name[k]" counts from 1)."""
+    parts = key.split(".")
+    if not key or any(not p for p in parts):
+        raise CaseError(source, [(key, "expected a dotted case key such as mesh.level or bore.half_angle")])
+    node: Any = data
+    for depth, part in enumerate(parts):
+        last = depth == len(parts) - 1
+        m = _INDEXED.match(part)
+        name, index = (m.group(1), int(m.group(2))) if m else (part, None)
+        where = ".".join(parts[: depth + 1])
+        if not isinstance(node, dict):
+            raise CaseError(source, [(where, "cannot set a key inside a value that is not a table")])
+        if index is None:
+            if last:
+                node[name] = value
+            else:
+                node = node.setdefault(name, {})
+            continue
+        items = node.get(name)
+        if not isinstance(items, list) or not 1 <= index <= len(items):
+            count = len(items) if isinstance(items, list) else 0
+            raise CaseError(source, [(where, f"no entry {index} (the case has {count}; entries count from 1)")])
+        if last:
+            items[index - 1] = value
+        else:
+            node = items[index - 1]
 
 
 def _format_validation(exc: ValidationError, data: dict) -> list[tuple[str, str]]:
@@ -321,7 +403,7 @@ def _format_validation(exc: ValidationError, data: dict) -> list[tuple[str, str]
             msg = err["msg"]
             if msg.startswith("Value error, "):
                 msg = msg[len("Value error, ") :]
-            if kind not in ("quantity", "positive", "non_negative", "angle_range") and given is not None and not isinstance(given, (dict, list)):
+            if kind not in ("quantity", "positive", "non_negative", "angle_range", "solver_kind") and given is not None and not isinstance(given, (dict, list)):
                 msg = f"{msg} (got {given!r})"
         problems.append((path, msg))
     return problems
@@ -375,8 +457,14 @@ def _cross_checks(m: CaseModel) -> list[tuple[str, str]]:
             p_out = o.pressure if o.pressure is not None else 0.0
             if not i.pressure > p_out:
                 problems.append(("inlet.pressure", f"expected more than the outlet pressure ({p_out:.6g} Pa gauge) so that the fluid flows in +x, got {i.pressure:.6g} Pa"))
-    if m.solver.kind == "potential" and f.kind == "ideal-gas":
-        problems.append(("solver.kind", '"potential" is for liquids; an ideal gas takes "euler"'))
+    from .solvers import SOLVERS
+
+    if m.solver.kind in SOLVERS:
+        entry, cls = SOLVERS[m.solver.kind], ("gas" if f.kind == "ideal-gas" else "liquid")
+        if cls not in entry.fluids:
+            others = [k for k, e in SOLVERS.items() if cls in e.fluids]
+            problems.append(("solver.kind", f'"{m.solver.kind}" is for {" and ".join({"liquid": "liquids", "gas": "gases"}[e] for e in entry.fluids)}; '
+                             f"a {'gas' if cls == 'gas' else 'liquid'} takes " + (" or ".join(f'"{k}"' for k in others) or "no solver of this version")))
     if m.bore.template == "spear" and getattr(m.bore, "centerbody", None) is not None:
         problems.append(("bore.centerbody", "the spear template builds its own needle"))
     return problems
@@ -409,30 +497,17 @@ def case_from_dict(data: dict, source: str = "<memory>", base_dir: Path | None =
         fluid = _resolve_fluid(m.fluid, m.outlet.ambient_pressure)
     except ValueError as exc:
         raise CaseError(source, [("fluid", str(exc))]) from None
-    solver_kind = m.solver.kind or ("potential" if fluid.is_liquid else "euler")
-    case = Case(
-        title=m.title,
-        fluid=fluid,
-        bore=m.bore,
-        inlet=m.inlet,
-        outlet=m.outlet,
-        mesh=m.mesh,
-        solver_kind=solver_kind,
-        solver=m.solver,
-        onedim=m.onedim,
-        flange=m.flange,
-        source=source,
-        base_dir=base_dir or Path.cwd(),
-        model=m,
-    )
-    # the bore must be a valid profile: checked here so `check` reports it with the rest
     from .geometry import ProfileError, build_profile
+    from .solvers import default_for
 
+    solver_kind = m.solver.kind or default_for("liquid" if fluid.is_liquid else "gas")
+    # the bore must be a valid profile: built once here, so `check` reports it with the rest
     try:
-        build_profile(case)
+        profile = build_profile(m.bore, base_dir or Path.cwd())
     except ProfileError as exc:
         raise CaseError(source, [(exc.key, exc.message)]) from None
-    return case
+    return Case(data=copy.deepcopy(data), model=m, fluid=fluid, profile=profile, solver_kind=solver_kind, source=source,
+                base_dir=base_dir or Path.cwd())
 
 
 def load_case(path: str | Path) -> Case:
@@ -467,7 +542,8 @@ def resolved_dict(case: Case) -> dict:
         data["inlet"]["flow_rate"] = f"{value!r} m^3/s" if kind == "volume" else f"{value!r} kg/s"
     if data["bore"]["template"] == "points":
         data["bore"]["file"] = str(case.resolve_path(data["bore"]["file"]).resolve())
-    data.setdefault("solver", {})["kind"] = case.solver_kind
+    if case.solver_kind is not None:
+        data.setdefault("solver", {})["kind"] = case.solver_kind
     if case.fluid.kind in ("seawater", "liquid"):  # water takes its density from IAPWS-IF97
         data["fluid"]["density"] = case.fluid.density
     return data

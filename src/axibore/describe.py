@@ -10,7 +10,6 @@ from .units import show
 
 def describe(case: Case) -> list[str]:
     """What was understood from a case, in SI with units."""
-    from .geometry import build_profile
     from .mesh.gmsh_build import expected_cells, target_size
 
     f = case.fluid
@@ -31,7 +30,7 @@ def describe(case: Case) -> list[str]:
         dim = "angle" if "angle" in key else "length"
         params.append(f"{key} {show(value, dim)}")
     lines.append(f"bore      template {b.template}" + (": " + ", ".join(params) if params else ""))
-    p = build_profile(case)
+    p = case.profile
     lines.append(
         f"profile   x {show(p.x_inlet, 'length')} to {show(p.x_outlet, 'length')}, inlet radius {show(p.r_inlet, 'length')}, "
         f"outlet radius {show(p.r_outlet, 'length')}, smallest channel height {show(p.min_channel_height, 'length')}, "

@@ -25,10 +25,11 @@ WATER_T_MAX = 473.15
 
 
 def water_vapour_pressure(temperature: float) -> float:
-    """Saturation pressure of water [Pa] at ``temperature`` [K] (IAPWS-IF97 region 4)."""
-    from iapws.iapws97 import _PSat_T
+    """Saturation pressure of water [Pa] at ``temperature`` [K] (IAPWS-IF97 region 4, the saturated
+    liquid state of the iapws package's public IAPWS97 class)."""
+    from iapws import IAPWS97
 
-    return float(_PSat_T(temperature)) * 1e6
+    return float(IAPWS97(T=temperature, x=0.0).P) * 1e6
 
 
 def water_density(temperature: float, pressure_abs: float) -> float:

@@ -97,11 +97,6 @@ def flow_rate_kind(value: object) -> str:
 
 # ---------------------------------------------------------------------------------------------
 # display
-_DISPLAY = {
-    "length": [(1e-3, "mm"), (1.0, "m")],
-    "pressure": [(1.0, "Pa"), (1e3, "kPa"), (1e5, "bar"), (1e6, "MPa")],
-    "force": [(1.0, "N"), (1e3, "kN"), (1e6, "MN")],
-}
 
 
 def show(value: float, dimension: str, digits: int = 4) -> str:

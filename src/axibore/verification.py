@@ -14,7 +14,7 @@ import numpy as np
 from .geometry import Segment
 from .mesh.gmsh_build import mesh_loop
 from .solvers.potential import BoundaryCondition, solve_potential
-from .solvers.reconstruct import boundary_gradients
+from .numerics.reconstruct import boundary_gradients
 
 
 @dataclass(frozen=True)
@@ -68,9 +68,9 @@ def cone_sink(h: float, half_angle_deg: float = 30.0, r1: float = 0.5, r2: float
     cp_exact = -((Q / (om * rho_s**2)) ** 2) / q_ref**2
     err = np.abs(cp - cp_exact)
     p = -0.5 * (g[0] ** 2 + g[1] ** 2)
-    force = 2 * math.pi * float(np.sum(p * mesh.face_normal[wf, 0] * mesh.face_area[wf]))
+    force = mesh.revolution * float(np.sum(p * mesh.face_normal[wf, 0] * mesh.face_area[wf]))
     force_exact = math.pi * sa**2 * (-0.5 * (Q / om) ** 2 * (r1**-2 - r2**-2))
-    flow = 2 * math.pi * float(field.face_flux[mesh.boundary["outlet"]].sum())
+    flow = mesh.revolution * float(field.face_flux[mesh.boundary["outlet"]].sum())
     return ConeSinkResult(h, mesh.n_cells, float(np.sqrt(np.mean(err**2))), float(err.max()), force, force_exact, flow, Q)
 
 
@@ -120,7 +120,7 @@ def sphere_in_stream(h: float, R: float = 1.0, R_far: float = 6.0) -> SphereResu
     theta = np.arctan2(xf[wf, 1], -xf[wf, 0])  # from the front stagnation point
     cp_exact = 1.0 - 2.25 * np.sin(theta) ** 2
     # force coefficient on q pi R^2 with q = 1/2: p - p_inf = q Cp
-    dF = 2 * math.pi * 0.5 * cp * mesh.face_normal[wf, 0] * mesh.face_area[wf] / (0.5 * math.pi * R**2)
+    dF = mesh.revolution * 0.5 * cp * mesh.face_normal[wf, 0] * mesh.face_area[wf] / (0.5 * math.pi * R**2)
     front = xf[wf, 0] < 0
     return SphereResult(h, mesh.n_cells, float(np.sqrt(np.mean((cp - cp_exact) ** 2))), float(cp.min()),
                         float(dF[front].sum()), float(dF.sum()))
@@ -128,11 +128,10 @@ def sphere_in_stream(h: float, R: float = 1.0, R_far: float = 6.0) -> SphereResu
 
 def mesh_sphere(loop, h: float, R: float):
     """Triangles of size h on the body, growing to 8 h at the far boundary."""
-    from .mesh.gmsh_build import gmsh_session, read_model, _add_geometry
+    from .mesh.gmsh_build import add_loop_surface, generate, gmsh_session
 
-    with gmsh_session() as gmsh:
-        gmsh.model.add("sphere")
-        _add_geometry(gmsh, loop, h, 1e-12)
+    with gmsh_session("sphere") as gmsh:
+        _, groups = add_loop_surface(gmsh, loop, h, 1e-9 * R)
         f = gmsh.model.mesh.field
         d = f.add("MathEval")
         f.setString(d, "F", f"{h} * (1 + 1.4 * (Sqrt(x*x + y*y) - {R}) / {R})")
@@ -140,5 +139,4 @@ def mesh_sphere(loop, h: float, R: float):
         gmsh.option.setNumber("Mesh.MeshSizeFromPoints", 0)
         gmsh.option.setNumber("Mesh.MeshSizeExtendFromBoundary", 0)
         gmsh.option.setNumber("Mesh.Algorithm", 6)
-        gmsh.model.mesh.generate(2)
-        return read_model(gmsh)
+        return generate(gmsh, groups, [1])

@@ -17,9 +17,13 @@ from functools import cached_property
 
 import numpy as np
 
+from ..names import Boundary
+
 # samples per arc / spline span used for validation and 1D areas (not for meshing)
 _ARC_SAMPLES = 48
 _SPLINE_SAMPLES_PER_SPAN = 8
+# lengths below this fraction of the bore size count as zero (coincident points, on the axis)
+GEOMETRY_TOL = 1e-9
 
 
 class ProfileError(ValueError):
@@ -114,7 +118,7 @@ class Corner:
     x: float
     r: float
     turn: float  # > 0: convex as seen from the fluid (suction peak, singular in potential flow)
-    boundary: str  # "wall" | "centerbody"
+    boundary: str  # Boundary.WALL | Boundary.CENTERBODY
     key: str
 
     @property
@@ -124,12 +128,38 @@ class Corner:
 
 @dataclass(frozen=True)
 class Profile:
-    """Wall (inlet to outlet) and optional centre body, oriented from the inlet side to the outlet side."""
+    """The outline of the fluid region as named boundary chains, each oriented from the inlet side
+    to the outlet side: the wall (inlet plane to the lip or outlet plane), an optional free-jet
+    boundary continuing it downstream, and an optional centre body.
+
+    The mesher builds its boundary groups from the chain names (``Boundary``).
+    """
 
     wall: tuple[Segment, ...]
     centerbody: tuple[Segment, ...] = ()
     name: str = ""
     notes: tuple[str, ...] = field(default=())
+    jet: tuple[Segment, ...] = ()
+    planar: bool = False  # a planar section (per unit depth) instead of a body of revolution
+
+    @property
+    def chains(self) -> dict[str, tuple[Segment, ...]]:
+        """The non-empty chains by boundary name, outer ones (wall, jet) first."""
+        out = {Boundary.WALL: self.wall, Boundary.JET: self.jet, Boundary.CENTERBODY: self.centerbody}
+        return {k: v for k, v in out.items() if v}
+
+    @property
+    def top(self) -> tuple[tuple[str, Segment], ...]:
+        """The outer boundary from the inlet plane to the outlet plane: wall, then jet."""
+        return tuple((Boundary.WALL, s) for s in self.wall) + tuple((Boundary.JET, s) for s in self.jet)
+
+    def chain_points(self, name: str) -> np.ndarray:
+        """Sampled polyline of one chain."""
+        if name == Boundary.WALL:
+            return self.wall_points
+        if name == Boundary.CENTERBODY:
+            return self.centerbody_points
+        return _chain_points(self.chains[name])
 
     # -- planes --------------------------------------------------------------------------
     @property
@@ -138,7 +168,7 @@ class Profile:
 
     @property
     def x_outlet(self) -> float:
-        return self.wall[-1].end[0]
+        return self.top[-1][1].end[0]
 
     @property
     def r_inlet(self) -> float:
@@ -146,29 +176,30 @@ class Profile:
 
     @property
     def r_outlet(self) -> float:
-        return self.wall[-1].end[1]
+        return self.top[-1][1].end[1]
 
     @property
     def inlet_bottom(self) -> float:
         """r where the inlet plane meets the axis or centre body."""
-        if self.centerbody and abs(self.centerbody[0].start[0] - self.x_inlet) < self._tol and self.centerbody[0].start[1] > 0:
+        if self.centerbody and abs(self.centerbody[0].start[0] - self.x_inlet) < self.tol and self.centerbody[0].start[1] > 0:
             return self.centerbody[0].start[1]
         return 0.0
 
     @property
     def outlet_bottom(self) -> float:
-        if self.centerbody and abs(self.centerbody[-1].end[0] - self.x_outlet) < self._tol and self.centerbody[-1].end[1] > 0:
+        if self.centerbody and abs(self.centerbody[-1].end[0] - self.x_outlet) < self.tol and self.centerbody[-1].end[1] > 0:
             return self.centerbody[-1].end[1]
         return 0.0
 
     @property
-    def _tol(self) -> float:
-        return 1e-9 * max(1.0, self.length_scale)
+    def tol(self) -> float:
+        """Geometric tolerance: 1e-9 of the bore size (lengths below it are zero)."""
+        return GEOMETRY_TOL * self.length_scale
 
     @cached_property
     def length_scale(self) -> float:
-        pts = self.wall_points
-        return float(np.ptp(pts[:, 0]) + pts[:, 1].max())
+        pts = np.vstack([s.sample() for _, s in self.top])
+        return float(np.ptp(pts[:, 0]) + np.abs(pts[:, 1]).max())
 
     # -- sampled polylines ----------------------------------------------------------------
     @cached_property
@@ -186,15 +217,15 @@ class Profile:
         if self.centerbody:
             a, b = self.centerbody[0].start, self.centerbody[-1].end
             if self.inlet_bottom == 0.0:
-                out.append(("axis", Segment((xi, 0.0), (a[0], 0.0), key="axis")))
-            out += [("centerbody", s) for s in self.centerbody]
+                out.append((Boundary.AXIS, Segment((xi, 0.0), (a[0], 0.0), key="axis")))
+            out += [(Boundary.CENTERBODY, s) for s in self.centerbody]
             if self.outlet_bottom == 0.0:
-                out.append(("axis", Segment((b[0], 0.0), (xo, 0.0), key="axis")))
+                out.append((Boundary.AXIS, Segment((b[0], 0.0), (xo, 0.0), key="axis")))
         else:
-            out.append(("axis", Segment((xi, 0.0), (xo, 0.0), key="axis")))
-        out.append(("outlet", Segment((xo, self.outlet_bottom), (xo, self.r_outlet), key="outlet plane")))
-        out += [("wall", s.reversed()) for s in reversed(self.wall)]
-        out.append(("inlet", Segment((xi, self.r_inlet), (xi, self.inlet_bottom), key="inlet plane")))
+            out.append((Boundary.AXIS, Segment((xi, 0.0), (xo, 0.0), key="axis")))
+        out.append((Boundary.OUTLET, Segment((xo, self.outlet_bottom), (xo, self.r_outlet), key="outlet plane")))
+        out += [(g, s.reversed()) for g, s in reversed(self.top)]
+        out.append((Boundary.INLET, Segment((xi, self.r_inlet), (xi, self.inlet_bottom), key="inlet plane")))
         return out
 
     @cached_property
@@ -238,7 +269,7 @@ class Profile:
     @property
     def monotone(self) -> bool:
         """True when the wall never runs backwards in x (a 1D model along x is meaningful)."""
-        return bool(np.all(np.diff(self.wall_points[:, 0]) >= -self._tol))
+        return bool(np.all(np.diff(self.wall_points[:, 0]) >= -self.tol))
 
     @cached_property
     def min_channel_height(self) -> float:
@@ -252,8 +283,8 @@ class Profile:
     def corners(self, min_turn_deg: float = 2.0) -> list[Corner]:
         """Junctions with a tangent break of more than ``min_turn_deg``, convex ones flagged."""
         out = []
-        for group, chain, fluid_side in (("wall", self.wall, -1.0), ("centerbody", self.centerbody, 1.0)):
-            for a, b in zip(chain[:-1], chain[1:]):
+        for group, chain, fluid_side in ((Boundary.WALL, self.wall, -1.0), (Boundary.CENTERBODY, self.centerbody, 1.0)):
+            for a, b in zip(chain[:-1], chain[1:]):  # tangent breaks inside the chain
                 t0, t1 = a.tangent_at("end"), b.tangent_at("start")
                 cross = t0[0] * t1[1] - t0[1] * t1[0]
                 ang = math.atan2(cross, float(t0 @ t1))

@@ -12,7 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .profile import Profile, ProfileError, Segment
+from .profile import GEOMETRY_TOL, Profile, ProfileError, Segment
 from .validate import validate
 
 # Contraction curve of the "contoured" template: the fifth-order polynomial
@@ -161,9 +161,9 @@ def _read_points(path: Path, key: str) -> np.ndarray:
     return np.array(pts)
 
 
-def build_profile(case) -> Profile:
-    """The validated meridional profile of ``case.bore`` (a Case or anything with .bore and .resolve_path)."""
-    b = case.bore
+def build_profile(bore, base_dir: Path | None = None) -> Profile:
+    """The validated meridional profile of a bore section (``base_dir``: where a points file is looked for)."""
+    b = bore
     t = b.template
     cb_chain: list[Segment] = []
     notes: list[str] = []
@@ -227,7 +227,7 @@ def build_profile(case) -> Profile:
     elif t == "segments":
         wall = _chain_from_spec(b.start, b.segment, "bore")
     elif t == "points":
-        path = case.resolve_path(b.file)
+        path = Path(b.file) if Path(b.file).is_absolute() else Path(base_dir or Path.cwd()) / b.file
         pts = _read_points(path, "bore.file")
         if b.smooth and len(pts) > 2:
             even = smooth_resample(pts)
@@ -243,7 +243,7 @@ def build_profile(case) -> Profile:
     x_in, x_out = wall[0].start[0], wall[-1].end[0]
     scale = max(abs(x_out - x_in), max(max(s.start[1], s.end[1]) for s in wall))
     if cb_chain:
-        cb_chain = _orient_centerbody(cb_chain, x_in, x_out, 1e-9 * scale)
+        cb_chain = _orient_centerbody(cb_chain, x_in, x_out, GEOMETRY_TOL * scale)
     profile = Profile(tuple(wall), tuple(cb_chain), name=t, notes=tuple(notes))
     return validate(profile)
 

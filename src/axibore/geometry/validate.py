@@ -11,7 +11,7 @@ def validate(profile: Profile) -> Profile:
     """Raise ProfileError naming the offending segment; return the profile when it is valid."""
     scale = profile.length_scale
     tol = 1e-9 * scale
-    chains = [("wall", profile.wall), ("centerbody", profile.centerbody)]
+    chains = list(profile.chains.items())
     for _, chain in chains:
         for seg in chain:
             _check_segment(seg, tol)
@@ -88,7 +88,13 @@ def _check_centerbody(profile: Profile, tol: float) -> None:
 
 
 def _check_simple(profile: Profile, tol: float) -> None:
-    """No two non-adjacent pieces of the closed outline touch or cross."""
+    """No two non-adjacent pieces of the closed outline touch or cross.
+
+    Candidate pairs come from an R-tree of the sampled pieces (shapely STRtree, O(n log n));
+    only those are tested exactly, vectorised.
+    """
+    import shapely
+
     pts, keys = [], []
     for _, seg in profile.loop():
         p = seg.sample()[:-1]
@@ -97,23 +103,24 @@ def _check_simple(profile: Profile, tol: float) -> None:
     p = np.vstack(pts)
     n = len(p)
     a, b = p, np.roll(p, -1, axis=0)
-    block = max(1, 2_000_000 // max(n, 1))
-    for s in range(0, n, block):
-        i = np.arange(s, min(s + block, n))[:, None]
-        j = np.arange(n)[None, :]
-        pair = (j >= i + 2) & ~((i == 0) & (j == n - 1))
-        ii, jj = np.nonzero(pair)
-        ii, jj = ii + s, jj
-        hit = _segments_touch(a[ii], b[ii], a[jj], b[jj], tol)
-        if not np.any(hit):
-            continue
-        k = int(np.flatnonzero(hit)[0])
-        ki, kj = keys[ii[k]], keys[jj[k]]
-        where = a[ii[k]]
-        if ki == kj:
-            raise ProfileError(ki, f"crosses itself near ({where[0]:.6g}, {where[1]:.6g}) m")
-        first, second = (ki, kj) if not ki.endswith("plane") and ki != "axis" else (kj, ki)
-        raise ProfileError(first, f"crosses or touches {second} near ({where[0]:.6g}, {where[1]:.6g}) m: the outline must be simple")
+    lines = shapely.linestrings(np.stack([a, b], axis=1))
+    tree = shapely.STRtree(lines)
+    ii, jj = tree.query(lines, predicate="dwithin", distance=tol)
+    pair = (jj >= ii + 2) & ~((ii == 0) & (jj == n - 1))
+    ii, jj = ii[pair], jj[pair]
+    if ii.size == 0:
+        return
+    hit = _segments_touch(a[ii], b[ii], a[jj], b[jj], tol)
+    if not np.any(hit):
+        return
+    k = int(np.flatnonzero(hit)[np.argmin(ii[hit])])  # the first crossing along the outline
+    ki, kj = keys[ii[k]], keys[jj[k]]
+    where = a[ii[k]]
+    if ki == kj:
+        raise ProfileError(ki, f"crosses itself near ({where[0]:.6g}, {where[1]:.6g}) m")
+    first, second = (ki, kj) if not ki.endswith("plane") and ki != "axis" else (kj, ki)
+    raise ProfileError(first, f"crosses or touches {second} near ({where[0]:.6g}, {where[1]:.6g}) m: the outline must be simple")
+
 
 def _segments_touch(p1, p2, q1, q2, tol):
     """Vectorised test: closed segments p1p2 and q1q2 intersect (or come within tol)."""

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import csv
+import io
 import os
 import shutil
 import tempfile
@@ -67,21 +69,24 @@ def atomic_dir(path: str | Path):
 
 
 def write_csv(path: str | Path, columns: dict[str, np.ndarray], header_comment: str = "") -> Path:
-    """Write named columns as CSV (atomically)."""
+    """Write named numeric columns as CSV (csv module, atomically); ``header_comment`` lines start with '#'."""
     names = list(columns)
-    data = np.column_stack([np.asarray(columns[n], float) for n in names])
-    lines = []
-    if header_comment:
-        lines += [f"# {line}" for line in header_comment.splitlines()]
-    lines.append(",".join(names))
-    lines += [",".join(f"{v:.10g}" for v in row) for row in data]
-    return atomic_write_text(path, "\n".join(lines) + "\n")
+    data = np.column_stack([np.asarray(columns[n], float) for n in names]) if names else np.zeros((0, 0))
+    buf = io.StringIO()
+    for line in header_comment.splitlines():
+        buf.write(f"# {line}\n")
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(names)
+    w.writerows([[f"{v:.10g}" for v in row] for row in data])
+    return atomic_write_text(path, buf.getvalue())
 
 
 def read_csv(path: str | Path) -> dict[str, np.ndarray]:
-    rows = [ln for ln in Path(path).read_text(encoding="utf-8").splitlines() if ln and not ln.startswith("#")]
-    names = rows[0].split(",")
-    data = np.array([[float(v) for v in ln.split(",")] for ln in rows[1:]]).reshape(-1, len(names))
+    """Named numeric columns of a CSV written by ``write_csv`` ('#' lines skipped)."""
+    lines = [ln for ln in Path(path).read_text(encoding="utf-8").splitlines() if ln and not ln.startswith("#")]
+    rows = list(csv.reader(lines))
+    names = rows[0]
+    data = np.array([[float(v) for v in row] for row in rows[1:]], float).reshape(-1, len(names))
     return {n: data[:, i] for i, n in enumerate(names)}
 
 

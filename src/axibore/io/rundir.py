@@ -1,4 +1,5 @@
-"""Run directories: case.toml, mesh.msh, fields.vtu, wall.csv, summary.json (the index).
+"""Run directories: case.toml, mesh.msh, fields.vtu, wall.csv, solver_history.csv, summary.json
+(the index, written last), report.html.
 
 ``write_run`` writes into a directory that ``run_case`` has made temporary and renames when
 complete; ``read_summary`` reads a run back.
@@ -13,11 +14,25 @@ from pathlib import Path
 import numpy as np
 
 from .files import atomic_write_text, write_csv, write_vtu
+from .summary import dumps
 
 WALL_HEADER = (
     "axibore wall table: faces in order of arc length s from the inlet; p_gauge relative to ambient;\n"
     "n = unit normal out of the fluid; cumulative_force_x_N = axial force on the part from the inlet to this face"
 )
+
+
+def cell_fields(mesh, flow) -> dict[str, np.ndarray]:
+    """The cell data of fields.vtu from a FlowResult."""
+    vel3 = np.column_stack([flow.velocity[0], flow.velocity[1], np.zeros(mesh.n_cells)])
+    out = {"velocity_m_s": vel3, "speed_m_s": flow.speed, "p_gauge_Pa": flow.pressure, "cp": flow.cp,
+           "density_kg_m3": flow.density}
+    if flow.temperature is not None:
+        out["temperature_K"] = flow.temperature
+    if flow.mach is not None:
+        out["mach"] = flow.mach
+    out.update(flow.extra_fields)
+    return out
 
 
 def write_run(res, out: Path) -> None:
@@ -31,15 +46,9 @@ def write_run(res, out: Path) -> None:
     t0 = time.perf_counter()
     out = Path(out)
     atomic_write_text(out / "case.toml", "# resolved case: every quantity in SI units\n" + tomli_w.dumps(resolved_dict(res.case)))
-    mesh = res.mesh.mesh
-    fl = res.flow
-    vel3 = np.column_stack([fl.velocity[0], fl.velocity[1], np.zeros(mesh.n_cells)])
-    write_vtu(out / "fields.vtu", mesh, {
-        "velocity_m_s": vel3,
-        "speed_m_s": fl.speed,
-        "p_gauge_Pa": fl.pressure,
-        "cp": (fl.pressure - fl.outlet_pressure) / fl.outlet_dynamic_pressure,
-    }, {"stream_function_m3_s": stream_function(mesh, fl.face_flux)})
+    mesh, flow = res.mesh, res.flow
+    write_vtu(out / "fields.vtu", mesh, cell_fields(mesh, flow),
+              {"stream_function_m3_s": stream_function(mesh, flow.face_mass_flux / flow.inlet_density)})
     tables = {}
     for name, t in res.tables.items():
         cols = t.columns()
@@ -49,8 +58,25 @@ def write_run(res, out: Path) -> None:
         write_csv(out / f"{name}.csv", cols, WALL_HEADER)
         tables[name] = cols
     write_wall_load(out, tables)
+    hist = np.asarray(flow.record.residual_history, float)
+    write_csv(out / "solver_history.csv", {"iteration": np.arange(1, hist.size + 1), "residual": hist},
+              f"axibore {flow.record.solver} solve: residual after each iteration ({flow.record.method}); {flow.record.criterion}")
     res.seconds["write"] = time.perf_counter() - t0
-    atomic_write_text(out / "summary.json", json.dumps(res.summary(), indent=2) + "\n")
+    atomic_write_text(out / "summary.json", dumps(res.summary()))
+
+
+def write_report(run_dir: Path, shown_dir: Path | None = None) -> str | None:
+    """Build report.html; on failure keep the run's numbers, write report_error.txt and return why."""
+    from ..view.report import build_report
+
+    try:
+        build_report(run_dir, shown_dir=shown_dir)
+        return None
+    except Exception as exc:  # the numbers are complete without the report: keep them, say why
+        why = f"{type(exc).__name__}: {exc}"
+        atomic_write_text(Path(run_dir) / "report_error.txt", f"report.html was not built: {why}\n"
+                          "rebuild it with `axibore report RUN_DIR`\n")
+        return why
 
 
 def read_summary(run_dir: str | Path) -> dict:

@@ -2,7 +2,8 @@
 
 All measures of revolution are **per radian**: ``face_area = length * r_face`` is the integral of
 r dl over a straight face (exact), ``cell_volume = area * r_centroid`` the integral of r dA over
-a cell (theorem of Pappus, exact). Multiply by 2 pi for full 360-degree values.
+a cell (theorem of Pappus, exact). Multiply by ``revolution`` (2 pi) for full 360-degree values.
+A planar mesh (``planar=True``) has measures per unit depth and ``revolution`` 1.
 """
 
 from __future__ import annotations
@@ -11,6 +12,8 @@ from dataclasses import dataclass, field
 from functools import cached_property
 
 import numpy as np
+
+from ..names import TWO_PI
 
 
 class MeshError(ValueError):
@@ -25,10 +28,12 @@ class FVMesh:
     owner: np.ndarray  # (F,)
     neighbour: np.ndarray  # (F,) -1 on boundary faces
     boundary: dict[str, np.ndarray] = field(default_factory=dict)  # name -> face ids
+    planar: bool = False  # planar (per unit depth) instead of axisymmetric (per radian)
 
     # ---- construction -----------------------------------------------------------------------
     @classmethod
-    def from_cells(cls, nodes: np.ndarray, cells: np.ndarray, boundary_edges: dict[str, np.ndarray]) -> "FVMesh":
+    def from_cells(cls, nodes: np.ndarray, cells: np.ndarray, boundary_edges: dict[str, np.ndarray],
+                   planar: bool = False) -> "FVMesh":
         """Build faces from cell connectivity and name boundary faces from node-pair lists.
 
         ``cells`` is (C, 3) or (C, 4) (-1 padding allowed in the fourth column); orientation is
@@ -92,7 +97,7 @@ class FVMesh:
         if np.any(assigned != 1):
             n0, n2 = int(np.sum(assigned == 0)), int(np.sum(assigned > 1))
             raise MeshError(f"every boundary face must be in exactly one named group: {n0} in none, {n2} in several")
-        return cls(nodes, cells, face_nodes, owner, neighbour, boundary)
+        return cls(nodes, cells, face_nodes, owner, neighbour, boundary, planar)
 
     # ---- sizes ------------------------------------------------------------------------------
     @property
@@ -136,8 +141,13 @@ class FVMesh:
 
     @cached_property
     def face_area(self) -> np.ndarray:
-        """Integral of r dl over each face, per radian."""
-        return self.face_length * self.face_centroid[:, 1]
+        """Integral of r dl over each face, per radian (planar: the face length, per unit depth)."""
+        return self.face_length if self.planar else self.face_length * self.face_centroid[:, 1]
+
+    @property
+    def revolution(self) -> float:
+        """Factor from the mesh measures to full values: 2 pi (axisymmetric) or 1 (planar, per unit depth)."""
+        return 1.0 if self.planar else TWO_PI
 
     # ---- cell geometry ----------------------------------------------------------------------
     @cached_property
@@ -160,8 +170,8 @@ class FVMesh:
 
     @cached_property
     def cell_volume(self) -> np.ndarray:
-        """Integral of r dA over each cell, per radian (Pappus)."""
-        return self.cell_area * self.cell_centroid[:, 1]
+        """Integral of r dA over each cell, per radian (Pappus); planar: the cell area."""
+        return self.cell_area if self.planar else self.cell_area * self.cell_centroid[:, 1]
 
     @property
     def h(self) -> float:

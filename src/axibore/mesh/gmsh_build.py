@@ -27,7 +27,9 @@ CORNER_REACH = 6.0  # distance (in target sizes) over which the corner refinemen
 
 
 @dataclass(frozen=True)
-class MeshResult:
+class MeshBuild:
+    """A built mesh and how it was built."""
+
     mesh: FVMesh
     h_target: float
     seconds: float
@@ -41,20 +43,57 @@ def target_size(profile: Profile, size: float, level: int) -> float:
     return size * profile.min_channel_height * 2.0 ** (-level / 2.0)
 
 
+# Gmsh options this module sets; saved and restored when the caller already has a Gmsh session.
+_OPTIONS = ("General.Terminal", "General.Verbosity", "Mesh.MeshSizeMax", "Mesh.MeshSizeMin", "Mesh.MeshSizeFromCurvature",
+            "Mesh.MeshSizeExtendFromBoundary", "Mesh.MeshSizeFromPoints", "Mesh.Algorithm", "Mesh.RecombineAll",
+            "Mesh.RecombinationAlgorithm")
+
+
 @contextmanager
-def gmsh_session():
-    """Initialise Gmsh on entry and finalise it on exit (one model at a time per process)."""
+def gmsh_session(name: str = "axibore"):
+    """A Gmsh model of our own for the duration of the block.
+
+    Where no Gmsh session exists, one is initialised and finalised again. Where the caller
+    already has one, it is left open: a new model is added and removed afterwards, the caller's
+    current model is made current again and the options set here are restored.
+    """
     import gmsh
 
-    if gmsh.isInitialized():
-        gmsh.finalize()
-    gmsh.initialize(readConfigFiles=False, interruptible=False)
+    owned = not gmsh.isInitialized()
+    if owned:
+        gmsh.initialize(readConfigFiles=False, interruptible=False)
+        previous, saved = None, {}
+    else:
+        previous = gmsh.model.getCurrent()
+        saved = {k: gmsh.option.getNumber(k) for k in _OPTIONS}
     gmsh.option.setNumber("General.Terminal", 0)
     gmsh.option.setNumber("General.Verbosity", 1)
+    gmsh.model.add(f"{name}-{id(saved):x}")
     try:
         yield gmsh
     finally:
-        gmsh.finalize()
+        if owned:
+            gmsh.finalize()
+        else:
+            gmsh.model.remove()
+            for k, v in saved.items():
+                gmsh.option.setNumber(k, v)
+            if previous:
+                gmsh.model.setCurrent(previous)
+
+
+def generate(gmsh, groups: dict[str, list[int]], surfaces: list[int], msh_path: str | Path | None = None,
+             planar: bool = False) -> FVMesh:
+    """Name the boundary groups, mesh the surfaces, optionally write the .msh file, and read the
+    result into an FVMesh (the one generate-and-read path of every mesher)."""
+    for name, tags in groups.items():
+        if tags:
+            gmsh.model.addPhysicalGroup(1, tags, name=str(name))
+    gmsh.model.addPhysicalGroup(2, surfaces, name="fluid")
+    gmsh.model.mesh.generate(2)
+    if msh_path is not None:
+        gmsh.write(str(msh_path))
+    return read_model(gmsh, planar=planar)
 
 
 class GeoBuilder:
@@ -83,8 +122,8 @@ class GeoBuilder:
         return self.geo.addSpline([a, *via, b])
 
 
-def _add_geometry(gmsh, loop_segments, h: float, tol: float) -> list[tuple[int, object]]:
-    """One plane surface bounded by the loop, physical groups by name; returns (curve tag, segment)."""
+def add_loop_surface(gmsh, loop_segments, h: float, tol: float) -> tuple[list[tuple[int, object]], dict[str, list[int]]]:
+    """One plane surface (tag 1) bounded by the loop; returns (curve tag, segment) and the curve tags by group."""
     build = GeoBuilder(gmsh, tol, h)
     groups: dict[str, list[int]] = {}
     curves = []
@@ -95,10 +134,7 @@ def _add_geometry(gmsh, loop_segments, h: float, tol: float) -> list[tuple[int, 
     cl = build.geo.addCurveLoop([c for c, _ in curves])
     build.geo.addPlaneSurface([cl], tag=1)
     build.geo.synchronize()
-    for name, tags in groups.items():
-        gmsh.model.addPhysicalGroup(1, tags, name=name)
-    gmsh.model.addPhysicalGroup(2, [1], name="fluid")
-    return curves
+    return curves, groups
 
 
 def _min_curvature_radius(seg) -> float:
@@ -159,7 +195,7 @@ def _set_options(gmsh, h: float, cells: str) -> None:
         opt("Mesh.RecombinationAlgorithm", _RECOMBINATION_SIMPLE_FULL_QUAD)
 
 
-def read_model(gmsh) -> FVMesh:
+def read_model(gmsh, planar: bool = False) -> FVMesh:
     """FVMesh of the current Gmsh model (2D elements of the surface, 1D elements of groups)."""
     tags, coords, _ = gmsh.model.mesh.getNodes()
     tags = np.asarray(tags, np.int64)
@@ -194,20 +230,19 @@ def read_model(gmsh) -> FVMesh:
     renum = np.cumsum(used) - 1
     cells = np.where(cells >= 0, renum[np.maximum(cells, 0)], -1)
     bnd = {k: renum[np.vstack(v)] for k, v in edges.items()}
-    return FVMesh.from_cells(xy[used], cells, bnd)
+    return FVMesh.from_cells(xy[used], cells, bnd, planar=planar)
 
 
 def mesh_loop(loop_segments, h: float, cells: str = "triangles", corners=(), msh_path: str | Path | None = None,
-              tol: float = 1e-12, mapped: bool = False) -> FVMesh:
+              tol: float = 1e-12, mapped: bool = False, planar: bool = False) -> FVMesh:
     """Mesh the region inside a closed counter-clockwise loop of (group name, Segment).
 
     ``corners``: (x, r) points refined to CORNER_FACTOR * h. ``mapped``: a loop of four
     segments meshed transfinitely with quads (opposite sides get the larger count of cells of
     size h). Used for bores and for the verification geometries of exact solutions.
     """
-    with gmsh_session() as gmsh:
-        gmsh.model.add("bore")
-        curves = _add_geometry(gmsh, loop_segments, h, tol)
+    with gmsh_session("bore") as gmsh:
+        curves, groups = add_loop_surface(gmsh, loop_segments, h, tol)
         if mapped:
             if len(curves) != 4:
                 raise ValueError("a mapped mesh needs a loop of four segments")
@@ -219,14 +254,11 @@ def mesh_loop(loop_segments, h: float, cells: str = "triangles", corners=(), msh
         else:
             _add_size_fields(gmsh, list(corners), h, curves)
             _set_options(gmsh, h, cells)
-        gmsh.model.mesh.generate(2)
-        if msh_path is not None:
-            gmsh.write(str(msh_path))
-        return read_model(gmsh)
+        return generate(gmsh, groups, [1], msh_path, planar=planar)
 
 
 def mesh_profile(profile: Profile, size: float = 0.05, level: int = 0, cells: str = "triangles",
-                 msh_path: str | Path | None = None) -> MeshResult:
+                 msh_path: str | Path | None = None) -> MeshBuild:
     """Mesh the fluid region of ``profile``; optionally write the Gmsh .msh file."""
     from .mapped import NotMappable, mesh_mapped
 
@@ -235,12 +267,12 @@ def mesh_profile(profile: Profile, size: float = 0.05, level: int = 0, cells: st
     if cells == "quads":
         try:
             fv = mesh_mapped(profile, h, msh_path)
-            return MeshResult(fv, h, time.perf_counter() - t0, level, cells, "mapped quads")
+            return MeshBuild(fv, h, time.perf_counter() - t0, level, cells, "mapped quads")
         except NotMappable:
             pass
     corners = [(c.x, c.r) for c in profile.corners() if c.convex]
-    fv = mesh_loop(profile.loop(), h, cells, corners, msh_path, tol=1e-10 * profile.length_scale)
-    return MeshResult(fv, h, time.perf_counter() - t0, level, cells, f"unstructured {cells}")
+    fv = mesh_loop(profile.loop(), h, cells, corners, msh_path, tol=0.1 * profile.tol, planar=profile.planar)
+    return MeshBuild(fv, h, time.perf_counter() - t0, level, cells, f"unstructured {cells}")
 
 
 def expected_cells(profile: Profile, size: float, level: int) -> float:
@@ -249,4 +281,4 @@ def expected_cells(profile: Profile, size: float, level: int) -> float:
     return 2.3 * profile.area / (h * h)
 
 
-__all__ = ["MeshResult", "mesh_loop", "mesh_profile", "target_size", "gmsh_session", "read_model", "expected_cells"]
+__all__ = ["MeshBuild", "generate", "mesh_loop", "mesh_profile", "target_size", "gmsh_session", "read_model", "expected_cells"]

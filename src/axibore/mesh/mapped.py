@@ -14,7 +14,8 @@ import math
 import numpy as np
 
 from ..geometry import Profile, Segment
-from ..geometry.profile import _catmull_rom
+from ..names import Boundary
+from ..geometry.profile import GEOMETRY_TOL, _catmull_rom
 from .fvmesh import FVMesh
 
 
@@ -22,15 +23,15 @@ class NotMappable(ValueError):
     """The profile cannot be cut into four-sided blocks (it runs backwards in x)."""
 
 
-def _x_monotone(seg: Segment) -> bool:
+def _x_monotone(seg: Segment, tol: float) -> bool:
     x = seg.sample(200)[:, 0] if seg.kind == "arc" else seg.sample()[:, 0]
     dx = np.diff(x)
-    return bool(np.all(dx >= -1e-12) or np.all(dx <= 1e-12))
+    return bool(np.all(dx >= -tol) or np.all(dx <= tol))
 
 
 def _point_at_x(seg: Segment, x: float) -> tuple[float, float]:
     (x0, r0), (x1, r1) = seg.start, seg.end
-    tol = 1e-9 * seg.chord
+    tol = GEOMETRY_TOL * seg.chord
     if abs(x - x0) <= tol:
         return seg.start
     if abs(x - x1) <= tol:
@@ -64,61 +65,68 @@ def _piece(seg: Segment, xa: float, xb: float) -> Segment:
         return Segment(a, b, "arc", s.radius, key=s.key)
     pts = np.array([s.start, *s.via, s.end])
     dense = _catmull_rom(pts, 6)
-    inside = dense[(dense[:, 0] > xa + 1e-9 * abs(xb - xa)) & (dense[:, 0] < xb - 1e-9 * abs(xb - xa))]
+    eps = GEOMETRY_TOL * abs(xb - xa)
+    inside = dense[(dense[:, 0] > xa + eps) & (dense[:, 0] < xb - eps)]
     if len(inside) == 0:
         return Segment(a, b, key=s.key)
     return Segment(a, b, "spline", via=tuple(map(tuple, inside)), key=s.key)
 
 
-def _cover(chain, xa: float, xb: float):
-    """The segment of ``chain`` spanning [xa, xb], or None."""
+def _cover(chain, xa: float, xb: float, tol: float):
+    """The (group, segment) of ``chain`` spanning [xa, xb], or None."""
     mid = 0.5 * (xa + xb)
-    for s in chain:
+    for group, s in chain:
         lo, hi = sorted((s.start[0], s.end[0]))
-        if lo - 1e-12 <= mid <= hi + 1e-12 and hi - lo > 0:
-            return s
+        if lo - tol <= mid <= hi + tol and hi - lo > 0:
+            return group, s
     return None
 
 
-def blocks(profile: Profile) -> list[tuple[Segment, Segment, str]]:
-    """(bottom, top, bottom group) for each block, in +x order."""
-    for chain in (profile.wall, profile.centerbody):
-        for s in chain:
-            if not _x_monotone(s) or abs(s.end[0] - s.start[0]) <= 1e-12 * profile.length_scale:
-                raise NotMappable(f"{s.key} runs normal to or backwards along the axis")
+def blocks(profile: Profile) -> list[tuple[Segment, Segment, str, str]]:
+    """(bottom, top, bottom group, top group) for each block, in +x order.
+
+    The groups come from the profile's chains: the top is the wall (or the jet beyond the lip),
+    the bottom the centre body where there is one, else the axis.
+    """
+    tol = profile.tol
+    top_chain = list(profile.top)
+    bottom_chain = [(Boundary.CENTERBODY, s) for s in profile.centerbody]
+    for _, s in top_chain + bottom_chain:
+        if not _x_monotone(s, tol) or abs(s.end[0] - s.start[0]) <= tol:
+            raise NotMappable(f"{s.key} runs normal to or backwards along the axis")
     xs = [profile.x_inlet, profile.x_outlet]
-    xs += [p for s in profile.wall for p in (s.start[0], s.end[0])]
-    xs += [p for s in profile.centerbody for p in (s.start[0], s.end[0])]
-    tol = 1e-9 * profile.length_scale
+    xs += [p for _, s in top_chain + bottom_chain for p in (s.start[0], s.end[0])]
     xs = np.sort(np.array(xs))
     xs = xs[np.r_[True, np.diff(xs) > tol]]  # merge coincident break points, keep exact values
     xs = xs[(xs >= profile.x_inlet - tol) & (xs <= profile.x_outlet + tol)]
     out = []
     for xa, xb in zip(xs[:-1], xs[1:]):
-        top = _cover(profile.wall, xa, xb)
+        top = _cover(top_chain, xa, xb, tol)
         if top is None:
             raise NotMappable(f"no wall over x = {xa:.6g} .. {xb:.6g} m")
-        body = _cover(profile.centerbody, xa, xb) if profile.centerbody else None
-        bottom = _piece(body, xa, xb) if body is not None else Segment((xa, 0.0), (xb, 0.0), key="axis")
-        out.append((bottom, _piece(top, xa, xb), "centerbody" if body is not None else "axis"))
+        body = _cover(bottom_chain, xa, xb, tol) if bottom_chain else None
+        if body is not None:
+            bottom, bgroup = _piece(body[1], xa, xb), body[0]
+        else:
+            bottom, bgroup = Segment((xa, 0.0), (xb, 0.0), key="axis"), Boundary.AXIS
+        out.append((bottom, _piece(top[1], xa, xb), bgroup, top[0]))
     return out
 
 
 def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
     """Transfinite quad mesh with about ``h`` along the axis and square-ish cells."""
-    from .gmsh_build import GeoBuilder, gmsh_session, read_model
+    from .gmsh_build import GeoBuilder, generate, gmsh_session
 
     blks = blocks(profile)
     heights = []
-    for bottom, top, _ in blks:
+    for bottom, top, _, _ in blks:
         pa, pb = top.sample(), bottom.sample()
         heights.append((top.start[1] - bottom.start[1], top.end[1] - bottom.end[1],
                         float(np.min(np.interp(pb[:, 0], pa[:, 0], pa[:, 1]) - pb[:, 1]))))
     h_max = max(max(a, b) for a, b, _ in heights)
     n_r = max(2, math.ceil(h_max / h))
-    tol = 1e-10 * profile.length_scale
-    with gmsh_session() as gmsh:
-        gmsh.model.add("bore-mapped")
+    tol = 0.1 * profile.tol
+    with gmsh_session("bore-mapped") as gmsh:
         build = GeoBuilder(gmsh, tol)
         geo = build.geo
         verticals: dict[int, int] = {}
@@ -131,9 +139,9 @@ def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
                 verticals[vkey(x)] = geo.addLine(build.point((x, r0)), build.point((x, r1)))
             return verticals[vkey(x)]
 
-        groups: dict[str, list[int]] = {"wall": [], "axis": [], "centerbody": []}
+        groups: dict[str, list[int]] = {}
         surfaces, transfinite = [], []
-        for (bottom, top, bgroup), (_, _, hmin) in zip(blks, heights):
+        for (bottom, top, bgroup, tgroup), (_, _, hmin) in zip(blks, heights):
             cb = build.curve(bottom)
             ct = build.curve(top)
             vl = vertical(bottom.start[0], bottom.start[1], top.start[1])
@@ -141,9 +149,9 @@ def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
             loop = geo.addCurveLoop([cb, vr, -ct, -vl])
             s = geo.addPlaneSurface([loop])
             surfaces.append(s)
-            groups["wall"].append(ct)
-            groups[bgroup].append(cb)
-            dr = max(hmin, 1e-12) / n_r  # smallest radial spacing in the block
+            groups.setdefault(tgroup, []).append(ct)
+            groups.setdefault(bgroup, []).append(cb)
+            dr = max(hmin, tol) / n_r  # smallest radial spacing in the block
             dx = min(h, max(dr, h / 8.0))
             n_x = max(1, math.ceil(max(top.length, bottom.length) / dx))
             transfinite.append((cb, ct, n_x))
@@ -158,13 +166,6 @@ def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
             gmsh.model.mesh.setRecombine(2, s)
         first = verticals[vkey(blks[0][0].start[0])]
         last = verticals[vkey(blks[-1][0].end[0])]
-        gmsh.model.addPhysicalGroup(1, [first], name="inlet")
-        gmsh.model.addPhysicalGroup(1, [last], name="outlet")
-        for name, tags in groups.items():
-            if tags:
-                gmsh.model.addPhysicalGroup(1, tags, name=name)
-        gmsh.model.addPhysicalGroup(2, surfaces, name="fluid")
-        gmsh.model.mesh.generate(2)
-        if msh_path is not None:
-            gmsh.write(str(msh_path))
-        return read_model(gmsh)
+        groups[Boundary.INLET] = [first]
+        groups[Boundary.OUTLET] = [last]
+        return generate(gmsh, groups, surfaces, msh_path, planar=profile.planar)

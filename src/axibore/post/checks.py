@@ -14,6 +14,33 @@ from dataclasses import dataclass
 import numpy as np
 
 
+# A polygonal wall (points with smooth = false) with this many gentle vertices (turns between
+# POLYGON_MIN_TURN_DEG and the corner threshold of Profile.corners) is a sampled curve, not a
+# designed polygon: its wall speed stops converging under refinement (each vertex is a small
+# corner), which is correct for the polygon but rarely what the user meant.
+POLYGON_GENTLE_VERTICES = 5
+POLYGON_MIN_TURN_DEG = 0.05
+
+
+def polygon_warnings(profile) -> list[str]:
+    out = []
+    for name, chain in profile.chains.items():
+        lines = [s for s in chain if s.kind == "line"]
+        if len(lines) < POLYGON_GENTLE_VERTICES + 1:
+            continue
+        gentle = 0
+        for a, b in zip(chain[:-1], chain[1:]):
+            if a.kind == b.kind == "line":
+                t0, t1 = a.tangent_at("end"), b.tangent_at("start")
+                ang = abs(math.degrees(math.atan2(t0[0] * t1[1] - t0[1] * t1[0], float(t0 @ t1))))
+                gentle += POLYGON_MIN_TURN_DEG < ang < 2.0
+        if gentle >= POLYGON_GENTLE_VERTICES:
+            out.append(f"the {name} is a polygon with {gentle} small turns (each below 2 deg): every vertex is a small "
+                       "corner, so the wall speed and minimum pressure near them stop converging under refinement; if the "
+                       "points sample a smooth curve, set bore.smooth = true")
+    return out
+
+
 @dataclass(frozen=True)
 class Checks:
     min_wall_gauge_Pa: float
@@ -63,8 +90,11 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
             f"wall force and momentum balance differ by {forces.reconciliation_rel:.2%}: refine the mesh (mesh.level) "
             f"before relying on the force"
         )
-    if not flow.info.converged:
-        warnings.append(f"the linear solve did not reach its tolerance (residual {flow.info.residual:.3g})")
+    if not flow.record.converged:
+        warnings.append(f"the solve did not converge ({flow.record.criterion}; residual {flow.record.residual:.3g})")
+    if flow.record.fallback:
+        warnings.append(f"linear solver fall-back: {flow.record.fallback}")
+    warnings += polygon_warnings(profile)
     if not onedim.meaningful:
         warnings.append("the wall runs backwards in x: the 1D model along x is not meaningful for this bore")
     if case.outlet.kind == "exit-plane":

@@ -1,23 +1,21 @@
-"""Wall tables and axial forces from a solved flow (sign conventions of DESIGN.md).
+"""Wall tables and axial forces from a solved flow (sign conventions: forces by the fluid on the
+part, +x downstream, from gauge pressure; the outside of the part is at ambient).
 
-Forces are those exerted by the fluid on the part, +x downstream, from gauge pressure (the
-outside of the part is at ambient):  F_x = 2 pi * sum over faces of p n_x r L, n out of the fluid.
+F_x = sum over the faces of a solid boundary of p n_x dA (n out of the fluid, dA the full face area).
 The control-volume momentum balance gives the same force from the inlet and outlet planes:
 F_x = integral_inlet (p + rho u_x^2) dA - integral_outlet (p + rho u_x^2) dA.
+Everything here reads the FlowResult (and the Profile for arc lengths), never the mesh.
 """
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
 
 import numpy as np
 
 from ..geometry import Profile
-from ..mesh import FVMesh
-from ..solvers.flow import Flow
-
-TWO_PI = 2.0 * math.pi
+from ..names import Boundary, SOLID
+from ..solvers.base import FlowResult
 
 
 @dataclass(frozen=True, eq=False)
@@ -34,7 +32,7 @@ class WallTable:
     nr: np.ndarray
     pressure: np.ndarray  # gauge [Pa]
     speed: np.ndarray  # [m/s]
-    axial_force: np.ndarray  # 2 pi p n_x r L per face [N]
+    axial_force: np.ndarray  # p n_x dA per face [N]
 
     @property
     def cumulative_force(self) -> np.ndarray:
@@ -69,19 +67,20 @@ def arc_length(points: np.ndarray, polyline: np.ndarray) -> np.ndarray:
     return out
 
 
-def wall_table(mesh: FVMesh, flow: Flow, profile: Profile, name: str = "wall") -> WallTable:
+def wall_table(flow: FlowResult, profile: Profile, name: str = Boundary.WALL) -> WallTable:
     bv = flow.boundary[name]
-    f = bv.faces
-    xf = mesh.face_centroid[f]
-    poly = profile.wall_points if name == "wall" else profile.centerbody_points
-    s = arc_length(xf, poly)
+    s = arc_length(bv.centre, profile.chain_points(name))
     order = np.argsort(s, kind="stable")
-    f, s = f[order], s[order]
+    n = bv.normal[order]
     p = bv.pressure[order]
-    n = mesh.face_normal[f]
-    axial = TWO_PI * p * n[:, 0] * mesh.face_area[f]
-    return WallTable(name, f, xf[order, 0], xf[order, 1], s, mesh.face_length[f], n[:, 0], n[:, 1], p,
-                     bv.speed[order], axial)
+    axial = p * n[:, 0] * bv.area[order]
+    return WallTable(str(name), bv.faces[order], bv.centre[order, 0], bv.centre[order, 1], s[order], bv.length[order],
+                     n[:, 0], n[:, 1], p, bv.speed[order], axial)
+
+
+def wall_tables(flow: FlowResult, profile: Profile) -> dict[str, WallTable]:
+    """A table for each solid boundary of the flow (wall, centre body)."""
+    return {str(n): wall_table(flow, profile, n) for n in SOLID if n in flow.boundary}
 
 
 @dataclass(frozen=True)
@@ -100,26 +99,22 @@ class Forces:
         return self.wall_x_N + self.centerbody_x_N
 
 
-def plane_momentum(mesh: FVMesh, flow: Flow, name: str) -> float:
-    """Integral of (p + rho u_x^2) dA over a boundary plane [N]."""
-    bv = flow.boundary[name]
-    a = TWO_PI * mesh.face_area[bv.faces]
-    return float(np.sum((bv.pressure + flow.density * bv.velocity[0] ** 2) * a))
-
-
-def onedim_force(flow: Flow) -> float:
-    """p1 A1 - p2 A2 + mdot (V1 - V2), uniform velocity on each plane, Bernoulli pressures."""
-    rho, Q = flow.density, flow.volume_flow
+def onedim_force(flow: FlowResult) -> float:
+    """p1 A1 - p2 A2 + mdot (V1 - V2), uniform velocity on each plane, Bernoulli pressures
+    (incompressible) or the mean plane pressures (compressible)."""
     V1, V2 = flow.inlet_velocity, flow.outlet_velocity
-    p1 = flow.total_pressure - 0.5 * rho * V1 * V1
-    p2 = flow.total_pressure - 0.5 * rho * V2 * V2
-    return p1 * flow.inlet_area - p2 * flow.outlet_area + rho * Q * (V1 - V2)
+    if flow.total_pressure is not None:
+        p1 = flow.total_pressure - 0.5 * flow.inlet_density * V1 * V1
+        p2 = flow.total_pressure - 0.5 * flow.outlet_density * V2 * V2
+    else:
+        p1, p2 = flow.inlet_pressure, flow.outlet_pressure
+    return p1 * flow.inlet_area - p2 * flow.outlet_area + flow.mass_flow * (V1 - V2)
 
 
-def forces(mesh: FVMesh, flow: Flow, tables: dict[str, WallTable], bolts: int | None) -> Forces:
-    wall = tables["wall"].total_force
-    body = tables["centerbody"].total_force if "centerbody" in tables else 0.0
-    m_in, m_out = plane_momentum(mesh, flow, "inlet"), plane_momentum(mesh, flow, "outlet")
+def forces(flow: FlowResult, tables: dict[str, WallTable], bolts: int | None) -> Forces:
+    wall = tables[Boundary.WALL].total_force
+    body = tables[Boundary.CENTERBODY].total_force if Boundary.CENTERBODY in tables else 0.0
+    m_in, m_out = flow.inlet.momentum_flux, flow.outlet.momentum_flux
     momentum = m_in - m_out
     scale = max(abs(momentum), 1e-12 * (abs(m_in) + abs(m_out)) + 1e-300)
     return Forces(

@@ -16,6 +16,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import breadth_first_order
 
 from ..mesh import FVMesh
+from ..names import Boundary
 
 
 def stream_function(mesh: FVMesh, face_flux: np.ndarray) -> np.ndarray:
@@ -23,7 +24,7 @@ def stream_function(mesh: FVMesh, face_flux: np.ndarray) -> np.ndarray:
     n = len(mesh.nodes)
     a, b = mesh.face_nodes[:, 0], mesh.face_nodes[:, 1]
     g = sp.coo_matrix((np.ones(a.size), (a, b)), shape=(n, n)).tocsr()
-    bottom = mesh.boundary.get("axis", mesh.boundary.get("centerbody"))
+    bottom = mesh.boundary.get(Boundary.AXIS, mesh.boundary.get(Boundary.CENTERBODY))
     root = int(mesh.face_nodes[bottom[0], 0])
     order, pred = breadth_first_order(g, root, directed=False, return_predecessors=True)
     if order.size != n:
@@ -42,4 +43,4 @@ def stream_function(mesh: FVMesh, face_flux: np.ndarray) -> np.ndarray:
             break
         val = val + val[par]
         par = par[par]
-    return 2.0 * math.pi * val
+    return mesh.revolution * val

@@ -2,10 +2,8 @@
 
 Discretisation (every operator is a sparse matrix assembled face-wise, no loop over cells):
 
-* Cell gradients by weighted least squares over the face neighbours (weights 1/|d|^2), with
-  Dirichlet faces as extra neighbours at the face centre and Neumann faces as exact rows
-  ``n . grad phi = g``. The gradient is linear in phi and in the boundary data:
-  ``grad = G phi + B data`` (exact for linear fields).
+* Cell gradients by weighted least squares (``numerics.gradients``), with Dirichlet faces as
+  extra neighbours and Neumann faces as exact rows; linear in phi and the boundary data.
 * Face flux (per radian) ``A_f (grad phi . n)_f`` with ``A_f = r_f L_f`` and the over-relaxed
   non-orthogonal correction (Jasak 1996, PhD thesis, Imperial College, sec. 3.3.1.3):
   ``n = E + T``, ``E = d / (d . n)``:  ``(grad phi . n)_f = (phi_N - phi_P)/(d . n) + T . grad_f``,
@@ -13,14 +11,19 @@ Discretisation (every operator is a sparse matrix assembled face-wise, no loop o
   implicit (it is part of the matrix), so one linear solve gives the second-order solution.
 * Boundary conditions: ``flux`` (given normal derivative g = grad phi . n, n out of the fluid)
   or ``value`` (given phi on the face).
+* The linear system goes to ``numerics.linear.solve_linear`` (SuperLU for small systems, GMRES
+  with AMG on the orthogonal part above), which records any fall-back.
 
-The system is solved by SuperLU up to DIRECT_MAX_CELLS cells, and above that by restarted GMRES
-preconditioned with algebraic multigrid (pyamg, Ruge-Stuben) built on the orthogonal, symmetric
-part of the operator, with SuperLU as the fall-back.
+``solve(case, profile, mesh)`` is the registered solver: the potential is linear in the flow
+rate, so it is solved once for a unit inlet velocity and scaled, by the given flow rate or so
+that the area-mean static pressures of the inlet and outlet planes differ by the given amount.
+Pressure follows from Bernoulli with the total head fixed by the given plane pressure (inlet if
+given, else outlet).
 """
 
 from __future__ import annotations
 
+import math
 import time
 from dataclasses import dataclass
 
@@ -28,25 +31,19 @@ import numpy as np
 import scipy.sparse as sp
 
 from ..mesh import FVMesh
+from ..names import Boundary
+from ..numerics.gradients import least_squares_gradient
+from ..numerics.linear import LinearSettings, solve_linear
+from ..numerics.reconstruct import boundary_gradients
+from .base import FlowError, FlowResult, SolveRecord, boundary_state
+
+CRITERION = "linear residual ||K phi - b|| / ||b|| below 10 x solver.tolerance (or 1e-8)"
 
 
 @dataclass(frozen=True)
 class BoundaryCondition:
     kind: str  # "flux" (normal derivative g = dphi/dn, n out of the fluid) or "value" (phi)
     value: float | np.ndarray = 0.0
-
-
-@dataclass(frozen=True)
-class SolveInfo:
-    converged: bool
-    iterations: int
-    residual: float  # ||K phi - b|| / ||b||
-    mass_imbalance: float  # (inflow - outflow) / inflow through the boundary faces
-    seconds: float
-    residual_history: tuple[float, ...] = ()
-    method: str = ""
-    seconds_assembly: float = 0.0
-    seconds_solve: float = 0.0
 
 
 @dataclass(frozen=True, eq=False)
@@ -56,10 +53,10 @@ class PotentialField:
     face_flux: np.ndarray  # (F,) per radian, out of the owner
     boundary_data: np.ndarray  # (F,) g on flux faces, phi on value faces
     is_value: np.ndarray  # (F,) bool: value (Dirichlet) faces
-    info: SolveInfo
+    record: SolveRecord
 
     def scaled(self, s: float) -> "PotentialField":
-        return PotentialField(self.phi * s, self.grad * s, self.face_flux * s, self.boundary_data * s, self.is_value, self.info)
+        return PotentialField(self.phi * s, self.grad * s, self.face_flux * s, self.boundary_data * s, self.is_value, self.record)
 
 
 @dataclass(frozen=True, eq=False)
@@ -92,22 +89,6 @@ def _boundary_kinds(mesh: FVMesh, bcs: dict[str, BoundaryCondition]) -> tuple[np
     return is_value, data
 
 
-def _scatter(idx: np.ndarray, vals: np.ndarray, n: int) -> np.ndarray:
-    """Sum (k, 2, 2) blocks into (n, 2, 2) by index (bincount per entry: faster than np.add.at)."""
-    out = np.empty((n, 2, 2))
-    for i in range(2):
-        for j in range(2):
-            out[:, i, j] = np.bincount(idx, weights=vals[:, i, j], minlength=n)
-    return out
-
-
-def _inv2(M: np.ndarray) -> np.ndarray:
-    """Inverse of each 2x2 block, in closed form."""
-    a, b, c, d = M[:, 0, 0], M[:, 0, 1], M[:, 1, 0], M[:, 1, 1]
-    det = a * d - b * c
-    return np.stack([np.stack([d, -b], -1), np.stack([-c, a], -1)], 1) / det[:, None, None]
-
-
 def assemble(mesh: FVMesh, is_value: np.ndarray) -> Operators:
     C, F = mesh.n_cells, mesh.n_faces
     c = mesh.cell_centroid
@@ -119,31 +100,13 @@ def assemble(mesh: FVMesh, is_value: np.ndarray) -> Operators:
     P, N = mesh.owner[fi], mesh.neighbour[fi]
     bval = is_value[fb]
     fD, fN = fb[bval], fb[~bval]
-    PD, PN = mesh.owner[fD], mesh.owner[fN]
-
-    # -- least-squares gradient -------------------------------------------------------------
-    d = c[N] - c[P]
-    w = 1.0 / np.einsum("ij,ij->i", d, d)
-    dD = xf[fD] - c[PD]
-    wD = 1.0 / np.einsum("ij,ij->i", dD, dD)
-    outer = w[:, None, None] * d[:, :, None] * d[:, None, :]
-    M = _scatter(np.r_[P, N, PD, PN], np.concatenate([
-        outer, outer, wD[:, None, None] * dD[:, :, None] * dD[:, None, :], n[fN][:, :, None] * n[fN][:, None, :]]), C)
-    Minv = _inv2(M)
-    vP = np.einsum("kij,kj->ki", Minv[P], w[:, None] * d)
-    vN = np.einsum("kij,kj->ki", Minv[N], w[:, None] * d)
-    vD = np.einsum("kij,kj->ki", Minv[PD], wD[:, None] * dD)
-    vNm = np.einsum("kij,kj->ki", Minv[PN], n[fN])
-
-    G, B = [], []
-    for k in range(2):
-        rows = np.r_[P, P, N, N, PD]
-        cols = np.r_[N, P, N, P, PD]
-        vals = np.r_[vP[:, k], -vP[:, k], vN[:, k], -vN[:, k], -vD[:, k]]
-        G.append(sp.coo_matrix((vals, (rows, cols)), shape=(C, C)).tocsr())
-        B.append(sp.coo_matrix((np.r_[vD[:, k], vNm[:, k]], (np.r_[PD, PN], np.r_[fD, fN])), shape=(C, F)).tocsr())
+    PD = mesh.owner[fD]
+    grad = least_squares_gradient(mesh, is_value)
+    G, B = grad.G, grad.B
 
     # -- face fluxes --------------------------------------------------------------------------
+    d = c[N] - c[P]
+    dD = xf[fD] - c[PD]
     dn = np.einsum("ij,ij->i", d, n[fi])
     a = A[fi] / dn
     T = n[fi] - d / dn[:, None]
@@ -174,44 +137,11 @@ def assemble(mesh: FVMesh, is_value: np.ndarray) -> Operators:
     K = (-(D @ flux_phi)).tocsr()
     R = (D @ flux_data).tocsr()
     K_orth = (-(D @ direct)).tocsr()
-    return Operators(tuple(G), tuple(B), flux_phi, flux_data, K, R, K_orth)
+    return Operators(G, B, flux_phi, flux_data, K, R, K_orth)
 
 
-# Below this many cells SuperLU is faster than GMRES + AMG (scripts/results/bench_potential.txt:
-# 25k cells 0.17 s vs 0.26 s; 99k cells 1.19 s vs 0.53 s).
-DIRECT_MAX_CELLS = 40_000
-
-
-def _direct(K: sp.csr_matrix, b: np.ndarray, bnorm: float, history: list[float]):
-    import scipy.sparse.linalg as spla
-
-    x = spla.spsolve(K.tocsc(), b)
-    res = float(np.linalg.norm(K @ x - b)) / bnorm
-    return x, 1, res, history + [res], "superlu"
-
-
-def _solve_linear(K: sp.csr_matrix, b: np.ndarray, K_orth: sp.csr_matrix, tol: float):
-    """SuperLU for small systems; else GMRES with an AMG preconditioner on the orthogonal part
-    (SuperLU again if GMRES stalls)."""
-    import pyamg
-    import scipy.sparse.linalg as spla
-
-    bnorm = float(np.linalg.norm(b)) or 1.0
-    if K.shape[0] <= DIRECT_MAX_CELLS:
-        return _direct(K, b, bnorm, [])
-    history: list[float] = []
-    ml = pyamg.ruge_stuben_solver(K_orth.tocsr(), max_coarse=500)
-    x, info = spla.gmres(
-        K, b, rtol=tol, atol=0.0, restart=60, maxiter=20, M=ml.aspreconditioner(cycle="V"),
-        callback=lambda rk: history.append(float(rk)), callback_type="pr_norm",
-    )
-    res = float(np.linalg.norm(K @ x - b)) / bnorm
-    if info == 0 and res < 10 * tol:
-        return x, len(history), res, history, "gmres+amg"
-    return _direct(K, b, bnorm, history)
-
-
-def solve_potential(mesh: FVMesh, bcs: dict[str, BoundaryCondition], tol: float = 1e-10) -> PotentialField:
+def solve_potential(mesh: FVMesh, bcs: dict[str, BoundaryCondition], linear: LinearSettings = LinearSettings(),
+                    say=None) -> PotentialField:
     """Solve div(r grad phi) = 0 on ``mesh`` with boundary conditions by group name.
 
     At least one ``value`` boundary is needed for a unique potential.
@@ -223,7 +153,8 @@ def solve_potential(mesh: FVMesh, bcs: dict[str, BoundaryCondition], tol: float 
     ops = assemble(mesh, is_value)
     t1 = time.perf_counter()
     b = ops.R @ data
-    phi, iters, res, hist, method = _solve_linear(ops.K, b, ops.K_orth, tol)
+    lin = solve_linear(ops.K, b, linear, preconditioner=ops.K_orth, say=say)
+    phi = lin.x
     t2 = time.perf_counter()
     grad = np.vstack([ops.G[k] @ phi + ops.B[k] @ data for k in range(2)])
     flux = ops.flux_phi @ phi + ops.flux_data @ data
@@ -232,15 +163,81 @@ def solve_potential(mesh: FVMesh, bcs: dict[str, BoundaryCondition], tol: float 
     inflow = -bf[bf < 0].sum()
     outflow = bf[bf > 0].sum()
     imbalance = float((inflow - outflow) / inflow) if inflow > 0 else 0.0
-    info = SolveInfo(
-        converged=bool(res < max(10 * tol, 1e-8)),
-        iterations=iters,
-        residual=res,
+    record = SolveRecord(
+        solver="potential",
+        converged=bool(lin.converged),
+        iterations=lin.iterations,
+        residual=lin.residual,
         mass_imbalance=imbalance,
         seconds=time.perf_counter() - t0,
-        residual_history=tuple(hist),
-        method=method,
+        method=lin.method,
+        fallback=lin.fallback,
+        criterion=CRITERION,
+        residual_history=lin.history,
         seconds_assembly=t1 - t0,
         seconds_solve=t2 - t1,
+        settings=linear.as_dict(),
     )
-    return PotentialField(phi, grad, flux, data, is_value, info)
+    return PotentialField(phi, grad, flux, data, is_value, record)
+
+
+def _plane_mean_q2(mesh: FVMesh, faces: np.ndarray, g: np.ndarray) -> float:
+    a = mesh.face_area[faces]
+    return float(np.sum((g[0] ** 2 + g[1] ** 2) * a) / np.sum(a))
+
+
+def solve(case, profile, mesh: FVMesh, progress=None) -> FlowResult:
+    """The potential flow of ``case`` on a bore mesh, scaled to the operating point."""
+    rho = case.fluid.density
+    kinds = {
+        Boundary.INLET: BoundaryCondition("flux", -1.0),  # unit inlet velocity, n points out of the fluid
+        Boundary.OUTLET: BoundaryCondition("value", 0.0),
+        Boundary.WALL: BoundaryCondition("flux", 0.0),
+        Boundary.AXIS: BoundaryCondition("flux", 0.0),
+        Boundary.CENTERBODY: BoundaryCondition("flux", 0.0),
+    }
+    bcs = {k: v for k, v in kinds.items() if k in mesh.boundary}
+    say = (lambda msg: progress("solve", msg)) if progress else None
+    unit = solve_potential(mesh, bcs, case.linear_settings, say=say)
+    names = list(mesh.boundary)
+    grads = {n: boundary_gradients(mesh, unit.phi, mesh.boundary[n], unit.is_value, unit.boundary_data) for n in names}
+    fin, fout = mesh.boundary[Boundary.INLET], mesh.boundary[Boundary.OUTLET]
+    A_in = mesh.revolution * float(mesh.face_area[fin].sum())
+    q2_in = _plane_mean_q2(mesh, fin, grads[Boundary.INLET])
+    q2_out = _plane_mean_q2(mesh, fout, grads[Boundary.OUTLET])
+
+    i, o = case.inlet, case.outlet
+    p_out = o.pressure if o.pressure is not None else 0.0
+    if i.flow_rate is not None:
+        kind, value = i.flow_rate
+        Q = value if kind == "volume" else value / rho
+        s = Q / A_in
+        if i.pressure is not None:
+            H = i.pressure + 0.5 * rho * s * s * q2_in
+        else:
+            H = p_out + 0.5 * rho * s * s * q2_out
+    else:
+        dp = i.pressure - p_out
+        dq2 = q2_out - q2_in
+        if dq2 <= 0:
+            raise FlowError(
+                "inlet.pressure",
+                "the bore widens from inlet to outlet, where inviscid flow recovers pressure: the flow rate "
+                "cannot follow from a pressure drop; give inlet.flow_rate instead",
+            )
+        s = math.sqrt(2.0 * dp / (rho * dq2))
+        H = i.pressure + 0.5 * rho * s * s * q2_in
+
+    field = unit.scaled(s)
+    vel = field.grad
+    pressure = H - 0.5 * rho * (vel[0] ** 2 + vel[1] ** 2)
+    mass_flux = rho * field.face_flux
+    boundary = {}
+    for n in names:
+        g = grads[n] * s
+        boundary[n] = boundary_state(mesh, mesh.boundary[n], g, H - 0.5 * rho * (g[0] ** 2 + g[1] ** 2), rho, mass_flux)
+    return FlowResult(
+        solver="potential", velocity=vel, pressure=pressure, density=np.full(mesh.n_cells, rho), boundary=boundary,
+        face_mass_flux=mass_flux, record=unit.record, ambient_pressure=case.ambient_pressure,
+        compressible=False, total_pressure=H, extra_fields={"potential_m2_s": field.phi},
+    )

@@ -21,11 +21,6 @@ MIN_RATIO = 1.3
 ROUND_OFF = 1e-9  # relative changes below this are round-off of the linear solve, not discretisation
 
 
-def representative_size(total_area: float, cells: int) -> float:
-    """h = (sum of cell areas / N)^(1/2), Celik et al. 2008 eq. 1 for a 2D grid."""
-    return math.sqrt(total_area / cells)
-
-
 @dataclass(frozen=True)
 class GCIResult:
     h: tuple[float, ...]  # fine to coarse

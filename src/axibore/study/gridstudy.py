@@ -5,12 +5,11 @@ from __future__ import annotations
 import json
 import math
 import time
-import traceback
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Callable
 
-from ..io.files import atomic_file, atomic_write_text
+from ..io.files import atomic_write_text
 from .gci import GCIResult, gci
 
 # (name, summary section, summary key)
@@ -73,27 +72,37 @@ def _corner_notes(name: str, summary: dict, result: GCIResult) -> list[str]:
     return [f"the bore has sharp convex corners ({where(corners)}): their singular suction slows the convergence"]
 
 
-def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[str], None] | None = None) -> GridStudy:
+def run_level(job: tuple) -> dict:
+    """One level of a study (a module-level function, so that a process pool can run it)."""
     from ..run import run_case
 
+    case, run_dir = job
+    return run_case(case, run_dir, report=False).summary()
+
+
+def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[str], None] | None = None,
+                   executor=None) -> GridStudy:
+    """Run ``case`` at each of ``levels`` through ``executor`` (default: in this process), then the GCI."""
+    from .runner import SerialExecutor
+
     progress = progress or (lambda msg: None)
+    executor = executor or SerialExecutor()
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
-    done: list[LevelResult] = []
-    for k, level in enumerate(levels, 1):
-        lv = LevelResult(level, out_dir / f"level-{level}")
-        progress(f"[{k}/{len(levels)}] level {level}: running")
-        t = time.perf_counter()
-        try:
-            res = run_case(case.with_level(level), lv.run_dir, report=False)
-            lv.summary = res.summary()
-        except Exception as exc:  # a failed level is reported; the study goes on with the others
-            lv.error = f"{type(exc).__name__}: {exc}"
-            (out_dir / f"level-{level}.error.txt").write_text(traceback.format_exc())
-        lv.seconds = time.perf_counter() - t
-        progress(f"[{k}/{len(levels)}] level {level}: " + (f"{lv.summary['mesh']['cells']:,} cells, {lv.seconds:.1f} s"
-                                                            if lv.error is None else f"FAILED ({lv.error})"))
-        done.append(lv)
+    done = [LevelResult(level, out_dir / f"level-{level}") for level in levels]
+    jobs = [(case.with_level(lv.level), lv.run_dir) for lv in done]
+    progress(f"{len(levels)} levels on {executor.workers} worker{'s' if executor.workers > 1 else ''}")
+    t0 = time.perf_counter()
+    for k, (i, summary, error) in enumerate(executor.run(run_level, jobs), 1):
+        lv = done[i]
+        lv.seconds = time.perf_counter() - t0
+        if error is None:
+            lv.summary = summary
+            progress(f"[{k}/{len(levels)}] level {lv.level}: {summary['mesh']['cells']:,} cells, {lv.seconds:.1f} s")
+        else:  # a failed level is reported; the study goes on with the others
+            lv.error = error.message
+            atomic_write_text(out_dir / f"level-{lv.level}.error.txt", error.traceback)
+            progress(f"[{k}/{len(levels)}] level {lv.level}: FAILED ({lv.error})")
     study = GridStudy(case.title, done)
     ok = [lv for lv in done if lv.summary]
     for name, section, key in QUANTITIES:
@@ -109,13 +118,12 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
             notes.append("given in the case (inlet.flow_rate): constant by construction")
         study.notes[name] = notes
     write_study(study, out_dir)
-    from ..view.report import build_report
+    from ..io.rundir import write_report
 
     for lv in ok:  # reports last, so that each embeds the study's convergence plot
-        try:
-            build_report(lv.run_dir)
-        except Exception as exc:
-            progress(f"level {lv.level}: report not built ({type(exc).__name__}: {exc})")
+        error = write_report(lv.run_dir)
+        if error:
+            progress(f"level {lv.level}: report not built ({error})")
     return study
 
 
@@ -137,12 +145,9 @@ def write_study(study: GridStudy, out_dir: Path) -> None:
 
 def plot_convergence(study: GridStudy, path: Path) -> Path:
     """Log-log plot of |phi - phi_extrapolated| / |phi_extrapolated| against h, with a slope-2 guide."""
-    import matplotlib
+    from ..view.plots import figure, save
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    fig, ax = plt.subplots(figsize=(6.4, 4.6), dpi=120)
+    fig, ax = figure(6.4, 4.6, dpi=120)
     hs_all = []
     for name, r in study.results.items():
         if r.extrapolated is None or not r.extrapolated or r.gci_fine in (None, 0.0):
@@ -165,10 +170,7 @@ def plot_convergence(study: GridStudy, path: Path) -> Path:
     ax.grid(True, which="both", alpha=0.3)
     ax.legend(fontsize=8)
     fig.tight_layout()
-    with atomic_file(path) as tmp:
-        fig.savefig(tmp, format="png")
-    plt.close(fig)
-    return path
+    return save(fig, path)
 
 
 def table_lines(study: GridStudy) -> list[str]:

@@ -16,19 +16,19 @@ DRAW_CELLS_MAX = 60_000  # above this, fields are binned to pixels and the full 
 COLOURS = {"wall": "#1f4e79", "centerbody": "#b5462b", "onedim": "#6b6b6b", "band": "#f2c94c"}
 
 
-def _plt():
-    import matplotlib
+def figure(width: float, height: float, dpi: int = 130, **subplots):
+    """A matplotlib Figure of its own and its axes: no pyplot, no global backend or figure state,
+    so runs can draw side by side."""
+    from matplotlib.figure import Figure
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
-    return plt
+    fig = Figure(figsize=(width, height), dpi=dpi)
+    return fig, fig.subplots(**subplots)
 
 
-def _save(fig, path: Path) -> Path:
+def save(fig, path: Path) -> Path:
+    path = Path(path)
     with atomic_file(path) as tmp:
         fig.savefig(tmp, format="png")
-    _plt().close(fig)
     return path
 
 
@@ -74,11 +74,10 @@ def _triangles(cells) -> np.ndarray:
 
 def wall_pressure_plot(run, path=None) -> Path:
     """Wall gauge pressure along x: 2D result and the 1D model, breakdown ranges shaded."""
-    plt = _plt()
     run = _as_run(run)
     s = run["summary"]
     q_out = 0.5 * s["flow"]["density_kg_m3"] * s["flow"]["outlet_mean_velocity_m_s"] ** 2
-    fig, ax = plt.subplots(figsize=(7.2, 3.8), dpi=130)
+    fig, ax = figure(7.2, 3.8)
     for a, b in s["onedim"]["breakdown_x_ranges_m"]:
         ax.axvspan(a * 1e3, b * 1e3, color=COLOURS["band"], alpha=0.35, lw=0)
     for name, t in run["tables"].items():
@@ -96,15 +95,14 @@ def wall_pressure_plot(run, path=None) -> Path:
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7.5, loc="best")
     fig.tight_layout()
-    return _save(fig, Path(path or run["dir"] / "plot_wall_pressure.png"))
+    return save(fig, Path(path or run["dir"] / "plot_wall_pressure.png"))
 
 
 def axial_force_plot(run, path=None) -> Path:
     """Cumulative axial force on the part from the inlet, along x."""
-    plt = _plt()
     run = _as_run(run)
     s = run["summary"]
-    fig, ax = plt.subplots(figsize=(7.2, 3.4), dpi=130)
+    fig, ax = figure(7.2, 3.4)
     for name, t in run["tables"].items():
         ax.plot(t["x_m"] * 1e3, t["cumulative_force_x_N"] / 1e3, color=COLOURS[name], lw=1.6, label=name)
     ax.axhline(s["forces"]["onedim_x_N"] / 1e3, color=COLOURS["onedim"], ls="--", lw=1,
@@ -115,21 +113,21 @@ def axial_force_plot(run, path=None) -> Path:
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7.5)
     fig.tight_layout()
-    return _save(fig, Path(path or run["dir"] / "plot_axial_force.png"))
+    return save(fig, Path(path or run["dir"] / "plot_axial_force.png"))
 
 
 def mesh_plot(run, path=None, zoom_at: tuple[float, float] | None = None) -> Path:
     """The meridional mesh, and a zoom around the minimum wall pressure (a lip or knuckle)."""
     from matplotlib.collections import PolyCollection
+    from matplotlib.patches import Rectangle
 
-    plt = _plt()
     run = _as_run(run)
     s = run["summary"]
     f = fields(run)
     nodes, allc = f["nodes"], f["polygons"]
     zx, zr = zoom_at or (s["pressure"]["min_wall_x_m"], s["pressure"].get("min_wall_r_m", nodes[:, 1].max()))
     span = 12 * s["mesh"]["target_h_m"]
-    fig, axes = plt.subplots(1, 2, figsize=(7.4, 3.4), dpi=130, gridspec_kw={"width_ratios": [2.2, 1]})
+    fig, axes = figure(7.4, 3.4, nrows=1, ncols=2, gridspec_kw={"width_ratios": [2.2, 1]})
     centre = nodes[allc].mean(axis=1)
     inside = (np.abs(centre[:, 0] - zx) < 1.5 * span) & (np.abs(centre[:, 1] - zr) < 1.5 * span)
     if len(allc) <= DRAW_CELLS_MAX:
@@ -143,7 +141,7 @@ def mesh_plot(run, path=None, zoom_at: tuple[float, float] | None = None) -> Pat
         ax.set_aspect("equal")
     axes[0].set_xlim(nodes[:, 0].min(), nodes[:, 0].max())
     axes[0].set_ylim(0, nodes[:, 1].max() * 1.02)
-    axes[0].add_patch(plt.Rectangle((zx - span, zr - span), 2 * span, 2 * span, fill=False, ec="#c0392b", lw=1))
+    axes[0].add_patch(Rectangle((zx - span, zr - span), 2 * span, 2 * span, fill=False, ec="#c0392b", lw=1))
     axes[0].set_title(f"{s['mesh']['cells']:,} cells ({s['mesh']['method']})", fontsize=8.5)
     axes[1].set_xlim(zx - span, zx + span)
     axes[1].set_ylim(zr - span, zr + span)
@@ -152,7 +150,7 @@ def mesh_plot(run, path=None, zoom_at: tuple[float, float] | None = None) -> Pat
         ax.set_xlabel("x [m]")
     axes[0].set_ylabel("r [m]")
     fig.tight_layout()
-    return _save(fig, Path(path or run["dir"] / "plot_mesh.png"))
+    return save(fig, Path(path or run["dir"] / "plot_mesh.png"))
 
 
 def speed_plot(run, path=None, lines: int = 12) -> Path:
@@ -161,11 +159,10 @@ def speed_plot(run, path=None, lines: int = 12) -> Path:
 
     from matplotlib.collections import PolyCollection
 
-    plt = _plt()
     run = _as_run(run)
     f = fields(run)
     nodes, cells, allc = f["nodes"], f["cells"], f["polygons"]
-    fig, ax = plt.subplots(figsize=(7.4, 3.2), dpi=130)
+    fig, ax = figure(7.4, 3.2)
 
     psi = f["point_data"]["stream_function_m3_s"]
     levels = np.linspace(psi.min(), psi.max(), lines + 2)[1:-1]
@@ -203,7 +200,7 @@ def speed_plot(run, path=None, lines: int = 12) -> Path:
     ax.set_ylabel("r [m]")
     ax.set_title(f"Speed; white: streamlines, each band carries 1/{lines + 1} of the flow", fontsize=8.5)
     fig.tight_layout()
-    return _save(fig, Path(path or run["dir"] / "plot_speed.png"))
+    return save(fig, Path(path or run["dir"] / "plot_speed.png"))
 
 
 def all_plots(run_dir) -> dict[str, Path]:

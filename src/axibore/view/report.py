@@ -113,9 +113,6 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     notes = []
     if include_3d:
         try:
-            import pyvista as pv
-
-            pv.OFF_SCREEN = True
             from .scene import render
 
             png, _ = render(run_dir, "pressure", 270.0, run_dir / "view_pressure.png", window_size=(1200, 700))

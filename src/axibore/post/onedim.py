@@ -13,6 +13,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..geometry import Profile
+from ..solvers.base import FlowResult
 
 
 @dataclass(frozen=True)
@@ -54,8 +55,8 @@ def _merge(ranges: list[list[float]]) -> list[list[float]]:
     return out
 
 
-def compare(profile: Profile, mesh, flow, tables: dict, force_2d: float, force_1d: float, threshold: float) -> OneDimComparison:
-    rho, Q, H = flow.density, flow.volume_flow, flow.total_pressure
+def compare(profile: Profile, flow: FlowResult, tables: dict, force_2d: float, force_1d: float, threshold: float) -> OneDimComparison:
+    rho, Q, H = flow.inlet_density, flow.volume_flow, flow.total_pressure
     V_out = flow.outlet_velocity
     q_out = flow.outlet_dynamic_pressure
     ranges, devs = [], {}
@@ -68,8 +69,8 @@ def compare(profile: Profile, mesh, flow, tables: dict, force_2d: float, force_1
             worst, worst_x = float(abs(dev[k])), float(t.x[k])
         ranges += _ranges(t.x, np.abs(dev) > threshold)
 
-    out = flow.boundary["outlet"]
-    a = 2 * np.pi * mesh.face_area[out.faces]
+    out = flow.outlet
+    a = out.area
     ux = out.velocity[0]
     q2 = ux**2 + out.velocity[1] ** 2
     A = a.sum()

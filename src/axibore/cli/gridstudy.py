@@ -1,0 +1,42 @@
+"""axibore gridstudy: the case at several mesh levels, observed order, extrapolation, GCI."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from .. import __version__
+from .common import add_case_arg, err, levels, load, out, stem
+
+HELP = "grid-convergence study: the case at several mesh levels, observed order, extrapolation, GCI"
+
+
+def add_args(p) -> None:
+    add_case_arg(p)
+    p.add_argument("--levels", type=levels, default=[0, 1, 2, 3], help="mesh levels, e.g. 0,1,2,3 (default)")
+    p.add_argument("--out", help="study directory (default: runs/<case name>-gridstudy)")
+    p.add_argument("--workers", type=int, default=1, help="levels run side by side in this many processes (default 1)")
+
+
+def run(args) -> int:
+    from ..study.gridstudy import run_grid_study, table_lines
+    from ..study.runner import executor
+
+    case = load(args)
+    refused = case.unsupported()
+    if refused:
+        err(f"{case.source}: cannot run this case yet: {'; '.join(refused)}")
+        return 2
+    if args.workers < 1:
+        err(f"--workers: expected 1 or more, got {args.workers}")
+        return 2
+    outdir = Path(args.out) if args.out else Path("runs") / f"{stem(args)}-gridstudy"
+    out(f"axibore {__version__}: grid study of {case.title}, levels {','.join(map(str, args.levels))}")
+    with executor(args.workers) as ex:
+        study = run_grid_study(case, args.levels, outdir, out, executor=ex)
+    out("")
+    for line in table_lines(study):
+        out(line)
+    out("")
+    out("GCI: Celik et al. 2008, J. Fluids Eng. 130(7) 078001; safety factor 1.25 (three or more grids), 3 (two).")
+    out(f"wrote {outdir}/ (gridstudy.json, gridstudy.csv, convergence.png, level-N/ run directories)")
+    return 0 if any(lv.summary for lv in study.levels) else 1

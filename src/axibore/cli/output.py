@@ -1,0 +1,60 @@
+"""Printed output of the commands: the headline numbers of a run, the mesh summary (formatting only)."""
+
+from __future__ import annotations
+
+from ..units import show
+
+
+def table(rows: list[tuple[str, str]]) -> list[str]:
+    """Two aligned columns (label, value)."""
+    width = max(len(k) for k, _ in rows)
+    return [f"  {k:<{width}}  {v}" for k, v in rows]
+
+
+def headline(summary: dict) -> list[str]:
+    """The numbers an engineer signs off, as printed lines."""
+    fl, p, f, o = summary["flow"], summary["pressure"], summary["forces"], summary["onedim"]
+    rows = [
+        ("volume flow", show(fl["volume_flow_m3_s"], "volume_flow")),
+        ("mass flow", show(fl["mass_flow_kg_s"], "mass_flow")),
+        ("mean velocity in / out", f"{fl['inlet_mean_velocity_m_s']:.4g} / {fl['outlet_mean_velocity_m_s']:.4g} m/s"),
+        ("discharge coefficient", "-" if fl["discharge_coefficient"] is None else f"{fl['discharge_coefficient']:.5f}"),
+        ("inlet / outlet pressure", f"{show(p['inlet_gauge_Pa'], 'pressure')} / {show(p['outlet_gauge_Pa'], 'pressure')} gauge"),
+        ("wall force x", show(f["wall_x_N"], "force") + "  (+x = downstream, on the part)"),
+    ]
+    if f["centerbody_x_N"]:
+        rows.append(("centre-body force x", show(f["centerbody_x_N"], "force")))
+    rows += [
+        ("momentum balance x", f"{show(f['momentum_x_N'], 'force')}  (reconciliation {f['reconciliation_rel']:+.2e})"),
+        ("1D formula x", f"{show(f['onedim_x_N'], 'force')}  (2D - 1D: {o['force_dev_rel']:+.3%})" if o["force_dev_rel"] is not None
+         else show(f["onedim_x_N"], "force")),
+    ]
+    if f["per_bolt_N"] is not None:
+        rows.append(("per bolt", f"{show(f['per_bolt_N'], 'force')}  ({f['bolts']} bolts, wall force shared equally)"))
+    rows += [
+        ("min wall pressure", f"{show(p['min_wall_gauge_Pa'], 'pressure')} gauge at x = {show(p['min_wall_x_m'], 'length')} "
+         f"({p['min_wall_boundary']})"),
+        ("min wall pressure abs", f"{show(p['min_wall_absolute_Pa'], 'pressure')} (vapour {show(p['vapour_pressure_Pa'], 'pressure')})"),
+        ("cavitation index", f"{p['cavitation_index']:.4g} (inception at {p['inception_index']:.4g})"),
+        ("1D wall-pressure dev", f"{o['wall_pressure_max_dev']:.3%} of outlet dynamic pressure; above {o['breakdown_threshold']:.3g}: "
+         + (", ".join(f"x {a * 1e3:.4g}-{b * 1e3:.4g} mm" for a, b in o["breakdown_x_ranges_m"]) or "nowhere")),
+        ("outlet beta / alpha", f"{o['outlet_momentum_factor']:.5f} / {o['outlet_energy_factor']:.5f}"),
+    ]
+    sv = summary["solver"]
+    solve = f"{summary['mesh']['cells']:,} cells ({summary['mesh']['method']}), {sv['method']}, residual {sv['residual']:.1e}, " \
+            f"mass imbalance {sv['mass_imbalance']:.1e}"
+    if not sv["converged"]:
+        solve += "  NOT CONVERGED"
+    rows.append(("mesh / solve", solve))
+    return table(rows)
+
+
+def mesh_lines(build, level: int) -> list[str]:
+    q = build.mesh.quality()
+    return [
+        f"mesh      {q['cells']:,} cells ({q['triangles']:,} triangles, {q['quads']:,} quads), {q['faces']:,} faces, "
+        f"level {level}, target {show(build.h_target, 'length')}, {build.seconds:.2f} s",
+        f"quality   non-orthogonality max {q['max_non_orthogonality_deg']:.1f} deg (mean {q['mean_non_orthogonality_deg']:.1f}), "
+        f"skewness max {q['max_skewness']:.3f}, aspect ratio max {q['max_aspect_ratio']:.2f}",
+        "boundary  " + ", ".join(f"{k} {v}" for k, v in sorted(q["boundary_faces"].items())) + " faces",
+    ]

@@ -1,0 +1,29 @@
+"""axibore verify: the verification set (exact solutions, published values) and its errors."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from .. import __version__
+from .common import out
+
+HELP = "run the verification set (exact solutions, published values) and tabulate the errors"
+
+
+def add_args(p) -> None:
+    p.add_argument("--out", default="runs/verify", help="directory for verify.csv and verify.json (default runs/verify)")
+    p.add_argument("--quick", action="store_true", help="coarser grids (a few seconds instead of about 20 s)")
+
+
+def run(args) -> int:
+    from ..study.verify import run_verification, table_lines
+
+    out(f"axibore {__version__}: verification against exact solutions and published values")
+    rows = run_verification(Path(args.out), quick=args.quick, progress=out)
+    out("")
+    for line in table_lines(rows):
+        out(line)
+    failed = [r for r in rows if not r.passed]
+    out("")
+    out(f"{len(rows) - len(failed)} passed, {len(failed)} failed; wrote {args.out}/verify.csv")
+    return 1 if failed else 0

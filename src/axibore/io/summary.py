@@ -1,0 +1,125 @@
+"""summary.json, the index and contract of a run directory, built from the result dataclasses.
+
+``KEYS`` is the one list of what summary.json holds: (section, key, how to get it from a
+RunResult). Schema 1: keys are added, never renamed. Non-finite numbers are written as null
+(strict JSON).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from typing import Any, Callable
+
+from .. import __version__
+from ..safety import CAUTIONS
+
+SCHEMA = 1
+
+
+KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
+    # solver
+    ("solver", "kind", lambda r: r.flow.solver),
+    ("solver", "converged", lambda r: r.flow.record.converged),
+    ("solver", "criterion", lambda r: r.flow.record.criterion),
+    ("solver", "iterations", lambda r: r.flow.record.iterations),
+    ("solver", "residual", lambda r: r.flow.record.residual),
+    ("solver", "mass_imbalance", lambda r: r.flow.record.mass_imbalance),
+    ("solver", "seconds", lambda r: r.flow.record.seconds),
+    ("solver", "method", lambda r: r.flow.record.method),
+    ("solver", "fallback", lambda r: r.flow.record.fallback),
+    ("solver", "settings", lambda r: r.flow.record.settings),
+    # mesh
+    ("mesh", "cells", lambda r: r.mesh.n_cells),
+    ("mesh", "level", lambda r: r.mesh_build.level),
+    ("mesh", "size", lambda r: r.case.mesh.size),
+    ("mesh", "h_m", lambda r: r.mesh.h),
+    ("mesh", "target_h_m", lambda r: r.mesh_build.h_target),
+    ("mesh", "method", lambda r: r.mesh_build.method),
+    ("mesh", "max_non_orthogonality_deg", lambda r: r.mesh_quality["max_non_orthogonality_deg"]),
+    ("mesh", "max_aspect_ratio", lambda r: r.mesh_quality["max_aspect_ratio"]),
+    # flow
+    ("flow", "volume_flow_m3_s", lambda r: r.flow.volume_flow),
+    ("flow", "mass_flow_kg_s", lambda r: r.flow.mass_flow),
+    ("flow", "inlet_mean_velocity_m_s", lambda r: r.flow.inlet_velocity),
+    ("flow", "outlet_mean_velocity_m_s", lambda r: r.flow.outlet_velocity),
+    ("flow", "max_speed_m_s", lambda r: r.flow.max_speed),
+    ("flow", "discharge_coefficient", lambda r: r.onedim.discharge_coefficient),
+    ("flow", "density_kg_m3", lambda r: r.flow.inlet_density),
+    ("flow", "total_pressure_gauge_Pa", lambda r: r.flow.total_pressure),
+    # pressure
+    ("pressure", "inlet_gauge_Pa", lambda r: r.flow.inlet_pressure),
+    ("pressure", "outlet_gauge_Pa", lambda r: r.flow.outlet_pressure),
+    ("pressure", "min_wall_gauge_Pa", lambda r: r.checks.min_wall_gauge_Pa),
+    ("pressure", "min_wall_x_m", lambda r: r.checks.min_wall_x_m),
+    ("pressure", "min_wall_r_m", lambda r: r.checks.min_wall_r_m),
+    ("pressure", "min_wall_boundary", lambda r: r.checks.min_wall_boundary),
+    ("pressure", "min_wall_absolute_Pa", lambda r: r.checks.min_wall_absolute_Pa),
+    ("pressure", "cavitation_index", lambda r: r.checks.cavitation_index),
+    ("pressure", "inception_index", lambda r: r.checks.inception_index),
+    ("pressure", "vapour_pressure_Pa", lambda r: r.checks.vapour_pressure_Pa),
+    ("pressure", "ambient_pressure_Pa", lambda r: r.case.ambient_pressure),
+    # forces
+    ("forces", "wall_x_N", lambda r: r.forces.wall_x_N),
+    ("forces", "centerbody_x_N", lambda r: r.forces.centerbody_x_N),
+    ("forces", "total_x_N", lambda r: r.forces.total_x_N),
+    ("forces", "momentum_x_N", lambda r: r.forces.momentum_x_N),
+    ("forces", "onedim_x_N", lambda r: r.forces.onedim_x_N),
+    ("forces", "reconciliation_rel", lambda r: r.forces.reconciliation_rel),
+    ("forces", "per_bolt_N", lambda r: r.forces.per_bolt_N),
+    ("forces", "bolts", lambda r: r.case.flange.bolts),
+    # 1D comparison
+    ("onedim", "force_dev_rel", lambda r: r.onedim.force_dev_rel),
+    ("onedim", "wall_pressure_max_dev", lambda r: r.onedim.wall_pressure_max_dev),
+    ("onedim", "wall_pressure_max_dev_x_m", lambda r: r.onedim.wall_pressure_max_dev_x_m),
+    ("onedim", "breakdown_threshold", lambda r: r.onedim.threshold),
+    ("onedim", "breakdown_x_ranges_m", lambda r: r.onedim.breakdown_x_ranges_m),
+    ("onedim", "outlet_momentum_factor", lambda r: r.onedim.outlet_momentum_factor),
+    ("onedim", "outlet_energy_factor", lambda r: r.onedim.outlet_energy_factor),
+    ("onedim", "meaningful", lambda r: r.onedim.meaningful),
+]
+
+NOTES = (
+    "forces are exerted by the fluid on the part, +x downstream, from gauge pressure",
+    "per_bolt_N divides the wall force only (a centre body is taken as supported elsewhere)",
+    "cavitation_index = (p_outlet,abs - p_vapour) / (rho V_outlet^2 / 2); inception_index = -Cp_min "
+    "(common practice; cf. ISA-RP75.23-1995 for valves)",
+)
+
+
+def finite(value):
+    """JSON-safe copy: non-finite floats become None, numpy scalars plain Python numbers."""
+    if isinstance(value, dict):
+        return {k: finite(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [finite(v) for v in value]
+    if isinstance(value, bool) or value is None or isinstance(value, str):
+        return value
+    if isinstance(value, int):
+        return value
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        return value
+    if hasattr(value, "dtype") and getattr(value, "dtype").kind in "iu":
+        return int(value)
+    return v if math.isfinite(v) else None
+
+
+def build_summary(res) -> dict:
+    out: dict = {"schema": SCHEMA, "title": res.case.title, "software": {"name": "axibore", "version": __version__}}
+    for section, key, get in KEYS:
+        out.setdefault(section, {})[key] = get(res)
+    out["corners"] = [
+        {"x_m": k.x, "r_m": k.r, "turn_deg": math.degrees(k.turn), "convex": k.convex, "boundary": str(k.boundary), "key": k.key}
+        for k in res.profile.corners()
+    ]
+    out["seconds"] = dict(res.seconds)
+    out["warnings"] = list(res.checks.warnings)
+    out["cautions"] = list(CAUTIONS)
+    out["notes"] = list(NOTES)
+    return finite(out)
+
+
+def dumps(summary: dict) -> str:
+    return json.dumps(finite(summary), indent=2, allow_nan=False) + "\n"
