@@ -23,7 +23,10 @@ def test_steam_is_refused():
         fluids.water_density(500.0, 1e5)
 
 
-def test_seawater_default_density():
-    # 1025 kg/m^3: common practice for seawater (see fluids.SEAWATER_DENSITY)
-    f = fluids.resolve_seawater(288.15, None)
-    assert f.density == 1025.0 and f.vapour_pressure == pytest.approx(fluids.water_vapour_pressure(288.15))
+def test_seawater_default_density_and_vapour_pressure():
+    # 1025 kg/m^3: the documented default for seawater (common practice); the vapour pressure is
+    # that of pure water: IAPWS-IF97, Table 35, psat(300 K) = 3.53658941 kPa
+    f = fluids.resolve_seawater(300.0, None)
+    assert f.density == 1025.0
+    assert f.vapour_pressure == pytest.approx(3.53658941e3, rel=1e-8)
+    assert fluids.resolve_seawater(300.0, 1030.0).density == 1030.0

@@ -53,11 +53,21 @@ def test_wall_csv_integrates_to_wall_force(demo_run):
 
 
 def test_fields_vtu(demo_run):
+    # the demo: seawater 1025 kg/m^3 (common-practice default), 7 bar gauge inlet, 80 mm inlet bore
     m = meshio.read(demo_run / "fields.vtu")
     s = json.loads((demo_run / "summary.json").read_text())
     assert sum(len(c.data) for c in m.cells) == s["mesh"]["cells"]
+    vel = np.concatenate(m.cell_data["velocity_m_s"])
     speed = np.concatenate(m.cell_data["speed_m_s"])
-    assert speed.max() <= s["flow"]["max_speed_m_s"] * (1 + 1e-12)
+    p = np.concatenate(m.cell_data["p_gauge_Pa"])
+    assert np.allclose(speed, np.hypot(vel[:, 0], vel[:, 1]), rtol=1e-12)
+    # Bernoulli in every cell (irrotational flow): p + rho q^2 / 2 = the inlet head p1 + rho V1^2 / 2,
+    # with V1 from the volume flow and the inlet area pi (0.04 m)^2
+    V1 = s["flow"]["volume_flow_m3_s"] / (np.pi * 0.04**2)
+    head = 7e5 + 0.5 * 1025.0 * V1**2
+    assert np.allclose(p + 0.5 * 1025.0 * speed**2, head, rtol=1e-9)
+    # continuity: the exit mean velocity times the 25 mm exit area is the volume flow
+    assert s["flow"]["outlet_mean_velocity_m_s"] * np.pi * 0.0125**2 == pytest.approx(s["flow"]["volume_flow_m3_s"], rel=1e-9)
 
 
 def test_resolved_case_reloads(demo_run):
@@ -90,3 +100,44 @@ def test_report_failure_keeps_the_numbers(tmp_path, monkeypatch):
                  "--out", str(out)]) == 0
     assert (out / "summary.json").exists() and not (out / "report.html").exists()
     assert "no fonts" in (out / "report_error.txt").read_text()
+
+
+def test_resolved_case_reruns_to_the_same_numbers(tmp_path):
+    """The run's case.toml describes what ran: loaded and run again it gives the same summary."""
+    from axibore.case import load_case
+    from axibore.run import solve_case
+
+    out = tmp_path / "run"
+    case_file = Path(__file__).parents[1] / "cases" / "water_main_reducer.toml"
+    assert main(["run", str(case_file), "--out", str(out), "--level", "1"]) == 0
+    first = json.loads((out / "summary.json").read_text())
+    again = load_case(out / "case.toml")
+    assert again.mesh.level == 1 and first["mesh"]["level"] == 1
+    second = solve_case(again).summary()
+    assert second["mesh"]["cells"] == first["mesh"]["cells"]
+    for section in ("flow", "pressure", "forces"):
+        for key, value in first[section].items():
+            if isinstance(value, float):
+                assert second[section][key] == pytest.approx(value, rel=1e-12, abs=1e-12), f"{section}.{key}"
+
+
+def test_with_updates_revalidates_and_names_the_key(nozzle_dict):
+    from axibore.case import CaseError, case_from_dict
+
+    c = case_from_dict(nozzle_dict, source="n.toml")
+    c2 = c.with_updates({"bore.half_angle": "20 deg", "mesh.level": 2, "inlet.pressure": 5e5})
+    assert c2.bore.half_angle == pytest.approx(np.radians(20)) and c2.mesh.level == 2 and c2.inlet.pressure == 5e5
+    assert c.mesh.level == 0 and c.bore.half_angle == pytest.approx(np.radians(15))  # the original is untouched
+    assert c2.profile.x_outlet < c.profile.x_outlet  # the profile was built again: a steeper cone is shorter
+    with pytest.raises(CaseError) as exc:
+        c.with_updates({"bore.half_angle": "2 kg"})
+    assert 'n.toml (updated: bore.half_angle): bore.half_angle: expected an angle, got "2 kg"' in str(exc.value)
+    with pytest.raises(CaseError) as exc:
+        c.with_updates({"mesh.levle": 1})
+    assert "mesh.levle: unknown key" in str(exc.value)
+    seg = case_from_dict({**nozzle_dict, "bore": {"template": "segments", "start": [0, "40 mm"],
+                                                  "segment": [{"to": ["0.1 m", "40 mm"]}, {"to": ["0.2 m", "20 mm"]}]}})
+    assert seg.with_updates({"bore.segment[2].to": ["0.2 m", "25 mm"]}).profile.r_outlet == pytest.approx(0.025)
+    with pytest.raises(CaseError) as exc:
+        seg.with_updates({"bore.segment[3].to": ["0.3 m", "25 mm"]})
+    assert "bore.segment[3]: no entry 3 (the case has 2; entries count from 1)" in str(exc.value)
