@@ -18,17 +18,17 @@ REL = 1e-9
 
 PINNED = {
     "deck_wash_nozzle": {
-        "cells": 53760, "wall_x_N": 2892.4884371293456, "centerbody_x_N": 0.0, "momentum_x_N": 2892.5012517709524,
-        "volume_flow_m3_s": 0.018228578567696243, "min_wall_gauge_Pa": -75924.4524636817, "max_speed_m_s": 39.07876849716251,
+        "cells": 42176, "wall_x_N": 2892.481257413937, "centerbody_x_N": 0.0, "momentum_x_N": 2892.501251770847,
+        "volume_flow_m3_s": 0.018228578567680565, "min_wall_gauge_Pa": -75924.48118299176, "max_speed_m_s": 39.078769214145886,
     },
     "water_main_reducer": {
-        "cells": 9150, "wall_x_N": 156772.7076772284, "centerbody_x_N": 0.0, "momentum_x_N": 156772.7746193352,
-        "volume_flow_m3_s": 0.5, "min_wall_gauge_Pa": 992532.3827190442, "max_speed_m_s": 4.2508724711987895,
-        "outlet_gauge_Pa": 993651.0629755179,
+        "cells": 8970, "wall_x_N": 156772.71641765046, "centerbody_x_N": 0.0, "momentum_x_N": 156772.7746193352,
+        "volume_flow_m3_s": 0.49999999999999994, "min_wall_gauge_Pa": 992532.3560614877, "max_speed_m_s": 4.250878745415925,
+        "outlet_gauge_Pa": 993651.0629755176,
     },
     "spear_nozzle": {
-        "cells": 42445, "wall_x_N": 21449.88637596325, "centerbody_x_N": -5032.158105428378, "momentum_x_N": 16417.391878365903,
-        "volume_flow_m3_s": 0.11872090913469352, "min_wall_gauge_Pa": -3209262.3334804345, "max_speed_m_s": 100.54683390234358,
+        "cells": 36270, "wall_x_N": 21449.21783020193, "centerbody_x_N": -5031.99151545261, "momentum_x_N": 16417.392500290873,
+        "volume_flow_m3_s": 0.11872094857157299, "min_wall_gauge_Pa": -3209204.9192671133, "max_speed_m_s": 100.54626300186693,
     },
 }
 

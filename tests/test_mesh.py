@@ -157,3 +157,44 @@ def test_cli_mesh_writes_files(tmp_path, capsys):
     assert sum(len(c.data) for c in m.cells) > 1000
     out = capsys.readouterr().out
     assert "cells" in out and "non-orthogonality" in out
+
+
+def _hyperboloid_case(tmp_path, smooth=True, points=41):
+    # a hyperboloid throat: r = r* sqrt(1 + (x tan 30 deg / r*)^2) over six throat radii
+    rs, t = 0.02, math.tan(math.radians(30))
+    x = np.linspace(-3 * rs, 3 * rs, points)
+    r = rs * np.sqrt(1 + (x * t / rs) ** 2)
+    (tmp_path / "w.csv").write_text("x,r\n" + "\n".join(f"{float(a)!r},{float(b)!r}" for a, b in zip(x, r)) + "\n")
+    return case_from_dict({"fluid": FLUID, "bore": {"template": "points", "file": "w.csv", "smooth": smooth},
+                           "inlet": {"flow_rate": "0.001 m^3/s"}}, base_dir=tmp_path)
+
+
+def test_mapped_spacing_follows_the_local_channel_height(tmp_path):
+    # one spline with a throat in its middle: the cells at the throat are as short as they are high
+    m = mesh_profile(_hyperboloid_case(tmp_path).profile, 0.05, 0, "quads")
+    assert m.method == "mapped quads"
+    assert m.mesh.quality()["max_aspect_ratio"] < 1.6
+    # a long cone (reducer 600 -> 200 mm): the axial spacing at the wide end is about three times
+    # that at the narrow end (the channel height ratio), not the narrow end's spacing all along
+    p = _case({"template": "reducer", "inlet_diameter": 0.6, "outlet_diameter": 0.2, "half_angle": math.radians(5),
+               "inlet_length": 0.2, "outlet_length": 0.2, "knuckle_radius": 0.5}).profile
+    mesh = mesh_profile(p, 0.2, 0, "quads").mesh
+    wall = mesh.boundary["wall"]
+    xf = mesh.face_centroid[wall]
+    cone = [s for s in p.wall if s.key == "bore.half_angle"][0]
+    x0, x1 = cone.start[0], cone.end[0]
+    wide = mesh.face_length[wall][(xf[:, 0] > x0) & (xf[:, 0] < x0 + 0.1 * (x1 - x0))].mean()
+    narrow = mesh.face_length[wall][(xf[:, 0] < x1) & (xf[:, 0] > x1 - 0.1 * (x1 - x0))].mean()
+    assert 3.0 / 1.25**2 < wide / narrow < 3.0 * 1.25
+    assert mesh.quality()["max_aspect_ratio"] < 1.8
+
+
+def test_polygon_of_many_gentle_vertices_warns(tmp_path):
+    from axibore.post.checks import polygon_warnings
+
+    assert polygon_warnings(_hyperboloid_case(tmp_path, smooth=True).profile) == []
+    msg = polygon_warnings(_hyperboloid_case(tmp_path, smooth=False).profile)
+    assert len(msg) == 1 and "bore.smooth = true" in msg[0]
+    # a designed polygon with a few real corners does not warn
+    assert polygon_warnings(_case({"template": "segments", "start": [0.0, 0.05], "segment": [
+        {"to": [0.1, 0.05]}, {"to": [0.2, 0.03]}, {"to": [0.3, 0.03]}]}).profile) == []

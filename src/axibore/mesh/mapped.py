@@ -113,19 +113,57 @@ def blocks(profile: Profile) -> list[tuple[Segment, Segment, str, str]]:
     return out
 
 
+# Axial spacing: cells as long as they are high (local channel height / cells across), between
+# h / 8 and h. Blocks are cut where the wanted spacing changes by more than GRADE, so a cone
+# takes the spacing of its local height (not of its narrow end) and a throat in the middle of a
+# block gets short cells where it is narrow.
+GRADE = 1.25
+HEIGHT_SAMPLES = 33  # channel height samples along each block
+
+
+def _heights(bottom: Segment, top: Segment) -> tuple[np.ndarray, np.ndarray]:
+    """x samples along a block and the channel height there (top r minus bottom r)."""
+    xs = np.linspace(top.start[0], top.end[0], HEIGHT_SAMPLES)
+    rt = np.array([_point_at_x(top, x)[1] for x in xs])
+    rb = np.array([_point_at_x(bottom, x)[1] for x in xs])
+    return xs, rt - rb
+
+
+def graded_blocks(blks, h: float, tol: float):
+    """Cut the blocks where the wanted axial spacing changes; returns the cells across the channel
+    and (bottom, top, bottom group, top group, axial spacing) for each piece, in +x order."""
+    sampled = [_heights(b, t) for b, t, _, _ in blks]
+    h_max = max(float(hs.max()) for _, hs in sampled)
+    n_r = max(2, math.ceil(h_max / h))
+    out = []
+    for (bottom, top, bgroup, tgroup), (xs, hs) in zip(blks, sampled):
+        want = np.clip(np.maximum(hs, tol) / n_r, h / 8.0, h)
+        cuts, lo, hi, start = [], want[0], want[0], xs[0]
+        for x, w in zip(xs[1:], want[1:]):
+            lo2, hi2 = min(lo, w), max(hi, w)
+            if hi2 / lo2 > GRADE and x - start > 2 * lo2:
+                cuts.append((start, x, lo))
+                start, lo, hi = x, w, w
+            else:
+                lo, hi = lo2, hi2
+        cuts.append((start, xs[-1], lo))
+        if len(cuts) > 1 and cuts[-1][1] - cuts[-1][0] < 2 * cuts[-1][2]:  # no sliver at the end
+            a, _, w1 = cuts[-2]
+            cuts[-2:] = [(a, xs[-1], min(w1, cuts[-1][2]))]
+        for xa, xb, dx in cuts:
+            if len(cuts) == 1:
+                out.append((bottom, top, bgroup, tgroup, dx))
+            else:
+                out.append((_piece(bottom, xa, xb), _piece(top, xa, xb), bgroup, tgroup, dx))
+    return n_r, out
+
+
 def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
     """Transfinite quad mesh with about ``h`` along the axis and square-ish cells."""
     from .gmsh_build import GeoBuilder, generate, gmsh_session
 
-    blks = blocks(profile)
-    heights = []
-    for bottom, top, _, _ in blks:
-        pa, pb = top.sample(), bottom.sample()
-        heights.append((top.start[1] - bottom.start[1], top.end[1] - bottom.end[1],
-                        float(np.min(np.interp(pb[:, 0], pa[:, 0], pa[:, 1]) - pb[:, 1]))))
-    h_max = max(max(a, b) for a, b, _ in heights)
-    n_r = max(2, math.ceil(h_max / h))
     tol = 0.1 * profile.tol
+    n_r, pieces = graded_blocks(blocks(profile), h, tol)
     with gmsh_session("bore-mapped") as gmsh:
         build = GeoBuilder(gmsh, tol)
         geo = build.geo
@@ -141,7 +179,7 @@ def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
 
         groups: dict[str, list[int]] = {}
         surfaces, transfinite = [], []
-        for (bottom, top, bgroup, tgroup), (_, _, hmin) in zip(blks, heights):
+        for bottom, top, bgroup, tgroup, dx in pieces:
             cb = build.curve(bottom)
             ct = build.curve(top)
             vl = vertical(bottom.start[0], bottom.start[1], top.start[1])
@@ -151,8 +189,6 @@ def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
             surfaces.append(s)
             groups.setdefault(tgroup, []).append(ct)
             groups.setdefault(bgroup, []).append(cb)
-            dr = max(hmin, tol) / n_r  # smallest radial spacing in the block
-            dx = min(h, max(dr, h / 8.0))
             n_x = max(1, math.ceil(max(top.length, bottom.length) / dx))
             transfinite.append((cb, ct, n_x))
         geo.synchronize()
@@ -164,8 +200,8 @@ def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
         for s in surfaces:
             gmsh.model.mesh.setTransfiniteSurface(s)
             gmsh.model.mesh.setRecombine(2, s)
-        first = verticals[vkey(blks[0][0].start[0])]
-        last = verticals[vkey(blks[-1][0].end[0])]
+        first = verticals[vkey(pieces[0][0].start[0])]
+        last = verticals[vkey(pieces[-1][0].end[0])]
         groups[Boundary.INLET] = [first]
         groups[Boundary.OUTLET] = [last]
         return generate(gmsh, groups, surfaces, msh_path, planar=profile.planar)
