@@ -37,7 +37,7 @@ def test_straight_pipe_zero_force_uniform_pressure():
 
 
 def test_cone_sink_exact_second_order():
-    # exact radial flow in a cone (derived; SOURCES.md): wall Cp error at second order
+    # exact radial flow in a cone (derived from the point-sink potential Q / (Omega r)): wall Cp error at second order
     res = [cone_sink(h) for h in (0.02, 0.01, 0.005)]
     h = np.array([r.h for r in res])
     rms = np.array([r.wall_cp_rms_error for r in res])
@@ -60,7 +60,7 @@ CONTOURED = {"template": "contoured", "inlet_diameter": "200 mm", "exit_diameter
 
 
 def test_momentum_theorem_second_order():
-    # Momentum theorem (SOURCES.md): with straight runs before and after, the exact inviscid force
+    # Momentum theorem (control-volume momentum balance of an inviscid flow, derived): with straight runs before and after, the exact inviscid force
     # equals p1 A1 - p2 A2 + mdot (V1 - V2) whatever the shape; the error falls at second order.
     res = [run(CONTOURED, mesh={"size": 0.3, "level": k}) for k in (0, 2, 4)]
     err = np.array([abs(r.forces.total_x_N - r.forces.onedim_x_N) / momentum_scale(r) for r in res])
@@ -97,7 +97,7 @@ def test_annulus_with_centerbody_momentum_theorem():
 
 
 def test_nozzle_to_atmosphere_force_formula(nozzle_dict):
-    # nozzle discharging to atmosphere, uniform exit: F = (1/2) rho A1 (V2 - V1)^2 (derived, SOURCES.md)
+    # nozzle discharging to atmosphere, uniform exit: F = (1/2) rho A1 (V2 - V1)^2 (derived from the momentum theorem and Bernoulli)
     nozzle_dict["bore"]["tip_length"] = "60 mm"
     r = solve_case(case_from_dict(nozzle_dict))
     fl = r.flow

@@ -1,7 +1,7 @@
 """Exact solutions the solver is checked against (used by the tests and by ``axibore verify``).
 
 Each problem meshes its own domain, solves, and returns computed and exact values. Sources are
-named beside each problem (see also shared SOURCES.md of the project).
+named beside each problem.
 """
 
 from __future__ import annotations
@@ -33,7 +33,8 @@ def cone_sink(h: float, half_angle_deg: float = 30.0, r1: float = 0.5, r2: float
               mapped: bool = True) -> ConeSinkResult:
     """Radial flow into a point sink at the apex of a cone, between spherical caps r1 < r2.
 
-    Exact (derived; SOURCES.md "purely radial flow inside a cone"): speed q = Q / (Omega r^2),
+    Exact (derived from the point-sink potential phi = Q / (Omega r); a solid angle Omega of the
+    sink's flow, e.g. Batchelor, An Introduction to Fluid Dynamics, 1967, sec. 2.5): speed q = Q / (Omega r^2),
     Omega = 2 pi (1 - cos alpha), phi = Q / (Omega r), p = p0 - rho q^2 / 2; axial force on the
     cone wall between the caps pi sin^2(alpha) [p0 (r2^2 - r1^2) - (rho/2)(Q/Omega)^2 (r1^-2 - r2^-2)].
     The caps are equipotentials and take the exact phi (Dirichlet); the wall has no normal flow.

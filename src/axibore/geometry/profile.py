@@ -98,17 +98,12 @@ class Segment:
 
 
 def _catmull_rom(pts: np.ndarray, per_span: int) -> np.ndarray:
-    """Uniform Catmull-Rom spline through ``pts`` (the curve Gmsh's built-in Spline draws)."""
+    """Uniform Catmull-Rom spline through ``pts`` (the curve Gmsh's built-in Spline draws), all spans at once."""
     ext = np.vstack([2 * pts[0] - pts[1], pts, 2 * pts[-1] - pts[-2]])
-    t = np.linspace(0.0, 1.0, per_span, endpoint=False)[:, None]
-    out = []
-    for i in range(1, len(ext) - 2):
-        p0, p1, p2, p3 = ext[i - 1], ext[i], ext[i + 1], ext[i + 2]
-        out.append(
-            0.5 * ((2 * p1) + (-p0 + p2) * t + (2 * p0 - 5 * p1 + 4 * p2 - p3) * t**2 + (-p0 + 3 * p1 - 3 * p2 + p3) * t**3)
-        )
-    out.append(pts[-1:])
-    return np.vstack(out)
+    p0, p1, p2, p3 = ext[:-3, None], ext[1:-2, None], ext[2:-1, None], ext[3:, None]  # (spans, 1, 2)
+    t = np.linspace(0.0, 1.0, per_span, endpoint=False)[None, :, None]
+    out = 0.5 * ((2 * p1) + (-p0 + p2) * t + (2 * p0 - 5 * p1 + 4 * p2 - p3) * t**2 + (-p0 + 3 * p1 - 3 * p2 + p3) * t**3)
+    return np.vstack([out.reshape(-1, 2), pts[-1:]])
 
 
 @dataclass(frozen=True)

@@ -59,8 +59,7 @@ def write_run(res, out: Path) -> None:
         tables[name] = cols
     write_wall_load(out, tables)
     hist = np.asarray(flow.record.residual_history, float)
-    write_csv(out / "solver_history.csv", {"iteration": np.arange(1, hist.size + 1), "residual": hist},
-              f"axibore {flow.record.solver} solve: residual after each iteration ({flow.record.method}); {flow.record.criterion}")
+    write_csv(out / "solver_history.csv", {"iteration": np.arange(1, hist.size + 1), "residual": hist})
     res.seconds["write"] = time.perf_counter() - t0
     atomic_write_text(out / "summary.json", dumps(res.summary()))
 
