@@ -52,22 +52,38 @@ def inverse_2x2(M: np.ndarray) -> np.ndarray:
     return np.stack([np.stack([d, -b], -1), np.stack([-c, a], -1)], 1) / det[:, None, None]
 
 
+@dataclass(frozen=True, eq=False)
+class FaceSets:
+    """Face ids by role and their cells: interior faces (owner P, neighbour N), value faces fD and
+    flux faces fN on the boundary (owners PD, PN)."""
+
+    fi: np.ndarray
+    P: np.ndarray
+    N: np.ndarray
+    fD: np.ndarray
+    PD: np.ndarray
+    fN: np.ndarray
+    PN: np.ndarray
+
+
+def face_sets(mesh: FVMesh, is_value: np.ndarray | None = None) -> FaceSets:
+    """``is_value`` (F,) marks value faces (default: every boundary face, as for ghost-state boundaries)."""
+    if is_value is None:
+        is_value = np.zeros(mesh.n_faces, bool)
+        is_value[mesh.boundary_faces] = True
+    fi, fb = mesh.interior, mesh.boundary_faces
+    bval = is_value[fb]
+    fD, fN = fb[bval], fb[~bval]
+    return FaceSets(fi, mesh.owner[fi], mesh.neighbour[fi], fD, mesh.owner[fD], fN, mesh.owner[fN])
+
+
 def least_squares_gradient(mesh: FVMesh, is_value: np.ndarray | None = None) -> GradientOperator:
     """The least-squares gradient operator of ``mesh``; ``is_value`` (F,) marks value faces
     (default: every boundary face is a value face, as for ghost-state boundaries)."""
     C, F = mesh.n_cells, mesh.n_faces
-    if is_value is None:
-        is_value = np.zeros(F, bool)
-        is_value[mesh.boundary_faces] = True
-    c = mesh.cell_centroid
-    n = mesh.face_normal
-    xf = mesh.face_centroid
-    fi = mesh.interior
-    fb = mesh.boundary_faces
-    P, N = mesh.owner[fi], mesh.neighbour[fi]
-    bval = is_value[fb]
-    fD, fN = fb[bval], fb[~bval]
-    PD, PN = mesh.owner[fD], mesh.owner[fN]
+    fs = face_sets(mesh, is_value)
+    P, N, fD, PD, fN, PN = fs.P, fs.N, fs.fD, fs.PD, fs.fN, fs.PN
+    c, n, xf = mesh.cell_centroid, mesh.face_normal, mesh.face_centroid
 
     d = c[N] - c[P]
     w = 1.0 / np.einsum("ij,ij->i", d, d)

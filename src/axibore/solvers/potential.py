@@ -32,7 +32,7 @@ import scipy.sparse as sp
 
 from ..mesh import FVMesh
 from ..names import Boundary
-from ..numerics.gradients import least_squares_gradient
+from ..numerics.gradients import face_sets, least_squares_gradient
 from ..numerics.linear import LinearSettings, solve_linear
 from ..numerics.reconstruct import boundary_gradients
 from .base import FlowError, FlowResult, SolveRecord, boundary_state
@@ -91,16 +91,9 @@ def _boundary_kinds(mesh: FVMesh, bcs: dict[str, BoundaryCondition]) -> tuple[np
 
 def assemble(mesh: FVMesh, is_value: np.ndarray) -> Operators:
     C, F = mesh.n_cells, mesh.n_faces
-    c = mesh.cell_centroid
-    n = mesh.face_normal
-    A = mesh.face_area
-    xf = mesh.face_centroid
-    fi = mesh.interior
-    fb = mesh.boundary_faces
-    P, N = mesh.owner[fi], mesh.neighbour[fi]
-    bval = is_value[fb]
-    fD, fN = fb[bval], fb[~bval]
-    PD = mesh.owner[fD]
+    c, n, A, xf = mesh.cell_centroid, mesh.face_normal, mesh.face_area, mesh.face_centroid
+    fs = face_sets(mesh, is_value)
+    fi, P, N, fD, PD, fN = fs.fi, fs.P, fs.N, fs.fD, fs.PD, fs.fN
     grad = least_squares_gradient(mesh, is_value)
     G, B = grad.G, grad.B
 
