@@ -93,10 +93,32 @@ def test_inlet_rules(nozzle_dict):
     nozzle_dict["inlet"] = {}
     assert any("inlet: missing" in line for line in problems(nozzle_dict))
     nozzle_dict["inlet"] = {"pressure": "7 bar", "flow_rate": "0.02 m^3/s"}
-    nozzle_dict["outlet"]["pressure"] = "1 bar"
+    nozzle_dict["outlet"] = {"kind": "pipe", "pressure": "1 bar"}
     assert any("outlet.pressure: over-determined" in line for line in problems(nozzle_dict))
     nozzle_dict["inlet"] = {"flow_rate": "3 m"}
     assert any("inlet.flow_rate: expected a volume or mass flow rate" in line for line in problems(nozzle_dict))
+
+
+def test_over_determined_discharge_is_refused(nozzle_dict, capsys, tmp_path):
+    # a nozzle discharging to ambient with both an inlet pressure and a flow rate: the case names both
+    # keys and the allowed combinations (a run would report a non-ambient exit pressure otherwise)
+    nozzle_dict["inlet"] = {"pressure": "8 bar", "flow_rate": "750 L/min"}
+    lines = problems(nozzle_dict)
+    assert len(lines) == 1 and lines[0].startswith("x.toml: inlet.flow_rate: over-determined")
+    assert "give inlet.pressure or inlet.flow_rate, not both" in lines[0] and 'outlet.kind = "pipe": two of' in lines[0]
+    nozzle_dict["inlet"] = {"pressure": "8 bar"}
+    nozzle_dict["outlet"] = {"kind": "exit-plane", "pressure": "1 bar"}
+    assert "x.toml: outlet.pressure: not used with outlet.kind = \"exit-plane\"" in problems(nozzle_dict)[0]
+    # the same through the command line: exit 2, no traceback
+    import tomli_w
+
+    nozzle_dict["outlet"] = {"kind": "exit-plane"}
+    nozzle_dict["inlet"] = {"pressure": "8 bar", "flow_rate": "750 L/min"}
+    path = tmp_path / "both.toml"
+    path.write_text(tomli_w.dumps(nozzle_dict))
+    assert main(["check", str(path)]) == 2
+    err = capsys.readouterr().err
+    assert "inlet.flow_rate: over-determined" in err and "Traceback" not in err
 
 
 def test_flow_rate_volume_or_mass(nozzle_dict):

@@ -33,6 +33,9 @@ if TYPE_CHECKING:
 
 DEFAULT_AMBIENT = 101325.0
 
+OPERATING_POINTS = ('Allowed for a liquid: outlet.kind = "pipe": two of inlet.pressure, inlet.flow_rate and '
+                    'outlet.pressure (default 0 gauge); "exit-plane" or "free-jet": inlet.pressure or inlet.flow_rate.')
+
 
 class CaseError(Exception):
     """Problems found in a case file; ``problems`` is a list of (key path, message)."""
@@ -451,8 +454,17 @@ def _cross_checks(m: CaseModel) -> list[tuple[str, str]]:
                 problems.append((f"inlet.{key}", "only for ideal-gas cases (a liquid takes inlet.pressure or inlet.flow_rate)"))
         if i.pressure is None and i.flow_rate is None:
             problems.append(("inlet", "missing: give inlet.pressure (gauge) or inlet.flow_rate"))
-        if i.pressure is not None and i.flow_rate is not None and o.pressure is not None:
-            problems.append(("outlet.pressure", "over-determined: inlet.pressure and inlet.flow_rate already fix the outlet pressure"))
+        discharge = o.kind in ("exit-plane", "free-jet")
+        if discharge and i.pressure is not None and i.flow_rate is not None:
+            problems.append(("inlet.flow_rate", f'over-determined: with outlet.kind = "{o.kind}" the jet leaves at the ambient '
+                             "pressure, so inlet.pressure fixes the flow rate (and a flow rate fixes the pressure): give "
+                             f"inlet.pressure or inlet.flow_rate, not both. {OPERATING_POINTS}"))
+        elif discharge and o.pressure is not None and o.pressure != 0.0:
+            problems.append(("outlet.pressure", f'not used with outlet.kind = "{o.kind}": the jet leaves at the ambient pressure '
+                             f"(0 gauge); set outlet.ambient_pressure for another surrounding pressure. {OPERATING_POINTS}"))
+        elif i.pressure is not None and i.flow_rate is not None and o.pressure is not None:
+            problems.append(("outlet.pressure", "over-determined: inlet.pressure and inlet.flow_rate already fix the outlet "
+                             f"pressure; give two of the three. {OPERATING_POINTS}"))
         if i.pressure is not None and i.flow_rate is None:
             p_out = o.pressure if o.pressure is not None else 0.0
             if not i.pressure > p_out:
