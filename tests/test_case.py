@@ -43,7 +43,39 @@ def test_valid_case_in_si(nozzle_dict):
 
 def test_wrong_unit_names_file_and_key(nozzle_dict):
     nozzle_dict["bore"]["exit_diameter"] = "25 kg"
-    assert 'x.toml: bore.exit_diameter: expected a length, got "25 kg"' in problems(nozzle_dict)
+    assert 'x.toml: bore.exit_diameter: expected a length, got "25 kg" (units: mm, m, in)' in problems(nozzle_dict)
+
+
+def test_trade_units_and_gauge_or_absolute(nozzle_dict):
+    # conversion factors: the US gallon is 231 in^3 and the pound-force per square inch
+    # 0.45359237 kg x 9.80665 m/s^2 / (0.0254 m)^2, both exact by definition (NIST SP 811, 2008, app. B)
+    assert to_si("36 m3/h", "volume_flow") == pytest.approx(0.01, rel=1e-15)
+    assert to_si("600 L/min", "volume_flow") == pytest.approx(0.01, rel=1e-15)
+    assert to_si("100 US gpm", "volume_flow") == pytest.approx(100 * 231 * 0.0254**3 / 60, rel=1e-15)
+    assert to_si("100 psig", "pressure", "gauge") == pytest.approx(689475.729, rel=1e-9)
+    assert to_si("8 barg", "pressure", "gauge") == to_si("8 bar(g)", "pressure", "gauge") == 8e5
+    assert to_si("1.2 bara", "pressure", "absolute") == 1.2e5
+    nozzle_dict["inlet"] = {"pressure": "8 bara"}
+    assert problems(nozzle_dict) == ['x.toml: inlet.pressure: this key is a gauge pressure, got the absolute pressure "8 bara" '
+                                     '(subtract the ambient pressure, or write it in bar or barg)']
+    nozzle_dict["inlet"] = {"pressure": "8 bar"}
+    nozzle_dict["outlet"]["ambient_pressure"] = "1 barg"
+    assert "outlet.ambient_pressure: this key is an absolute pressure" in problems(nozzle_dict)[0]
+    nozzle_dict["outlet"]["ambient_pressure"] = "1 bara"
+    nozzle_dict["inlet"] = {"flow_rate": "27 m3/h"}
+    assert case_from_dict(nozzle_dict).inlet.flow_rate == ("volume", pytest.approx(0.0075))
+
+
+def test_unit_messages_are_one_line_and_bounded(nozzle_dict):
+    for text, expected in (("9**9**9 Pa", 'expected a pressure, got "9**9**9 Pa"'), ("bar", "expected a number followed by a unit"),
+                           ("7 furlong", 'expected a pressure, got "7 furlong"'), ("x" * 500, "a text of 500 characters")):
+        nozzle_dict["inlet"] = {"pressure": text}
+        lines = problems(nozzle_dict)
+        assert len(lines) == 1 and expected in lines[0] and "Error" not in lines[0], lines
+    nozzle_dict["inlet"] = {"pressure": "7 bar"}
+    nozzle_dict["fluid"]["temperature"] = 15
+    assert problems(nozzle_dict) == ['x.toml: fluid.temperature: expected a temperature; a bare number is read as kelvin (15 K): '
+                                     'write e.g. "15 degC"']
 
 
 def test_unknown_key_is_an_error(nozzle_dict):
@@ -231,4 +263,4 @@ def test_list_positions_count_from_one(nozzle_dict):
     # schema errors and profile errors name the same segment the same way
     nozzle_dict["bore"] = {"template": "segments", "start": [0, "40 mm"],
                            "segment": [{"to": ["0.1 m", "40 mm"]}, {"to": ["0.2 m", "20 mm"], "radius": "2 kg"}]}
-    assert 'x.toml: bore.segment[2].radius: expected a length, got "2 kg"' in problems(nozzle_dict)
+    assert 'x.toml: bore.segment[2].radius: expected a length, got "2 kg" (units: mm, m, in)' in problems(nozzle_dict)

@@ -131,7 +131,7 @@ def test_with_updates_revalidates_and_names_the_key(nozzle_dict):
     assert c2.profile.x_outlet < c.profile.x_outlet  # the profile was built again: a steeper cone is shorter
     with pytest.raises(CaseError) as exc:
         c.with_updates({"bore.half_angle": "2 kg"})
-    assert 'n.toml (updated: bore.half_angle): bore.half_angle: expected an angle, got "2 kg"' in str(exc.value)
+    assert 'n.toml (updated: bore.half_angle): bore.half_angle: expected an angle, got "2 kg" (units: deg, rad)' in str(exc.value)
     with pytest.raises(CaseError) as exc:
         c.with_updates({"mesh.levle": 1})
     assert "mesh.levle: unknown key" in str(exc.value)

@@ -53,13 +53,22 @@ class CaseError(Exception):
 # quantity types
 
 
-def _quantity(dimension: str):
+# a bare temperature below this is almost surely meant in degC, not kelvin
+BARE_TEMPERATURE_HINT_K = 200.0
+
+
+def _quantity(dimension: str, reference: str | None = None):
     def convert(value: Any) -> float:
+        if dimension == "temperature" and isinstance(value, (int, float)) and not isinstance(value, bool) \
+                and 0 < value < BARE_TEMPERATURE_HINT_K:
+            raise PydanticCustomError("quantity", f'expected a temperature; a bare number is read as kelvin ({value:g} K): '
+                                      f'write e.g. "{value:g} degC"')
         try:
-            return to_si(value, dimension)
+            return to_si(value, dimension, reference)
         except UnitError as exc:
             raise PydanticCustomError("quantity", str(exc)) from None
 
+    convert.dimension = dimension  # read back when the resolved case is written with units
     return BeforeValidator(convert)
 
 
@@ -85,8 +94,8 @@ def _half_angle(value: float) -> float:
 Length = Annotated[float, _quantity("length")]
 PosLength = Annotated[float, _quantity("length"), AfterValidator(_positive)]
 NonNegLength = Annotated[float, _quantity("length"), AfterValidator(_non_negative)]
-Pressure = Annotated[float, _quantity("pressure")]
-PosPressure = Annotated[float, _quantity("pressure"), AfterValidator(_positive)]
+Pressure = Annotated[float, _quantity("pressure", "gauge")]  # gauge unless the key says absolute
+AbsPressure = Annotated[float, _quantity("pressure", "absolute"), AfterValidator(_positive)]
 Temperature = Annotated[float, _quantity("temperature"), AfterValidator(_positive)]
 Density = Annotated[float, _quantity("density"), AfterValidator(_positive)]
 HalfAngle = Annotated[float, _quantity("angle"), AfterValidator(_half_angle)]
@@ -123,7 +132,7 @@ class FluidSpec(_Section):
     kind: Literal["water", "seawater", "liquid", "ideal-gas"]
     temperature: Temperature | None = None
     density: Density | None = None
-    vapour_pressure: Annotated[float, _quantity("pressure"), AfterValidator(_non_negative)] | None = None
+    vapour_pressure: Annotated[float, _quantity("pressure", "absolute"), AfterValidator(_non_negative)] | None = None
     gas: Literal["air", "nitrogen"] | None = None
     gas_constant: GasConstant | None = None
     gamma: Annotated[float, _quantity("dimensionless")] | None = None
@@ -215,7 +224,7 @@ class InletSpec(_Section):
 class OutletSpec(_Section):
     kind: Literal["pipe", "exit-plane", "free-jet"] = "pipe"
     pressure: Pressure | None = None
-    ambient_pressure: PosPressure = DEFAULT_AMBIENT
+    ambient_pressure: AbsPressure = DEFAULT_AMBIENT
 
 
 MAX_LEVEL = 12
@@ -546,16 +555,69 @@ def demo_case_path() -> Path:
 # writing the resolved case back (SI numbers, loadable again)
 
 
+# units the resolved case.toml is written in (as a person would type them); loadable again
+_WRITE_UNITS = {"length": ("mm", 1e-3, 0.0), "pressure": ("bar", 1e5, 0.0), "temperature": ("degC", 1.0, 273.15),
+                "angle": ("deg", math.pi / 180, 0.0), "density": ("kg/m^3", 1.0, 0.0),
+                "specific_gas_constant": ("J/(kg*K)", 1.0, 0.0)}
+
+
+def _dimension_of(annotation, metadata=()) -> str | None:
+    """The quantity dimension of a schema field (its metadata, or through Annotated, unions and tuples)."""
+    import typing
+
+    for meta in metadata:
+        dim = getattr(getattr(meta, "func", None), "dimension", None)
+        if dim is not None:
+            return dim
+    if typing.get_origin(annotation) is Annotated:
+        for meta in annotation.__metadata__:
+            dim = getattr(getattr(meta, "func", None), "dimension", None)
+            if dim is not None:
+                return dim
+    for arg in typing.get_args(annotation):
+        dim = _dimension_of(arg)
+        if dim is not None:
+            return dim
+    return None
+
+
+def _with_unit(value: float, dimension: str | None):
+    if dimension not in _WRITE_UNITS or not isinstance(value, float):
+        return value
+    unit, factor, offset = _WRITE_UNITS[dimension]
+    if dimension == "length" and abs(value) >= 1.0:
+        unit, factor = "m", 1.0
+    return f"{(value - offset) / factor:.15g} {unit}"
+
+
+def _unit_dump(model: BaseModel) -> dict:
+    out = {}
+    for name, info in type(model).model_fields.items():
+        value = getattr(model, name)
+        if value is None:
+            continue
+        if isinstance(value, BaseModel):
+            out[name] = _unit_dump(value)
+        elif isinstance(value, list) and value and isinstance(value[0], BaseModel):
+            out[name] = [_unit_dump(v) for v in value]
+        elif name == "flow_rate":
+            kind, v = value
+            out[name] = f"{v:.15g} m^3/s" if kind == "volume" else f"{v:.15g} kg/s"
+        elif isinstance(value, tuple):
+            dim = _dimension_of(info.annotation, info.metadata)
+            out[name] = [_with_unit(float(v), dim) for v in value]
+        else:
+            out[name] = _with_unit(value, _dimension_of(info.annotation, info.metadata))
+    return out
+
+
 def resolved_dict(case: Case) -> dict:
-    m = case.model
-    data = m.model_dump(exclude_none=True)
-    if "flow_rate" in data.get("inlet", {}):
-        kind, value = data["inlet"]["flow_rate"]
-        data["inlet"]["flow_rate"] = f"{value!r} m^3/s" if kind == "volume" else f"{value!r} kg/s"
+    """The case as it ran, every key explicit, quantities with units; loads back to the same case."""
+    data = _unit_dump(case.model)
     if data["bore"]["template"] == "points":
         data["bore"]["file"] = str(case.resolve_path(data["bore"]["file"]).resolve())
     if case.solver_kind is not None:
         data.setdefault("solver", {})["kind"] = case.solver_kind
     if case.fluid.kind in ("seawater", "liquid"):  # water takes its density from IAPWS-IF97
-        data["fluid"]["density"] = case.fluid.density
+        data["fluid"]["density"] = _with_unit(float(case.fluid.density), "density")
     return data

@@ -45,7 +45,7 @@ def write_run(res, out: Path) -> None:
 
     t0 = time.perf_counter()
     out = Path(out)
-    atomic_write_text(out / "case.toml", "# resolved case: every quantity in SI units\n" + tomli_w.dumps(resolved_dict(res.case)))
+    atomic_write_text(out / "case.toml", "# resolved case: the case as it ran, every key explicit (axibore run writes it; it loads as it is)\n" + tomli_w.dumps(resolved_dict(res.case)))
     mesh, flow = res.mesh, res.flow
     write_vtu(out / "fields.vtu", mesh, cell_fields(mesh, flow),
               {"stream_function_m3_s": stream_function(mesh, flow.face_mass_flux / flow.inlet_density)})
