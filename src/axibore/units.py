@@ -148,6 +148,18 @@ def flow_rate_kind(value: object) -> str:
 # ---------------------------------------------------------------------------------------------
 # display
 
+def plain(value: float, digits: int = 4) -> str:
+    """``value`` to ``digits`` significant digits without an exponent (5929 not 5.929e+03)."""
+    if value == 0 or not math.isfinite(value):
+        return "0" if value == 0 else str(value)
+    e = math.floor(math.log10(abs(value)))
+    if not -5 <= e < 15:
+        return f"{value:.{digits}g}"
+    dec = max(digits - 1 - e, 0)
+    text = f"{round(value, dec):.{dec}f}"
+    return text.rstrip("0").rstrip(".") if "." in text else text
+
+
 def show(value: float, dimension: str, digits: int = 4) -> str:
     """Human-readable string for an SI value (used in printed tables, never parsed back)."""
     if value is None or (isinstance(value, float) and not math.isfinite(value)):
@@ -155,21 +167,21 @@ def show(value: float, dimension: str, digits: int = 4) -> str:
     if abs(value) < 1e-9:
         value = 0.0
     if dimension == "length":
-        return f"{value * 1e3:.{digits}g} mm" if abs(value) < 1.0 else f"{value:.{digits}g} m"
+        return f"{plain(value * 1e3, digits)} mm" if abs(value) < 1.0 else f"{plain(value, digits)} m"
     if dimension == "pressure":
-        return f"{value / 1e5:.{digits}g} bar ({value / 1e3:.{digits}g} kPa)"
+        return f"{plain(value / 1e5, digits)} bar ({plain(value / 1e3, digits)} kPa)"
     if dimension == "force":
-        return f"{value / 1e3:.{digits}g} kN" if abs(value) >= 1e3 else f"{value:.{digits}g} N"
+        return f"{plain(value / 1e3, digits)} kN" if abs(value) >= 1e3 else f"{plain(value, digits)} N"
     if dimension == "angle":
-        return f"{math.degrees(value):.{digits}g} deg"
+        return f"{plain(math.degrees(value), digits)} deg"
     if dimension == "temperature":
-        return f"{value:.{digits}g} K ({value - 273.15:.{digits}g} degC)"
+        return f"{plain(value, digits)} K ({plain(value - 273.15, digits)} degC)"
     if dimension == "volume_flow":
-        return f"{value:.{digits}g} m^3/s ({value * 6e4:.{digits}g} L/min)"
+        return f"{plain(value, digits)} m^3/s ({plain(value * 6e4, digits)} L/min)"
     if dimension == "mass_flow":
-        return f"{value:.{digits}g} kg/s"
+        return f"{plain(value, digits)} kg/s"
     if dimension == "density":
-        return f"{value:.{digits}g} kg/m^3"
+        return f"{plain(value, digits)} kg/m^3"
     if dimension == "velocity":
-        return f"{value:.{digits}g} m/s"
-    return f"{value:.{digits}g}"
+        return f"{plain(value, digits)} m/s"
+    return f"{plain(value, digits)}"

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from ..describe import absolute_wall_pressure, deviation_text
 from ..units import show
 
 
@@ -18,7 +19,8 @@ def headline(summary: dict) -> list[str]:
         ("volume flow", show(fl["volume_flow_m3_s"], "volume_flow")),
         ("mass flow", show(fl["mass_flow_kg_s"], "mass_flow")),
         ("mean velocity in / out", f"{fl['inlet_mean_velocity_m_s']:.4g} / {fl['outlet_mean_velocity_m_s']:.4g} m/s"),
-        ("discharge coefficient", "-" if fl["discharge_coefficient"] is None else f"{fl['discharge_coefficient']:.5f}"),
+        ("discharge coefficient", fl.get("discharge_coefficient_note", "-") if fl["discharge_coefficient"] is None
+         else f"{fl['discharge_coefficient']:.5f}"),
         ("inlet / outlet pressure", f"{show(p['inlet_gauge_Pa'], 'pressure')} / {show(p['outlet_gauge_Pa'], 'pressure')} gauge"),
         ("wall force x", show(f["wall_x_N"], "force") + "  (+x = downstream, on the part)"),
     ]
@@ -34,10 +36,11 @@ def headline(summary: dict) -> list[str]:
     rows += [
         ("min wall pressure", f"{show(p['min_wall_gauge_Pa'], 'pressure')} gauge at x = {show(p['min_wall_x_m'], 'length')} "
          f"({p['min_wall_boundary']})"),
-        ("min wall pressure abs", f"{show(p['min_wall_absolute_Pa'], 'pressure')} (vapour {show(p['vapour_pressure_Pa'], 'pressure')})"),
+        ("min wall pressure abs", absolute_wall_pressure(p)),
         ("cavitation index", f"{p['cavitation_index']:.4g} (inception at {p['inception_index']:.4g})"),
-        ("1D wall-pressure dev", f"{o['wall_pressure_max_dev']:.3%} of outlet dynamic pressure; above {o['breakdown_threshold']:.3g}: "
-         + (", ".join(f"x {a * 1e3:.4g}-{b * 1e3:.4g} mm" for a, b in o["breakdown_x_ranges_m"]) or "nowhere")),
+        ("1D wall-pressure dev", deviation_text(o)),
+        (f"1D breakdown (> {o['breakdown_threshold']:.3g} q_out)",
+         ", ".join(f"x {a * 1e3:.4g} to {b * 1e3:.4g} mm" for a, b in o["breakdown_x_ranges_m"]) or "nowhere"),
         ("outlet beta / alpha", f"{o['outlet_momentum_factor']:.5f} / {o['outlet_energy_factor']:.5f}"),
     ]
     sv = summary["solver"]

@@ -45,6 +45,7 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("flow", "outlet_mean_velocity_m_s", lambda r: r.flow.outlet_velocity),
     ("flow", "max_speed_m_s", lambda r: r.flow.max_speed),
     ("flow", "discharge_coefficient", lambda r: r.onedim.discharge_coefficient),
+    ("flow", "discharge_coefficient_note", lambda r: r.onedim.discharge_coefficient_note),
     ("flow", "density_kg_m3", lambda r: r.flow.inlet_density),
     ("flow", "total_pressure_gauge_Pa", lambda r: r.flow.total_pressure),
     # pressure
@@ -72,6 +73,9 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("onedim", "force_dev_rel", lambda r: r.onedim.force_dev_rel),
     ("onedim", "wall_pressure_max_dev", lambda r: r.onedim.wall_pressure_max_dev),
     ("onedim", "wall_pressure_max_dev_x_m", lambda r: r.onedim.wall_pressure_max_dev_x_m),
+    ("onedim", "wall_pressure_max_dev_Pa", lambda r: r.onedim.wall_pressure_max_dev_Pa),
+    ("onedim", "wall_pressure_max_dev_local", lambda r: r.onedim.wall_pressure_max_dev_local),
+    ("onedim", "flow_ratio_to_1d", lambda r: r.onedim.flow_ratio_to_1d),
     ("onedim", "breakdown_threshold", lambda r: r.onedim.threshold),
     ("onedim", "breakdown_x_ranges_m", lambda r: r.onedim.breakdown_x_ranges_m),
     ("onedim", "outlet_momentum_factor", lambda r: r.onedim.outlet_momentum_factor),

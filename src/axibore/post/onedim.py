@@ -25,7 +25,11 @@ class OneDimComparison:
     threshold: float
     outlet_momentum_factor: float  # beta = integral u_x^2 dA / (A V^2)
     outlet_energy_factor: float  # alpha = integral u_x q^2 dA / (A V^3)
-    discharge_coefficient: float | None  # Q / Q_1D(delta p) for the same plane pressure difference
+    discharge_coefficient: float | None  # computed by the model (None where the model makes it 1 by construction)
+    discharge_coefficient_note: str  # how it was obtained, or why there is none
+    flow_ratio_to_1d: float | None  # Q / Q_1D(delta p) for the same plane pressure difference (inviscid: 1 for uniform planes)
+    wall_pressure_max_dev_Pa: float = 0.0  # the largest |p_2D - p_1D| in pascals
+    wall_pressure_max_dev_local: float | None = None  # the same over the local |gauge pressure| (None near 0 gauge)
     meaningful: bool = True  # False when the wall runs backwards in x
     deviation: dict = field(default_factory=dict, repr=False)  # boundary name -> per-face deviation
 
@@ -60,13 +64,13 @@ def compare(profile: Profile, flow: FlowResult, tables: dict, force_2d: float, f
     V_out = flow.outlet_velocity
     q_out = flow.outlet_dynamic_pressure
     ranges, devs = [], {}
-    worst, worst_x = 0.0, float("nan")
+    worst, worst_x, worst_p = 0.0, float("nan"), float("nan")
     for name, t in tables.items():
         dev = (t.pressure - onedim_pressure(profile, t.x, Q, H, rho)) / q_out
         devs[name] = dev
         k = int(np.argmax(np.abs(dev)))
         if abs(dev[k]) > worst:
-            worst, worst_x = float(abs(dev[k])), float(t.x[k])
+            worst, worst_x, worst_p = float(abs(dev[k])), float(t.x[k]), float(t.pressure[k])
         ranges += _ranges(t.x, np.abs(dev) > threshold)
 
     out = flow.outlet
@@ -79,10 +83,16 @@ def compare(profile: Profile, flow: FlowResult, tables: dict, force_2d: float, f
 
     ratio = flow.outlet_area / flow.inlet_area
     dp = flow.inlet_pressure - flow.outlet_pressure
-    cd = None
+    ratio_1d = None
     if dp > 0 and ratio < 1 - 1e-9:
         Q1 = flow.outlet_area * np.sqrt(2 * dp / (rho * (1 - ratio**2)))
-        cd = float(Q / Q1)
+        ratio_1d = float(Q / Q1)
+    # An inviscid flow leaving through a plane at a given pressure has no losses and no jet
+    # contraction: its discharge coefficient is 1 by construction of the model.
+    cd, cd_note = None, ("1 by the inviscid exit-plane model (not computed: a free-jet outlet or the viscous "
+                         "wall layer computes it)")
+    dev_pa = worst * q_out
+    local = dev_pa / abs(worst_p) if np.isfinite(worst_p) and abs(worst_p) > 0.1 * q_out else None
     return OneDimComparison(
         force_dev_rel=float((force_2d - force_1d) / abs(force_1d)) if force_1d else float("nan"),
         wall_pressure_max_dev=worst,
@@ -92,6 +102,10 @@ def compare(profile: Profile, flow: FlowResult, tables: dict, force_2d: float, f
         outlet_momentum_factor=beta,
         outlet_energy_factor=alpha,
         discharge_coefficient=cd,
+        discharge_coefficient_note=cd_note,
+        flow_ratio_to_1d=ratio_1d,
+        wall_pressure_max_dev_Pa=float(dev_pa),
+        wall_pressure_max_dev_local=local,
         meaningful=profile.monotone,
         deviation=devs,
     )

@@ -164,11 +164,15 @@ def plot_convergence(study: GridStudy, path: Path) -> Path:
         h0, h1 = min(hs_all), max(hs_all)
         ref = [1e-3 * (h / h1) ** 2 for h in (h0, h1)]
         ax.loglog([h0, h1], ref, "k--", lw=1, label="slope 2")
+    else:
+        ax.text(0.5, 0.5, "no quantity has an extrapolated value to plot\n(converged to round-off, or no observed order)",
+                transform=ax.transAxes, ha="center", va="center", fontsize=9)
     ax.set_xlabel("representative cell size h [m]")
     ax.set_ylabel("|value - extrapolated| / |extrapolated|")
     ax.set_title(f"Grid convergence: {study.title}", fontsize=10)
     ax.grid(True, which="both", alpha=0.3)
-    ax.legend(fontsize=8)
+    if hs_all:
+        ax.legend(fontsize=8)
     fig.tight_layout()
     return save(fig, path)
 

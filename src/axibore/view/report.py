@@ -16,6 +16,7 @@ from pathlib import Path
 from .. import __version__
 from ..io.files import atomic_write_text
 from ..io.rundir import read_summary
+from ..describe import absolute_wall_pressure, deviation_text
 from ..safety import CAUTIONS
 
 
@@ -69,7 +70,8 @@ def headline_rows(s: dict) -> list[tuple[str, str, str]]:
         ("Mean velocity, inlet", "flow.inlet_mean_velocity_m_s", _fmt(fl["inlet_mean_velocity_m_s"], "m/s")),
         ("Mean velocity, outlet", "flow.outlet_mean_velocity_m_s", _fmt(fl["outlet_mean_velocity_m_s"], "m/s")),
         ("Maximum speed", "flow.max_speed_m_s", _fmt(fl["max_speed_m_s"], "m/s")),
-        ("Discharge coefficient (inviscid)", "flow.discharge_coefficient", _fmt(fl.get("discharge_coefficient"), "", 6)),
+        ("Discharge coefficient", "flow.discharge_coefficient",
+         fl.get("discharge_coefficient_note", "-") if fl.get("discharge_coefficient") is None else _fmt(fl["discharge_coefficient"], "", 6)),
         ("Inlet pressure (gauge, mean)", "pressure.inlet_gauge_Pa", _fmt(p["inlet_gauge_Pa"], "kPa", 6, 1e-3)),
         ("Outlet pressure (gauge, mean)", "pressure.outlet_gauge_Pa", _fmt(p["outlet_gauge_Pa"], "kPa", 6, 1e-3)),
         ("Wall axial force (on the part, +x downstream)", "forces.wall_x_N", _fmt(f["wall_x_N"], "N", 6)),
@@ -84,12 +86,11 @@ def headline_rows(s: dict) -> list[tuple[str, str, str]]:
     rows += [
         ("Minimum wall pressure (gauge)", "pressure.min_wall_gauge_Pa", _fmt(p["min_wall_gauge_Pa"], "kPa", 6, 1e-3)),
         ("  at x", "pressure.min_wall_x_m", _fmt(p["min_wall_x_m"], "mm", 5, 1e3)),
-        ("Minimum wall pressure (absolute)", "pressure.min_wall_absolute_Pa", _fmt(p["min_wall_absolute_Pa"], "kPa", 6, 1e-3)),
+        ("Minimum wall pressure (absolute)", "pressure.min_wall_absolute_Pa", absolute_wall_pressure(p)),
         ("Vapour pressure (absolute)", "pressure.vapour_pressure_Pa", _fmt(p["vapour_pressure_Pa"], "kPa", 5, 1e-3)),
         ("Cavitation index (p_out,abs - p_v) / (rho V_out² / 2)", "pressure.cavitation_index", _fmt(p["cavitation_index"], "", 4)),
         ("Inception index -Cp_min", "pressure.inception_index", _fmt(p["inception_index"], "", 4)),
-        ("Largest wall-pressure deviation from 1D (of outlet dynamic pressure)", "onedim.wall_pressure_max_dev",
-         _fmt(o["wall_pressure_max_dev"], "", 4)),
+        ("Largest wall-pressure deviation from 1D", "onedim.wall_pressure_max_dev_Pa", deviation_text(o)),
         ("Outlet momentum correction factor", "onedim.outlet_momentum_factor", _fmt(o["outlet_momentum_factor"], "", 6)),
         ("Outlet kinetic-energy correction factor", "onedim.outlet_energy_factor", _fmt(o["outlet_energy_factor"], "", 6)),
     ]
