@@ -39,7 +39,11 @@ def test_summary_contract(demo_run):
     for section, keys in KEYS.items():
         assert keys <= set(s[section]), section
     f = s["forces"]
-    assert f["per_bolt_N"] == pytest.approx(f["wall_x_N"] / 4)
+    # the inlet flange (G = 110 mm, 4 bolts) carries the whole wall force plus the 7 bar on the gasket
+    # annulus between the 80 mm bore and G
+    annulus = s["pressure"]["inlet_gauge_Pa"] * np.pi * (0.11**2 - 0.08**2) / 4
+    assert s["pressure"]["inlet_gauge_Pa"] == pytest.approx(7e5, rel=1e-9)
+    assert f["per_bolt_N"] == pytest.approx((f["wall_x_N"] + annulus) / 4, rel=1e-12)
     assert abs(f["reconciliation_rel"]) < 1e-3
 
 

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import copy
 import math
+
+import numpy as np
 import re
 import tomllib
 from dataclasses import dataclass, field
@@ -260,8 +262,31 @@ class OneDimSpec(_Section):
     threshold: Annotated[float, Field(gt=0.0, lt=1.0)] = 0.02
 
 
-class FlangeSpec(_Section):
-    bolts: Annotated[int, Field(ge=1, le=1000)] | None = None
+def _joint_position(value: Any) -> Any:
+    if value in ("inlet", "outlet"):
+        return value
+    if isinstance(value, str) and value.strip().lower() in ("inlet", "outlet"):
+        return value.strip().lower()
+    try:
+        return to_si(value, "length")
+    except UnitError as exc:
+        raise PydanticCustomError("quantity", f'expected "inlet", "outlet" or an axial position x (a length): {exc}') from None
+
+
+JointPosition = Annotated[Union[str, float], BeforeValidator(_joint_position)]
+
+
+class JointSpec(_Section):
+    """A bolted joint: where it is, the gasket reaction diameter G and the bolt count."""
+
+    name: str | None = None
+    at: JointPosition = "inlet"
+    gasket_diameter: PosLength | None = None
+    bolts: Annotated[int, Field(ge=1, le=1000, strict=True)] | None = None
+
+
+class FlangeSpec(JointSpec):
+    """The single joint of a simple case ([flange]); several joints go in [[joint]] tables."""
 
 
 class CaseModel(_Section):
@@ -274,6 +299,7 @@ class CaseModel(_Section):
     solver: SolverSpec = SolverSpec()
     onedim: OneDimSpec = OneDimSpec()
     flange: FlangeSpec = FlangeSpec()
+    joint: list[JointSpec] = Field(default_factory=list)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -305,6 +331,14 @@ class Case:
     solver = property(lambda self: self.model.solver)
     onedim = property(lambda self: self.model.onedim)
     flange = property(lambda self: self.model.flange)
+
+    @property
+    def joints(self) -> list[JointSpec]:
+        """The bolted joints of the case: the [[joint]] tables, else a [flange] that names bolts or a gasket."""
+        if self.model.joint:
+            return list(self.model.joint)
+        f = self.model.flange
+        return [f] if (f.bolts is not None or f.gasket_diameter is not None) else []
 
     @property
     def ambient_pressure(self) -> float:
@@ -491,6 +525,25 @@ def _cross_checks(m: CaseModel) -> list[tuple[str, str]]:
     return problems
 
 
+def _joint_checks(m: CaseModel, profile) -> list[tuple[str, str]]:
+    problems = []
+    f = m.flange
+    if m.joint and (f.bolts is not None or f.gasket_diameter is not None or f.name is not None):
+        problems.append(("flange", "give one joint as [flange] or several as [[joint]] tables, not both"))
+    specs = [(f"joint[{i}]", j) for i, j in enumerate(m.joint, 1)] or [("flange", f)]
+    for key, j in specs:
+        if isinstance(j.at, float) and not profile.x_inlet - profile.tol <= j.at <= profile.x_outlet + profile.tol:
+            problems.append((f"{key}.at", f"expected a position on the bore, from x = {profile.x_inlet:.6g} m to "
+                             f"{profile.x_outlet:.6g} m, got {j.at:.6g} m"))
+        if j.gasket_diameter is not None:
+            x = {"inlet": profile.x_inlet, "outlet": profile.x_outlet}.get(j.at, j.at)
+            bore = 2 * float(profile.wall_radius(np.array([x]))[0])
+            if np.isfinite(bore) and j.gasket_diameter < bore * (1 - 1e-9):
+                problems.append((f"{key}.gasket_diameter", f"expected at least the bore diameter at the joint ({bore * 1e3:.6g} mm), "
+                                 f"got {j.gasket_diameter * 1e3:.6g} mm"))
+    return problems
+
+
 def _resolve_fluid(spec: FluidSpec, ambient: float) -> fluids.Fluid:
     if spec.kind == "water":
         return fluids.resolve_water(spec.temperature, ambient)
@@ -527,6 +580,9 @@ def case_from_dict(data: dict, source: str = "<memory>", base_dir: Path | None =
         profile = build_profile(m.bore, base_dir or Path.cwd())
     except ProfileError as exc:
         raise CaseError(source, [(exc.key, exc.message)]) from None
+    problems = _joint_checks(m, profile)
+    if problems:
+        raise CaseError(source, problems)
     return Case(data=copy.deepcopy(data), model=m, fluid=fluid, profile=profile, solver_kind=solver_kind, source=source,
                 base_dir=base_dir or Path.cwd())
 

@@ -60,8 +60,10 @@ def describe(case: Case) -> list[str]:
         f"target cell {show(h, 'length')}, about {expected_cells(p, case.mesh.size, case.mesh.level):,.0f} cells"
     )
     lines.append(f"solver    {case.solver_kind} (tolerance {case.solver.tolerance:g}); 1D breakdown threshold {case.onedim.threshold:.3g} of the outlet dynamic pressure")
-    if case.flange.bolts:
-        lines.append(f"flange    {case.flange.bolts} bolts")
+    for j in case.joints:
+        at = j.at if isinstance(j.at, str) else f"x = {show(j.at, 'length')}"
+        g = f", gasket reaction diameter {show(j.gasket_diameter, 'length')}" if j.gasket_diameter else ", no gasket diameter"
+        lines.append(f"joint     {j.name or at} at {at}{g}" + (f", {j.bolts} bolts" if j.bolts else ""))
     for msg in case.unsupported():
         lines.append(f"note      {msg}; `run` will refuse this case")
     return lines

@@ -15,6 +15,7 @@ from .geometry import Profile
 from .mesh import FVMesh
 from .mesh.gmsh_build import MeshBuild, mesh_profile
 from .post.checks import Checks, checks
+from .post.joints import JointLoad, jet_reaction, joint_loads
 from .post.loads import Forces, WallTable, forces, wall_tables
 from .post.onedim import OneDimComparison, compare
 from .solvers import SOLVERS
@@ -40,6 +41,8 @@ class RunResult:
     checks: Checks
     seconds: dict[str, float] = field(default_factory=dict)
     mesh_quality: dict = field(default_factory=dict)
+    joints: list[JointLoad] = field(default_factory=list)
+    jet_reaction_N: float | None = None
 
     def summary(self) -> dict:
         from .io.summary import build_summary
@@ -74,12 +77,13 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
     progress("solve", f"{rec.solver}: {rec.method}, {rec.iterations} iterations, residual {rec.residual:.2e}, {sec['solve']:.2f} s")
     t = time.perf_counter()
     tables = wall_tables(flow, profile)
-    frc = forces(flow, tables, case.flange.bolts)
+    frc = forces(flow, tables)
+    joints = joint_loads(case, profile, flow, tables)
     od = compare(profile, flow, tables, frc.total_x_N, frc.onedim_x_N, case.onedim.threshold)
     chk = checks(case, profile, flow, tables, frc, od)
     quality = mesh.quality()
     sec["post"] = time.perf_counter() - t
-    return RunResult(case, profile, mesh, build, flow, tables, frc, od, chk, sec, quality)
+    return RunResult(case, profile, mesh, build, flow, tables, frc, od, chk, sec, quality, joints, jet_reaction(case, flow))
 
 
 def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, report: bool = True) -> RunResult:

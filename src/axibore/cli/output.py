@@ -31,8 +31,12 @@ def headline(summary: dict) -> list[str]:
         ("1D formula x", f"{show(f['onedim_x_N'], 'force')}  (2D - 1D: {o['force_dev_rel']:+.3%})" if o["force_dev_rel"] is not None
          else show(f["onedim_x_N"], "force")),
     ]
-    if f["per_bolt_N"] is not None:
-        rows.append(("per bolt", f"{show(f['per_bolt_N'], 'force')}  ({f['bolts']} bolts, wall force shared equally)"))
+    for j in summary.get("joints", []):
+        bolts = f", {show(j['per_bolt_N'], 'force')} per bolt ({j['bolts']} bolts)" if j["per_bolt_N"] is not None else ""
+        rows.append((f"joint {j['name']}", f"{show(j['load_N'], 'force')}{bolts}; G {show(j['gasket_diameter_m'], 'length')}, "
+                     f"p {show(j['pressure_gauge_Pa'], 'pressure')} (hydrodynamic part)"))
+    if f.get("jet_reaction_N") is not None:
+        rows.append(("jet reaction", f"{show(f['jet_reaction_N'], 'force')} on the holder, upstream (mdot V + p A at the exit)"))
     rows += [
         ("min wall pressure", f"{show(p['min_wall_gauge_Pa'], 'pressure')} gauge at x = {show(p['min_wall_x_m'], 'length')} "
          f"({p['min_wall_boundary']})"),

@@ -12,6 +12,7 @@ import math
 from typing import Any, Callable
 
 from .. import __version__
+from ..post.joints import CAUTION as JOINT_CAUTION
 from ..safety import CAUTIONS
 
 SCHEMA = 1
@@ -67,8 +68,9 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("forces", "momentum_x_N", lambda r: r.forces.momentum_x_N),
     ("forces", "onedim_x_N", lambda r: r.forces.onedim_x_N),
     ("forces", "reconciliation_rel", lambda r: r.forces.reconciliation_rel),
-    ("forces", "per_bolt_N", lambda r: r.forces.per_bolt_N),
-    ("forces", "bolts", lambda r: r.case.flange.bolts),
+    ("forces", "per_bolt_N", lambda r: r.joints[0].per_bolt_N if r.joints else None),
+    ("forces", "bolts", lambda r: r.joints[0].bolts if r.joints else None),
+    ("forces", "jet_reaction_N", lambda r: r.jet_reaction_N),
     # 1D comparison
     ("onedim", "force_dev_rel", lambda r: r.onedim.force_dev_rel),
     ("onedim", "wall_pressure_max_dev", lambda r: r.onedim.wall_pressure_max_dev),
@@ -85,7 +87,10 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
 
 NOTES = (
     "forces are exerted by the fluid on the part, +x downstream, from gauge pressure",
-    "per_bolt_N divides the wall force only (a centre body is taken as supported elsewhere)",
+    "joints: load = wall force on the part beyond the joint + gauge pressure on the gasket annulus pi (G^2 - D^2) / 4 "
+    "(positive: bolts in tension); end_force_N = pi G^2 p / 4, the hydrostatic end force of flange rules; "
+    "per_bolt_N in forces is that of the first joint",
+    "jet_reaction_N = mdot V_out + p_out A_out: the force of the jet on the holder, upstream",
     "cavitation_index = (p_outlet,abs - p_vapour) / (rho V_outlet^2 / 2); inception_index = -Cp_min "
     "(common practice; cf. ISA-RP75.23-1995 for valves)",
 )
@@ -118,9 +123,10 @@ def build_summary(res) -> dict:
         {"x_m": k.x, "r_m": k.r, "turn_deg": math.degrees(k.turn), "convex": k.convex, "boundary": str(k.boundary), "key": k.key}
         for k in res.profile.corners()
     ]
+    out["joints"] = [j.as_dict() for j in res.joints]
     out["seconds"] = dict(res.seconds)
     out["warnings"] = list(res.checks.warnings)
-    out["cautions"] = list(CAUTIONS)
+    out["cautions"] = list(CAUTIONS) + ([JOINT_CAUTION] if res.joints else [])
     out["notes"] = list(NOTES)
     return finite(out)
 

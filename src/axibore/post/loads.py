@@ -90,7 +90,6 @@ class Forces:
     momentum_x_N: float
     onedim_x_N: float
     reconciliation_rel: float
-    per_bolt_N: float | None
     inlet_momentum_N: float
     outlet_momentum_N: float
 
@@ -111,7 +110,7 @@ def onedim_force(flow: FlowResult) -> float:
     return p1 * flow.inlet_area - p2 * flow.outlet_area + flow.mass_flow * (V1 - V2)
 
 
-def forces(flow: FlowResult, tables: dict[str, WallTable], bolts: int | None) -> Forces:
+def forces(flow: FlowResult, tables: dict[str, WallTable]) -> Forces:
     wall = tables[Boundary.WALL].total_force
     body = tables[Boundary.CENTERBODY].total_force if Boundary.CENTERBODY in tables else 0.0
     m_in, m_out = flow.inlet.momentum_flux, flow.outlet.momentum_flux
@@ -123,7 +122,6 @@ def forces(flow: FlowResult, tables: dict[str, WallTable], bolts: int | None) ->
         momentum_x_N=momentum,
         onedim_x_N=onedim_force(flow),
         reconciliation_rel=(wall + body - momentum) / scale,
-        per_bolt_N=wall / bolts if bolts else None,
         inlet_momentum_N=m_in,
         outlet_momentum_N=m_out,
     )

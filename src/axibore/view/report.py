@@ -17,6 +17,7 @@ from .. import __version__
 from ..io.files import atomic_write_text
 from ..io.rundir import read_summary
 from ..describe import absolute_wall_pressure, deviation_text
+from ..post.joints import CAUTION as JOINT_CAUTION
 from ..safety import CAUTIONS
 
 
@@ -81,8 +82,11 @@ def headline_rows(s: dict) -> list[tuple[str, str, str]]:
         ("1D formula p1 A1 - p2 A2 + mdot (V1 - V2)", "forces.onedim_x_N", _fmt(f["onedim_x_N"], "N", 6)),
         ("Force deviation (2D - 1D) / |1D|", "onedim.force_dev_rel", _fmt(o.get("force_dev_rel"), "", 3)),
     ]
+    if f.get("jet_reaction_N") is not None:
+        rows.append(("Jet reaction on the holder (upstream): mdot V + p A at the exit", "forces.jet_reaction_N",
+                     _fmt(f["jet_reaction_N"], "N", 6)))
     if f.get("per_bolt_N") is not None:
-        rows.append((f"Per bolt ({f.get('bolts')} bolts, wall force shared equally)", "forces.per_bolt_N", _fmt(f["per_bolt_N"], "N", 5)))
+        rows.append((f"Per bolt, first joint ({f.get('bolts')} bolts; hydrodynamic part)", "forces.per_bolt_N", _fmt(f["per_bolt_N"], "N", 5)))
     rows += [
         ("Minimum wall pressure (gauge)", "pressure.min_wall_gauge_Pa", _fmt(p["min_wall_gauge_Pa"], "kPa", 6, 1e-3)),
         ("  at x", "pressure.min_wall_x_m", _fmt(p["min_wall_x_m"], "mm", 5, 1e3)),
@@ -143,6 +147,21 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     parts.append(f"<tr><td>x ranges where the wall pressure departs from 1D by more than "
                  f"{s['onedim']['breakdown_threshold']:.3g} of the outlet dynamic pressure</td><td class='num'>{e(rtext)}</td></tr>")
     parts.append("</table>")
+    if s.get("joints"):
+        parts.append("<h2>Joint loads (hydrodynamic part)</h2><table><tr><th>joint</th><th>x</th><th>bore D / gasket G</th>"
+                     "<th>gauge pressure</th><th>force on the part beyond</th><th>gasket annulus</th><th>load</th><th>per bolt</th></tr>")
+        for j in s["joints"]:
+            per = "-" if j["per_bolt_N"] is None else f"{_fmt(j['per_bolt_N'], 'N', 5)} ({j['bolts']} bolts)"
+            parts.append(f"<tr><td>{e(j['name'])}</td><td class='num'>{_fmt(j['x_m'], 'mm', 5, 1e3)}</td>"
+                         f"<td class='num'>{_fmt(j['bore_diameter_m'], 'mm', 5, 1e3)} / {_fmt(j['gasket_diameter_m'], 'mm', 5, 1e3)}</td>"
+                         f"<td class='num'>{_fmt(j['pressure_gauge_Pa'], 'kPa', 5, 1e-3)}</td><td class='num'>{_fmt(j['part_force_N'], 'N', 6)}</td>"
+                         f"<td class='num'>{_fmt(j['annulus_force_N'], 'N', 6)}</td><td class='num'>{_fmt(j['load_N'], 'N', 6)}</td>"
+                         f"<td class='num'>{e(per)}</td></tr>")
+        parts.append("</table>")
+        for j in s["joints"]:
+            if j["note"]:
+                parts.append(f"<div class='warn'>{e(j['name'])}: {e(j['note'])}</div>")
+        parts.append(f"<div class='caution'><strong>Joints.</strong> {e(JOINT_CAUTION)}</div>")
     if s["warnings"] or notes:
         parts.append("<h2>Warnings</h2>")
         parts += [f"<div class='warn'>{e(w)}</div>" for w in s["warnings"] + notes]
