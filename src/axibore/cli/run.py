@@ -44,6 +44,10 @@ def run(args) -> int:
         out(f"warning: {w}")
     out("")
     out(caution_text())
+    if s.get("joints"):
+        from ..post.joints import CAUTION as JOINT_CAUTION
+
+        out(f"Joints: {JOINT_CAUTION}")
     written = ["report.html"] if (outdir / "report.html").exists() else []
     written += ["summary.json", "wall.csv", "wall_load.vtu", "fields.vtu", "mesh.msh", "case.toml"]
     out(f"wrote {outdir}/ ({', '.join(written)})")

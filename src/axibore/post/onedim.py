@@ -59,7 +59,8 @@ def _merge(ranges: list[list[float]]) -> list[list[float]]:
     return out
 
 
-def compare(profile: Profile, flow: FlowResult, tables: dict, force_2d: float, force_1d: float, threshold: float) -> OneDimComparison:
+def compare(profile: Profile, flow: FlowResult, tables: dict, force_2d: float, force_1d: float, threshold: float,
+            outlet_kind: str = "exit-plane") -> OneDimComparison:
     rho, Q, H = flow.inlet_density, flow.volume_flow, flow.total_pressure
     V_out = flow.outlet_velocity
     q_out = flow.outlet_dynamic_pressure
@@ -89,8 +90,11 @@ def compare(profile: Profile, flow: FlowResult, tables: dict, force_2d: float, f
         ratio_1d = float(Q / Q1)
     # An inviscid flow leaving through a plane at a given pressure has no losses and no jet
     # contraction: its discharge coefficient is 1 by construction of the model.
-    cd, cd_note = None, ("1 by the inviscid exit-plane model (not computed: a free-jet outlet or the viscous "
-                         "wall layer computes it)")
+    cd = None
+    if outlet_kind == "pipe":
+        cd_note = "none for a pipe outlet (inviscid flow between two planes has no losses)"
+    else:
+        cd_note = "1 by the inviscid exit-plane model (not computed: a free-jet outlet or the viscous wall layer computes it)"
     dev_pa = worst * q_out
     local = dev_pa / abs(worst_p) if np.isfinite(worst_p) and abs(worst_p) > 0.1 * q_out else None
     return OneDimComparison(
