@@ -256,6 +256,8 @@ class SolverSpec(_Section):
     gmres_max_restarts: Annotated[int, Field(ge=1, le=1000, strict=True)] = 20
     amg: Literal["ruge-stuben", "smoothed-aggregation"] = "ruge-stuben"
     amg_max_coarse: Annotated[int, Field(ge=10, le=100_000, strict=True)] = 500
+    # compressible solver: the most nonlinear (pseudo-time) steps before it reports "not converged"
+    max_steps: Annotated[int, Field(ge=1, le=10_000, strict=True)] = 150
 
 
 class OneDimSpec(_Section):

@@ -72,7 +72,9 @@ def describe(case: Case) -> list[str]:
 def absolute_wall_pressure(p: dict) -> str:
     """The lowest absolute wall pressure, or how far the liquid result falls below the vapour pressure."""
     pabs, pv = p["min_wall_absolute_Pa"], p["vapour_pressure_Pa"]
-    if pv is not None and pabs < pv:
+    if pv is None:
+        return show(pabs, "pressure")
+    if pabs < pv:
         return (f"below the vapour pressure ({show(pv, 'pressure', 3)}) by {show(pv - pabs, 'pressure', 3)}: the flow "
                 "cavitates there and the single-phase result is not valid")
     return f"{show(pabs, 'pressure')} (vapour {show(pv, 'pressure', 3)})"

@@ -6,7 +6,7 @@ solver) -> wall tables, forces, 1D comparison, checks. ``solve_case`` computes i
 from __future__ import annotations
 
 import time
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Callable
 
@@ -79,7 +79,9 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
     tables = wall_tables(flow, profile)
     frc = forces(flow, tables)
     joints = joint_loads(case, profile, flow, tables)
-    od = compare(profile, flow, tables, frc.total_x_N, frc.onedim_x_N, case.onedim.threshold, case.outlet.kind)
+    od = compare(case, profile, flow, tables, frc.total_x_N, frc.onedim_x_N)
+    if od.onedim_force_N is not None:
+        frc = replace(frc, onedim_x_N=od.onedim_force_N)
     chk = checks(case, profile, flow, tables, frc, od)
     quality = mesh.quality()
     sec["post"] = time.perf_counter() - t

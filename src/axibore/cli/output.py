@@ -15,13 +15,21 @@ def table(rows: list[tuple[str, str]]) -> list[str]:
 def headline(summary: dict) -> list[str]:
     """The numbers an engineer signs off, as printed lines."""
     fl, p, f, o = summary["flow"], summary["pressure"], summary["forces"], summary["onedim"]
-    rows = [
-        ("volume flow", show(fl["volume_flow_m3_s"], "volume_flow")),
-        ("mass flow", show(fl["mass_flow_kg_s"], "mass_flow")),
+    gas = fl.get("compressible")
+    rows = [] if gas else [("volume flow", show(fl["volume_flow_m3_s"], "volume_flow"))]
+    rows += [
+        ("mass flow", show(fl["mass_flow_kg_s"], "mass_flow")
+         + (f"  (ideal quasi-1D {show(fl['ideal_mass_flow_kg_s'], 'mass_flow')}, {fl['onedim_regime']})" if gas else "")),
         ("mean velocity in / out", f"{fl['inlet_mean_velocity_m_s']:.4g} / {fl['outlet_mean_velocity_m_s']:.4g} m/s"),
         ("discharge coefficient", fl.get("discharge_coefficient_note", "-") if fl["discharge_coefficient"] is None
          else f"{fl['discharge_coefficient']:.5f}"),
         ("inlet / outlet pressure", f"{show(p['inlet_gauge_Pa'], 'pressure')} / {show(p['outlet_gauge_Pa'], 'pressure')} gauge"),
+    ]
+    if gas:
+        rows += [("inlet / outlet abs", f"{show(p['inlet_absolute_Pa'], 'pressure')} / {show(p['outlet_absolute_Pa'], 'pressure')}"),
+                 ("max Mach number", f"{fl['mach_max']:.4g}" + (f"; minimum area at x = {show(fl['throat_x_m'], 'length')}"
+                                                               if fl.get("throat_x_m") is not None else ""))]
+    rows += [
         ("wall force x", show(f["wall_x_N"], "force") + "  (+x = downstream, on the part)"),
     ]
     if f["centerbody_x_N"]:
@@ -41,7 +49,10 @@ def headline(summary: dict) -> list[str]:
         ("min wall pressure", f"{show(p['min_wall_gauge_Pa'], 'pressure')} gauge at x = {show(p['min_wall_x_m'], 'length')} "
          f"({p['min_wall_boundary']})"),
         ("min wall pressure abs", absolute_wall_pressure(p)),
-        ("cavitation index", f"{p['cavitation_index']:.4g} (inception at {p['inception_index']:.4g})"),
+    ]
+    if not gas:
+        rows.append(("cavitation index", f"{p['cavitation_index']:.4g} (inception at {p['inception_index']:.4g})"))
+    rows += [
         ("1D wall-pressure dev", deviation_text(o)),
         (f"1D breakdown (> {o['breakdown_threshold']:.3g} q_out)",
          ", ".join(f"x {a * 1e3:.4g} to {b * 1e3:.4g} mm" for a, b in o["breakdown_x_ranges_m"]) or "nowhere"),

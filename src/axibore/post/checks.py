@@ -41,6 +41,20 @@ def polygon_warnings(profile) -> list[str]:
     return out
 
 
+def _gas_warnings(case, flow, onedim) -> list[str]:
+    out = []
+    m_exit = float(np.max(flow.outlet.speed / np.sqrt(case.fluid.gamma * (flow.outlet.pressure + flow.ambient_pressure)
+                                                      / flow.outlet.density)))
+    if m_exit >= 0.99 and case.outlet.kind == "exit-plane":
+        out.append(f"the exit plane is sonic or supersonic (Mach up to {m_exit:.3g}): the jet beyond it (expansion to the "
+                   "ambient, shock cells) is not modelled; the flow upstream of the sonic line, and so the mass flow, does "
+                   "not depend on it")
+    if onedim.gas and onedim.gas.get("shock_x_m") is not None:
+        out.append(f"the quasi-1D model puts a normal shock at x = {onedim.gas['shock_x_m'] * 1e3:.4g} mm in the diverging "
+                   "part (compare with the 2D pressure along the wall)")
+    return out
+
+
 @dataclass(frozen=True)
 class Checks:
     min_wall_gauge_Pa: float
@@ -48,9 +62,9 @@ class Checks:
     min_wall_r_m: float
     min_wall_boundary: str
     min_wall_absolute_Pa: float
-    vapour_pressure_Pa: float
-    cavitation_index: float
-    inception_index: float  # -Cp_min
+    vapour_pressure_Pa: float | None
+    cavitation_index: float | None
+    inception_index: float | None  # -Cp_min
     cp_min: float
     warnings: list[str]
 
@@ -64,21 +78,23 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
     p_min = float(t.pressure[k])
     p_out = flow.outlet_pressure
     pv = case.fluid.vapour_pressure
-    sigma = (p_out + p_amb - pv) / q_out
     cp_min = (p_min - p_out) / q_out
+    sigma = (p_out + p_amb - pv) / q_out if pv is not None else float("nan")
     warnings: list[str] = []
 
-    if p_min + p_amb < pv:
+    if flow.compressible:
+        warnings += _gas_warnings(case, flow, onedim)
+    elif p_min + p_amb < pv:
         below = {n: tb.x[tb.pressure + p_amb < pv] for n, tb in tables.items()}
         spans = ", ".join(f"{n} x = {v.min() * 1e3:.4g} to {v.max() * 1e3:.4g} mm" for n, v in below.items() if v.size)
         warnings.append(
             f"cavitation expected: the single-phase result is not valid there (wall pressure below the vapour pressure "
             f"{pv:.4g} Pa on {spans})"
         )
-    if p_min + p_amb < 0:
+    if p_min + p_amb < 0 and not flow.compressible:
         warnings.append("the computed absolute wall pressure is negative: a liquid cannot sustain this; the flow will cavitate or separate")
     for c in profile.corners():
-        if c.convex:
+        if c.convex and not flow.compressible:
             warnings.append(
                 f"sharp convex corner on the {c.boundary} at x = {c.x * 1e3:.4g} mm, r = {c.r * 1e3:.4g} mm ({c.key}, turns "
                 f"{math.degrees(c.turn):.3g} deg): the exact potential-flow speed there is infinite, so the suction peak "
@@ -97,7 +113,7 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
     warnings += polygon_warnings(profile)
     if not onedim.meaningful:
         warnings.append("the wall runs backwards in x: the 1D model along x is not meaningful for this bore")
-    if case.outlet.kind == "exit-plane":
+    if case.outlet.kind == "exit-plane" and not flow.compressible:
         warnings.append(
             "exit-plane outlet: the jet is taken to leave normal to the exit plane at ambient mean pressure; "
             "the contraction of a free jet beyond the exit is not modelled"
@@ -109,8 +125,8 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
         min_wall_boundary=name,
         min_wall_absolute_Pa=p_min + p_amb,
         vapour_pressure_Pa=pv,
-        cavitation_index=float(sigma),
-        inception_index=float(-cp_min),
+        cavitation_index=None if flow.compressible else float(sigma),
+        inception_index=None if flow.compressible else float(-cp_min),
         cp_min=float(cp_min),
         warnings=warnings,
     )

@@ -1,9 +1,14 @@
 """The 1D models an engineer uses by hand, and where the 2D answer departs from them.
 
-Continuity and Bernoulli along x with the local flow area A(x) (an annulus where a centre body
-is present): V(x) = Q / A(x), p(x) = H - rho V(x)^2 / 2, with the same flow rate Q and total
-head H as the 2D solution, so that differences are the 1D assumption (uniform velocity on every
-cross-section) alone.
+Liquids: continuity and Bernoulli along x with the local flow area A(x) (an annulus where a
+centre body is present): V(x) = Q / A(x), p(x) = H - rho V(x)^2 / 2, with the same flow rate Q
+and total head H as the 2D solution, so that differences are the 1D assumption (uniform velocity
+on every cross-section) alone.
+
+Gases: quasi-1D isentropic flow along x with the same A(x), inlet total pressure and temperature
+and back pressure (solvers/onedim_gas.py): choked at the minimum area when the back pressure is
+low enough, with a normal shock in a diverging part where the back pressure puts one. Its mass
+flow is the ideal mass flow; the computed mass flow over it is the discharge coefficient.
 """
 
 from __future__ import annotations
@@ -32,6 +37,22 @@ class OneDimComparison:
     wall_pressure_max_dev_local: float | None = None  # the same over the local |gauge pressure| (None near 0 gauge)
     meaningful: bool = True  # False when the wall runs backwards in x
     deviation: dict = field(default_factory=dict, repr=False)  # boundary name -> per-face deviation
+    onedim_force_N: float | None = None  # the 1D force when it is not the liquid formula of loads.onedim_force
+    gas: dict | None = None  # quasi-1D facts of a gas case (ideal mass flow, choked, throat, shock)
+
+
+def _gas_model(case, profile: Profile, flow: FlowResult):
+    """Quasi-1D state along a dense x grid of the bore, and at the wall faces."""
+    from ..solvers import onedim_gas as q1d
+
+    amb = case.ambient_pressure
+    p0, T0 = case.inlet.total_pressure + amb, case.inlet.total_temperature
+    p_back = (case.outlet.pressure or 0.0) + amb
+    R, g = case.fluid.gas_constant, case.fluid.gamma
+    x = np.linspace(profile.x_inlet, profile.x_outlet, 2001)
+    A = profile.flow_area(x)
+    model = q1d.quasi_one_dim(x, A, p0, T0, p_back, R, g)
+    return model, amb
 
 
 def onedim_pressure(profile: Profile, x: np.ndarray, Q: float, H: float, rho: float) -> np.ndarray:
@@ -59,15 +80,24 @@ def _merge(ranges: list[list[float]]) -> list[list[float]]:
     return out
 
 
-def compare(profile: Profile, flow: FlowResult, tables: dict, force_2d: float, force_1d: float, threshold: float,
-            outlet_kind: str = "exit-plane") -> OneDimComparison:
+def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: float, force_1d: float) -> OneDimComparison:
+    threshold, outlet_kind = case.onedim.threshold, case.outlet.kind
     rho, Q, H = flow.inlet_density, flow.volume_flow, flow.total_pressure
     V_out = flow.outlet_velocity
     q_out = flow.outlet_dynamic_pressure
     ranges, devs = [], {}
     worst, worst_x, worst_p = 0.0, float("nan"), float("nan")
+    gas = None
+    if flow.compressible:
+        model, amb = _gas_model(case, profile, flow)
+
+        def p1d(x):
+            return np.interp(x, model.x, model.pressure) - amb
+    else:
+        def p1d(x):
+            return onedim_pressure(profile, x, Q, H, rho)
     for name, t in tables.items():
-        dev = (t.pressure - onedim_pressure(profile, t.x, Q, H, rho)) / q_out
+        dev = (t.pressure - p1d(t.x)) / q_out
         devs[name] = dev
         k = int(np.argmax(np.abs(dev)))
         if abs(dev[k]) > worst:
@@ -85,13 +115,28 @@ def compare(profile: Profile, flow: FlowResult, tables: dict, force_2d: float, f
     ratio = flow.outlet_area / flow.inlet_area
     dp = flow.inlet_pressure - flow.outlet_pressure
     ratio_1d = None
-    if dp > 0 and ratio < 1 - 1e-9:
+    if dp > 0 and ratio < 1 - 1e-9 and not flow.compressible:
         Q1 = flow.outlet_area * np.sqrt(2 * dp / (rho * (1 - ratio**2)))
         ratio_1d = float(Q / Q1)
     # An inviscid flow leaving through a plane at a given pressure has no losses and no jet
     # contraction: its discharge coefficient is 1 by construction of the model.
     cd = None
-    if outlet_kind == "pipe":
+    force_1d_gas = None
+    if flow.compressible:
+        it = int(np.argmin(model.area))
+        cd = flow.mass_flow / model.mass_flow
+        cd_note = ("computed mass flow over the ideal quasi-1D isentropic mass flow through the minimum area "
+                   f"({model.area[it] * 1e6:.6g} mm^2) at the same inlet total conditions and back pressure")
+        # the 1D force a hand calculation gives: uniform quasi-1D states on the two planes
+        p_in, p_out = model.pressure[0] - amb, model.pressure[-1] - amb
+        V_in = model.mass_flow / (model.density[0] * model.area[0])
+        V_ex = model.mass_flow / (model.density[-1] * model.area[-1])
+        force_1d_gas = p_in * model.area[0] - p_out * model.area[-1] + model.mass_flow * (V_in - V_ex)
+        force_1d = force_1d_gas
+        gas = {"ideal_mass_flow_kg_s": model.mass_flow, "choked": model.regime != "subsonic", "regime": model.regime,
+               "throat_x_m": float(model.x[it]), "throat_area_m2": float(model.area[it]),
+               "shock_x_m": model.x_shock, "onedim_exit_mach": float(model.mach[-1])}
+    elif outlet_kind == "pipe":
         cd_note = "none for a pipe outlet (inviscid flow between two planes has no losses)"
     else:
         cd_note = "1 by the inviscid exit-plane model (not computed: a free-jet outlet or the viscous wall layer computes it)"
@@ -110,6 +155,8 @@ def compare(profile: Profile, flow: FlowResult, tables: dict, force_2d: float, f
         flow_ratio_to_1d=ratio_1d,
         wall_pressure_max_dev_Pa=float(dev_pa),
         wall_pressure_max_dev_local=local,
+        onedim_force_N=force_1d_gas,
+        gas=gas,
         meaningful=profile.monotone,
         deviation=devs,
     )

@@ -37,3 +37,5 @@ def default_for(fluid_class: str) -> str | None:
 
 register("potential", "axibore.solvers.potential:solve", ("liquid",),
          "incompressible irrotational flow, second-order finite volumes")
+register("euler", "axibore.solvers.euler:solve", ("gas",),
+         "compressible Euler equations for an ideal gas, subsonic to choked, second-order finite volumes")

@@ -76,7 +76,7 @@ def wall_pressure_plot(run, path=None) -> Path:
     """Wall gauge pressure along x: 2D result and the 1D model, breakdown ranges shaded."""
     run = _as_run(run)
     s = run["summary"]
-    q_out = 0.5 * s["flow"]["density_kg_m3"] * s["flow"]["outlet_mean_velocity_m_s"] ** 2
+    q_out = s["onedim"].get("outlet_dynamic_pressure_Pa") or 0.5 * s["flow"]["density_kg_m3"] * s["flow"]["outlet_mean_velocity_m_s"] ** 2
     fig, ax = figure(7.2, 3.8)
     for a, b in s["onedim"]["breakdown_x_ranges_m"]:
         ax.axvspan(a * 1e3, b * 1e3, color=COLOURS["band"], alpha=0.35, lw=0)
@@ -84,9 +84,10 @@ def wall_pressure_plot(run, path=None) -> Path:
         ax.plot(t["x_m"] * 1e3, t["p_gauge_Pa"] / 1e5, color=COLOURS[name], lw=1.6, label=f"{name}, 2D")
         if "onedim_dev" in t:
             p1 = t["p_gauge_Pa"] - t["onedim_dev"] * q_out
-            ax.plot(t["x_m"] * 1e3, p1 / 1e5, "--", color=COLOURS["onedim"], lw=1.1, label=f"{name}, 1D (Bernoulli)" if name == "wall" else None)
-    pv = s["pressure"]["vapour_pressure_Pa"] - s["pressure"]["ambient_pressure_Pa"]
-    if s["pressure"]["min_wall_gauge_Pa"] < pv + 0.2 * abs(s["pressure"]["inlet_gauge_Pa"] - pv):
+            model = "quasi-1D isentropic" if s["flow"].get("compressible") else "Bernoulli"
+            ax.plot(t["x_m"] * 1e3, p1 / 1e5, "--", color=COLOURS["onedim"], lw=1.1, label=f"{name}, 1D ({model})" if name == "wall" else None)
+    pv = (s["pressure"]["vapour_pressure_Pa"] or -np.inf) - s["pressure"]["ambient_pressure_Pa"]
+    if np.isfinite(pv) and s["pressure"]["min_wall_gauge_Pa"] < pv + 0.2 * abs(s["pressure"]["inlet_gauge_Pa"] - pv):
         ax.axhline(pv / 1e5, color="#c0392b", lw=0.9, ls=":", label="vapour pressure (gauge)")
     ax.set_xlabel("x [mm]")
     ax.set_ylabel("gauge pressure [bar]")
@@ -166,7 +167,8 @@ def speed_plot(run, path=None, lines: int = 12) -> Path:
 
     psi = f["point_data"]["stream_function_m3_s"]
     levels = np.linspace(psi.min(), psi.max(), lines + 2)[1:-1]
-    speed = f["cell_data"]["speed_m_s"]
+    mach = "mach" in f["cell_data"]
+    speed = f["cell_data"]["mach" if mach else "speed_m_s"]
     if len(allc) <= DRAW_CELLS_MAX:
         pc = PolyCollection(nodes[allc], array=speed, cmap="viridis", edgecolor="face", linewidth=0.05)
         ax.add_collection(pc)
@@ -195,10 +197,11 @@ def speed_plot(run, path=None, lines: int = 12) -> Path:
     ax.set_ylim(0, nodes[:, 1].max() * 1.02)
     ax.set_aspect("equal")
     cb = fig.colorbar(pc, ax=ax, shrink=0.85)
-    cb.set_label("speed [m/s]")
+    cb.set_label("Mach number" if mach else "speed [m/s]")
     ax.set_xlabel("x [m]")
     ax.set_ylabel("r [m]")
-    ax.set_title(f"Speed; white: streamlines, each band carries 1/{lines + 1} of the flow", fontsize=8.5)
+    ax.set_title(f"{'Mach number' if mach else 'Speed'}; white: streamlines, each band carries 1/{lines + 1} of the flow",
+                 fontsize=8.5)
     fig.tight_layout()
     return save(fig, Path(path or run["dir"] / "plot_speed.png"))
 

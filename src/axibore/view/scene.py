@@ -17,6 +17,7 @@ from ..io.wall_load import SEGMENTS, revolve
 FIELDS = {
     "pressure": ("p_gauge_Pa", "gauge pressure [Pa]"),
     "speed": ("speed_m_s", "speed [m/s]"),
+    "mach": ("mach", "Mach number [-] (gas runs)"),
     "cp": ("cp", "pressure coefficient Cp [-] (on the outlet dynamic pressure)"),
 }
 
