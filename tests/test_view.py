@@ -184,3 +184,24 @@ def test_wall_load_faceting_factor(run_dir):
     factor = SEGMENTS * np.sin(2 * np.pi / SEGMENTS) / (2 * np.pi)
     # (VTK computes the normals in single precision: agreement to 1e-6, against 1 - factor = 3.2e-4)
     assert F / s["forces"]["wall_x_N"] == pytest.approx(factor, rel=1e-6)
+
+
+def test_load_files_read_with_ordinary_readers(run_dir):
+    # header first: numpy's genfromtxt with names=True reads every CSV of a run as it is
+    for name in ("wall.csv", "wall_load.csv", "wall_load_points.csv", "centerbody_load.csv", "solver_history.csv"):
+        data = np.genfromtxt(run_dir / name, delimiter=",", names=True)
+        assert data.size >= 1 and all(np.isfinite(data[n]).all() for n in data.dtype.names), name
+        side = json.loads((run_dir / (name + ".json")).read_text())
+        assert side["columns"] == list(data.dtype.names) and side["description"]
+    pts = np.genfromtxt(run_dir / "wall_load_points.csv", delimiter=",", names=True)
+    n = np.column_stack([pts["n_x"], pts["n_y"], pts["n_z"]])
+    assert np.allclose(np.linalg.norm(n, axis=1), 1.0)
+    # points lie on the revolved wall: their distance from the axis is the wall radius at their x
+    w = read_csv(run_dir / "wall.csv")
+    r = np.hypot(pts["y_m"], pts["z_m"])
+    assert np.allclose(r, np.interp(pts["x_m"], w["x_m"], w["r_m"]), atol=2 * w["face_length_m"].max())
+    # the needle tip touches the axis: its revolved points there are merged into one
+    m = pv.read(run_dir / "centerbody_load.vtu")
+    key = np.round(np.asarray(m.points) / 1e-9)
+    assert len(np.unique(key, axis=0)) == m.n_points
+    assert "normal" in m.point_data

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import csv
 import io
+import json
 import os
 import shutil
 import tempfile
@@ -68,13 +69,18 @@ def atomic_dir(path: str | Path):
         shutil.rmtree(old, ignore_errors=True)
 
 
-def write_csv(path: str | Path, columns: dict[str, np.ndarray], header_comment: str = "") -> Path:
-    """Write named numeric columns as CSV (csv module, atomically); ``header_comment`` lines start with '#'."""
+def write_csv(path: str | Path, columns: dict[str, np.ndarray], description: str = "") -> Path:
+    """Write named numeric columns as CSV (csv module, atomically), the header row first so that
+    ordinary readers (numpy genfromtxt names=True, pandas, spreadsheets) take it as it is.
+
+    ``description``: what the file holds, written beside it as NAME.csv.json with the column names.
+    """
     names = list(columns)
     data = np.column_stack([np.asarray(columns[n], float) for n in names]) if names else np.zeros((0, 0))
+    if description:
+        atomic_write_text(Path(path).with_name(Path(path).name + ".json"),
+                          json.dumps({"file": Path(path).name, "description": description, "columns": names}, indent=2) + "\n")
     buf = io.StringIO()
-    for line in header_comment.splitlines():
-        buf.write(f"# {line}\n")
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(names)
     w.writerows([[f"{v:.10g}" for v in row] for row in data])

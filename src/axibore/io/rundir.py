@@ -17,8 +17,9 @@ from .files import atomic_write_text, write_csv, write_vtu
 from .summary import dumps
 
 WALL_HEADER = (
-    "axibore wall table: faces in order of arc length s from the inlet; p_gauge relative to ambient;\n"
-    "n = unit normal out of the fluid; cumulative_force_x_N = axial force on the part from the inlet to this face"
+    "axibore wall table: faces in order of arc length s from the inlet; p_gauge relative to ambient; "
+    "n = unit normal out of the fluid; cumulative_force_x_N = axial force on the part from the inlet to this face; "
+    "onedim_dev = (p_2D - p_1D) / (outlet dynamic pressure)"
 )
 
 
@@ -59,7 +60,8 @@ def write_run(res, out: Path) -> None:
         tables[name] = cols
     write_wall_load(out, tables)
     hist = np.asarray(flow.record.residual_history, float)
-    write_csv(out / "solver_history.csv", {"iteration": np.arange(1, hist.size + 1), "residual": hist})
+    write_csv(out / "solver_history.csv", {"iteration": np.arange(1, hist.size + 1), "residual": hist},
+              f"axibore {flow.record.solver} solve: residual after each iteration ({flow.record.method}); {flow.record.criterion}")
     res.seconds["write"] = time.perf_counter() - t0
     atomic_write_text(out / "summary.json", dumps(res.summary()))
 
