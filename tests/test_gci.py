@@ -71,6 +71,9 @@ def test_gridstudy_demo_rounded_profile(tmp_path, capsys):
     assert (tmp_path / "gridstudy.csv").read_text().startswith("quantity,level,cells")
     for lv in (0, 1, 2):
         assert (tmp_path / f"level-{lv}" / "summary.json").exists()
+        assert (tmp_path / f"level-{lv}" / "wall.csv").exists() and (tmp_path / f"level-{lv}" / "report.html").exists()
+        # the bulky field files are kept for the finest level only (--keep fields keeps them all)
+        assert (tmp_path / f"level-{lv}" / "fields.vtu").exists() == (lv == 2)
     out = capsys.readouterr().out
     assert "[3/3] level 2" in out and "wall_x_N" in out
 

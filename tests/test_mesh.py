@@ -198,3 +198,17 @@ def test_polygon_of_many_gentle_vertices_warns(tmp_path):
     # a designed polygon with a few real corners does not warn
     assert polygon_warnings(_case({"template": "segments", "start": [0.0, 0.05], "segment": [
         {"to": [0.1, 0.05]}, {"to": [0.2, 0.03]}, {"to": [0.3, 0.03]}]}).profile) == []
+
+
+def test_cell_estimate_of_check_is_honest():
+    from axibore.mesh.gmsh_build import expected_cells
+
+    re_entrant = _case({"template": "segments", "start": [0, 0.3], "segment": [
+        {"to": [0.5, 0.3]}, {"to": [0.5, 0.06]}, {"to": [0.3, 0.06]}, {"to": [0.3, 0.05], "radius": 0.005}, {"to": [0.8, 0.05]}]})
+    n, how = expected_cells(re_entrant.profile, 0.05, 2, "quads")  # not mappable: estimated by a coarser Gmsh mesh
+    built = mesh_profile(re_entrant.profile, 0.05, 2, "quads").mesh.n_cells
+    assert how.startswith("meshed") and abs(n / built - 1) < 0.15
+    cone = _case({"template": "conical", "inlet_diameter": 0.08, "exit_diameter": 0.025, "half_angle": math.radians(15),
+                  "inlet_length": 0.12, "tip_length": 0.03, "lip_radius": 0.02})
+    n, how = expected_cells(cone.profile, 0.1, 1, "quads")
+    assert how == "counted" and n == mesh_profile(cone.profile, 0.1, 1, "quads").mesh.n_cells

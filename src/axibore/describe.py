@@ -55,9 +55,10 @@ def describe(case: Case) -> list[str]:
     p_out = "computed" if (o.pressure is None and i.pressure is not None and i.flow_rate is not None) else show(o.pressure or 0.0, "pressure") + " gauge"
     lines.append(f"outlet    {o.kind}, static pressure {p_out}, ambient {show(o.ambient_pressure, 'pressure')} absolute")
     h = target_size(p, case.mesh.size, case.mesh.level)
+    n, how = expected_cells(p, case.mesh.size, case.mesh.level, case.mesh.cells)
     lines.append(
         f"mesh      {case.mesh.cells}, size {case.mesh.size:g} x smallest channel height, level {case.mesh.level}: "
-        f"target cell {show(h, 'length')}, about {expected_cells(p, case.mesh.size, case.mesh.level):,.0f} cells"
+        f"target cell {show(h, 'length')}, {'' if how == 'counted' else 'about '}{n:,} cells ({how})"
     )
     lines.append(f"solver    {case.solver_kind} (tolerance {case.solver.tolerance:g}); 1D breakdown threshold {case.onedim.threshold:.3g} of the outlet dynamic pressure")
     for j in case.joints:

@@ -15,6 +15,9 @@ def add_args(p) -> None:
     p.add_argument("--levels", type=levels, default=[0, 1, 2, 3], help="mesh levels, e.g. 0,1,2,3 (default)")
     p.add_argument("--out", help="study directory (default: runs/<case name>-gridstudy)")
     p.add_argument("--workers", type=int, default=1, help="levels run side by side in this many processes (default 1)")
+    p.add_argument("--keep", choices=["fields"], action="append", default=[],
+                   help="--keep fields: keep the field files (fields.vtu, mesh.msh, load surfaces) of every level, "
+                        "not only of the finest")
 
 
 def run(args) -> int:
@@ -32,7 +35,7 @@ def run(args) -> int:
     outdir = Path(args.out) if args.out else Path("runs") / f"{stem(args)}-gridstudy"
     out(f"axibore {__version__}: grid study of {case.title}, levels {','.join(map(str, args.levels))}")
     with executor(args.workers) as ex:
-        study = run_grid_study(case, args.levels, outdir, out, executor=ex)
+        study = run_grid_study(case, args.levels, outdir, out, executor=ex, keep_fields="fields" in args.keep)
     out("")
     for line in table_lines(study):
         out(line)

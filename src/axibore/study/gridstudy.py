@@ -80,9 +80,17 @@ def run_level(job: tuple) -> dict:
     return run_case(case, run_dir, report=False).summary()
 
 
+# files of a run that only the field plots, the 3D view and structural models need (the bulk of a run)
+FIELD_FILES = ("fields.vtu", "mesh.msh", "wall_load.vtu", "centerbody_load.vtu", "wall_load_points.csv",
+               "centerbody_load_points.csv", "wall_load_points.csv.json", "centerbody_load_points.csv.json")
+
+
 def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[str], None] | None = None,
-                   executor=None) -> GridStudy:
-    """Run ``case`` at each of ``levels`` through ``executor`` (default: in this process), then the GCI."""
+                   executor=None, keep_fields: bool = False) -> GridStudy:
+    """Run ``case`` at each of ``levels`` through ``executor`` (default: in this process), then the GCI.
+
+    Summaries and wall tables of every level are kept; the field files only of the finest level,
+    unless ``keep_fields``."""
     from .runner import SerialExecutor
 
     progress = progress or (lambda msg: None)
@@ -118,6 +126,12 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
             notes.append("given in the case (inlet.flow_rate): constant by construction")
         study.notes[name] = notes
     write_study(study, out_dir)
+    if not keep_fields and ok:
+        finest = max(lv.level for lv in ok)
+        for lv in ok:
+            if lv.level != finest:
+                for name in FIELD_FILES:
+                    (lv.run_dir / name).unlink(missing_ok=True)
     from ..io.rundir import write_report
 
     for lv in ok:  # reports last, so that each embeds the study's convergence plot

@@ -207,10 +207,11 @@ def speed_plot(run, path=None, lines: int = 12) -> Path:
 
 
 def all_plots(run_dir) -> dict[str, Path]:
+    """Every plot of a run; the field plots only where fields.vtu was kept (a grid study keeps it
+    for its finest level unless asked)."""
     run = load_run(run_dir)  # read once for all plots
-    return {
-        "wall_pressure": wall_pressure_plot(run),
-        "axial_force": axial_force_plot(run),
-        "mesh": mesh_plot(run),
-        "speed": speed_plot(run),
-    }
+    out = {"wall_pressure": wall_pressure_plot(run), "axial_force": axial_force_plot(run)}
+    if (Path(run_dir) / "fields.vtu").exists():
+        out["mesh"] = mesh_plot(run)
+        out["speed"] = speed_plot(run)
+    return out

@@ -116,6 +116,10 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     s = read_summary(run_dir)
     figs = plots.all_plots(run_dir)
     notes = []
+    if not (run_dir / "fields.vtu").exists():
+        include_3d = False
+        notes.append("the fields of this run were not kept (a grid study keeps them for its finest level; "
+                     "rerun it with --keep fields), so the field plots and the 3D view are left out")
     if include_3d:
         try:
             from .scene import render
