@@ -53,16 +53,35 @@ def test_scene_bounds_and_scalar_range(run_dir):
     # revolved from 0 to 270 degrees: y = r cos(theta) spans [-R, R], z = r sin(theta) spans [-R, R]
     assert np.allclose(expected, (x0, x1, -R, R, -R, R), rtol=0, atol=1e-12)
     assert np.allclose(p.bounds, expected, rtol=0, atol=1e-9 * R)
-    field = np.concatenate(m.cell_data["p_gauge_Pa"])
+    field = np.concatenate(m.cell_data["p_gauge_Pa"]) / 1e5  # shown in bar (the default unit)
     assert info.field_range == pytest.approx((field.min(), field.max()), rel=1e-12)
     ranges = []
     for a in p.renderer.actors.values():
         mapper = getattr(a, "mapper", None)
         data = getattr(mapper, "dataset", None)
-        if data is not None and "p_gauge_Pa" in data.cell_data:
+        if data is not None and "gauge pressure [bar]" in data.cell_data:
             ranges.append(mapper.scalar_range)
     assert ranges and all(np.allclose(r, (field.min(), field.max())) for r in ranges)
     p.close()
+
+
+def test_view_options_zoom_range_units_and_refusals(run_dir, tmp_path, capsys):
+    from axibore.view.scene import ViewOptions, build_cutaway
+
+    p = pv.Plotter(off_screen=True)
+    info = build_cutaway(p, run_dir, "pressure", 270.0, ViewOptions(unit="kPa", x_range=(0.18, 0.21), colour_range=(-100.0, 500.0)))
+    assert info.field_range == (-100.0, 500.0)
+    assert 0.17 < p.bounds[0] and p.bounds[1] < 0.22  # zoomed on the orifice
+    p.close()
+    png = tmp_path / "zoom.png"
+    assert main(["view", str(run_dir), "--png", str(png), "--x-range", "180 mm,210 mm", "--units", "psi"]) == 0 and png.exists()
+    before = set(run_dir.iterdir())
+    for argv, msg in ((["--png", str(tmp_path / "v.jpg")], "ending in .png"), (["--png", str(tmp_path)], "ending in .png"),
+                      (["--png", str(tmp_path / "no" / "v.png")], "does not exist"), (["--x-range", "2,1", "--png", str(png)], "lower value first"),
+                      (["--field", "mach", "--png", str(png)], "liquid"), ([], "no display")):
+        assert main(["view", str(run_dir), *argv]) == 2, argv
+        assert msg in capsys.readouterr().err
+    assert set(run_dir.iterdir()) == before  # a view never writes into the run directory
 
 
 def test_meridional_view_has_streamlines(run_dir, tmp_path):

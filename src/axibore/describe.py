@@ -70,20 +70,20 @@ def describe(case: Case) -> list[str]:
     return lines
 
 
-def absolute_wall_pressure(p: dict) -> str:
+def absolute_wall_pressure(p: dict, unit: str = "bar") -> str:
     """The lowest absolute wall pressure, or how far the liquid result falls below the vapour pressure."""
     pabs, pv = p["min_wall_absolute_Pa"], p["vapour_pressure_Pa"]
     if pv is None:
-        return show(pabs, "pressure")
+        return show(pabs, "pressure", unit=unit)
     if pabs < pv:
-        return (f"below the vapour pressure ({show(pv, 'pressure', 3)}) by {show(pv - pabs, 'pressure', 3)}: the flow "
+        return (f"below the vapour pressure ({show(pv, 'pressure', 3, unit)}) by {show(pv - pabs, 'pressure', 3, unit)}: the flow "
                 "cavitates there and the single-phase result is not valid")
-    return f"{show(pabs, 'pressure')} (vapour {show(pv, 'pressure', 3)})"
+    return f"{show(pabs, 'pressure', unit=unit)} (vapour {show(pv, 'pressure', 3, unit)})"
 
 
-def deviation_text(o: dict) -> str:
+def deviation_text(o: dict, unit: str = "bar") -> str:
     """The largest 2D - 1D wall-pressure difference, in pressure units and as fractions (one convention)."""
-    text = (f"{show(o['wall_pressure_max_dev_Pa'], 'pressure')} at x = {show(o['wall_pressure_max_dev_x_m'], 'length')}: "
+    text = (f"{show(o['wall_pressure_max_dev_Pa'], 'pressure', unit=unit)} at x = {show(o['wall_pressure_max_dev_x_m'], 'length')}: "
             f"{o['wall_pressure_max_dev']:.3g} of the outlet dynamic pressure")
     if o.get("wall_pressure_max_dev_local") is not None:
         text += f", {o['wall_pressure_max_dev_local']:.3g} of the local gauge pressure"

@@ -88,7 +88,8 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
     return RunResult(case, profile, mesh, build, flow, tables, frc, od, chk, sec, quality, joints, jet_reaction(case, flow))
 
 
-def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, report: bool = True) -> RunResult:
+def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, report: bool = True,
+             unit: str = "bar") -> RunResult:
     """Solve ``case`` and write its run directory; the directory appears complete or not at all.
 
     ``report``: also draw the plots and write report.html (the view stage; timed separately).
@@ -103,7 +104,7 @@ def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, 
         if report:
             progress("report", "plots, 3D view and report.html")
             t = time.perf_counter()
-            error = write_report(tmp, shown_dir=out_dir)
+            error = write_report(tmp, shown_dir=out_dir, unit=unit)
             if error:
                 progress("report", f"NOT built ({error}); see report_error.txt")
             res.seconds["report"] = time.perf_counter() - t

@@ -160,8 +160,14 @@ def plain(value: float, digits: int = 4) -> str:
     return text.rstrip("0").rstrip(".") if "." in text else text
 
 
-def show(value: float, dimension: str, digits: int = 4) -> str:
-    """Human-readable string for an SI value (used in printed tables, never parsed back)."""
+# pressure units an output can be given in (--units): name -> pascals per unit
+PRESSURE_UNITS = {"bar": 1e5, "kPa": 1e3, "MPa": 1e6, "psi": _P["psi"], "Pa": 1.0}
+DEFAULT_PRESSURE_UNIT = "bar"
+
+
+def show(value: float, dimension: str, digits: int = 4, unit: str | None = None) -> str:
+    """Human-readable string for an SI value (used in printed tables, never parsed back);
+    pressures in ``unit`` (one of PRESSURE_UNITS, default bar)."""
     if value is None or (isinstance(value, float) and not math.isfinite(value)):
         return "-"
     if abs(value) < 1e-9:
@@ -169,7 +175,8 @@ def show(value: float, dimension: str, digits: int = 4) -> str:
     if dimension == "length":
         return f"{plain(value * 1e3, digits)} mm" if abs(value) < 1.0 else f"{plain(value, digits)} m"
     if dimension == "pressure":
-        return f"{plain(value / 1e5, digits)} bar ({plain(value / 1e3, digits)} kPa)"
+        u = unit or DEFAULT_PRESSURE_UNIT
+        return f"{plain(value / PRESSURE_UNITS[u], digits)} {u}"
     if dimension == "force":
         return f"{plain(value / 1e3, digits)} kN" if abs(value) >= 1e3 else f"{plain(value, digits)} N"
     if dimension == "angle":

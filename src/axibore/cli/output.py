@@ -12,8 +12,8 @@ def table(rows: list[tuple[str, str]]) -> list[str]:
     return [f"  {k:<{width}}  {v}" for k, v in rows]
 
 
-def headline(summary: dict) -> list[str]:
-    """The numbers an engineer signs off, as printed lines."""
+def headline(summary: dict, unit: str = "bar") -> list[str]:
+    """The numbers an engineer signs off, as printed lines (pressures in ``unit``)."""
     fl, p, f, o = summary["flow"], summary["pressure"], summary["forces"], summary["onedim"]
     gas = fl.get("compressible")
     rows = [] if gas else [("volume flow", show(fl["volume_flow_m3_s"], "volume_flow"))]
@@ -23,10 +23,10 @@ def headline(summary: dict) -> list[str]:
         ("mean velocity in / out", f"{fl['inlet_mean_velocity_m_s']:.4g} / {fl['outlet_mean_velocity_m_s']:.4g} m/s"),
         ("discharge coefficient", fl.get("discharge_coefficient_note", "-") if fl["discharge_coefficient"] is None
          else f"{fl['discharge_coefficient']:.5f}"),
-        ("inlet / outlet pressure", f"{show(p['inlet_gauge_Pa'], 'pressure')} / {show(p['outlet_gauge_Pa'], 'pressure')} gauge"),
+        ("inlet / outlet pressure", f"{show(p['inlet_gauge_Pa'], 'pressure', unit=unit)} / {show(p['outlet_gauge_Pa'], 'pressure', unit=unit)} gauge"),
     ]
     if gas:
-        rows += [("inlet / outlet abs", f"{show(p['inlet_absolute_Pa'], 'pressure')} / {show(p['outlet_absolute_Pa'], 'pressure')}"),
+        rows += [("inlet / outlet abs", f"{show(p['inlet_absolute_Pa'], 'pressure', unit=unit)} / {show(p['outlet_absolute_Pa'], 'pressure', unit=unit)}"),
                  ("max Mach number", f"{fl['mach_max']:.4g}" + (f"; minimum area at x = {show(fl['throat_x_m'], 'length')}"
                                                                if fl.get("throat_x_m") is not None else ""))]
     rows += [
@@ -42,18 +42,18 @@ def headline(summary: dict) -> list[str]:
     for j in summary.get("joints", []):
         bolts = f", {show(j['per_bolt_N'], 'force')} per bolt ({j['bolts']} bolts)" if j["per_bolt_N"] is not None else ""
         rows.append((f"joint {j['name']}", f"{show(j['load_N'], 'force')}{bolts}; G {show(j['gasket_diameter_m'], 'length')}, "
-                     f"p {show(j['pressure_gauge_Pa'], 'pressure')} (hydrodynamic part)"))
+                     f"p {show(j['pressure_gauge_Pa'], 'pressure', unit=unit)} (hydrodynamic part)"))
     if f.get("jet_reaction_N") is not None:
         rows.append(("jet reaction", f"{show(f['jet_reaction_N'], 'force')} on the holder, upstream (mdot V + p A at the exit)"))
     rows += [
-        ("min wall pressure", f"{show(p['min_wall_gauge_Pa'], 'pressure')} gauge at x = {show(p['min_wall_x_m'], 'length')} "
+        ("min wall pressure", f"{show(p['min_wall_gauge_Pa'], 'pressure', unit=unit)} gauge at x = {show(p['min_wall_x_m'], 'length')} "
          f"({p['min_wall_boundary']})"),
-        ("min wall pressure abs", absolute_wall_pressure(p)),
+        ("min wall pressure abs", absolute_wall_pressure(p, unit)),
     ]
     if not gas:
         rows.append(("cavitation index", f"{p['cavitation_index']:.4g} (inception at {p['inception_index']:.4g})"))
     rows += [
-        ("1D wall-pressure dev", deviation_text(o)),
+        ("1D wall-pressure dev", deviation_text(o, unit)),
         (f"1D breakdown (> {o['breakdown_threshold']:.3g} q_out)",
          ", ".join(f"x {a * 1e3:.4g} to {b * 1e3:.4g} mm" for a, b in o["breakdown_x_ranges_m"]) or "nowhere"),
         ("outlet beta / alpha", f"{o['outlet_momentum_factor']:.5f} / {o['outlet_energy_factor']:.5f}"),

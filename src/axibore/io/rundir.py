@@ -66,12 +66,12 @@ def write_run(res, out: Path) -> None:
     atomic_write_text(out / "summary.json", dumps(res.summary()))
 
 
-def write_report(run_dir: Path, shown_dir: Path | None = None) -> str | None:
+def write_report(run_dir: Path, shown_dir: Path | None = None, unit: str = "bar") -> str | None:
     """Build report.html; on failure keep the run's numbers, write report_error.txt and return why."""
     from ..view.report import build_report
 
     try:
-        build_report(run_dir, shown_dir=shown_dir)
+        build_report(run_dir, shown_dir=shown_dir, unit=unit)
         return None
     except Exception as exc:  # the numbers are complete without the report: keep them, say why
         why = f"{type(exc).__name__}: {exc}"

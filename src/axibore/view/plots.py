@@ -11,6 +11,7 @@ import numpy as np
 
 from ..io.files import atomic_file, read_csv
 from ..io.rundir import read_summary
+from ..units import PRESSURE_UNITS
 
 DRAW_CELLS_MAX = 60_000  # above this, fields are binned to pixels and the full mesh view shows the outline only
 COLOURS = {"wall": "#1f4e79", "centerbody": "#b5462b", "onedim": "#6b6b6b", "band": "#f2c94c"}
@@ -72,25 +73,37 @@ def _triangles(cells) -> np.ndarray:
     return np.vstack(tris)
 
 
-def wall_pressure_plot(run, path=None) -> Path:
+def _plain_ticks(ax) -> None:
+    """Tick labels as plain numbers (no offset or exponent such as 5.93e+05)."""
+    from matplotlib.ticker import ScalarFormatter
+
+    for axis in (ax.xaxis, ax.yaxis):
+        fmt = ScalarFormatter(useOffset=False)
+        fmt.set_scientific(False)
+        axis.set_major_formatter(fmt)
+
+
+def wall_pressure_plot(run, path=None, unit: str = "bar") -> Path:
     """Wall gauge pressure along x: 2D result and the 1D model, breakdown ranges shaded."""
     run = _as_run(run)
     s = run["summary"]
     q_out = s["onedim"].get("outlet_dynamic_pressure_Pa") or 0.5 * s["flow"]["density_kg_m3"] * s["flow"]["outlet_mean_velocity_m_s"] ** 2
     fig, ax = figure(7.2, 3.8)
+    k = PRESSURE_UNITS[unit]
     for a, b in s["onedim"]["breakdown_x_ranges_m"]:
         ax.axvspan(a * 1e3, b * 1e3, color=COLOURS["band"], alpha=0.35, lw=0)
     for name, t in run["tables"].items():
-        ax.plot(t["x_m"] * 1e3, t["p_gauge_Pa"] / 1e5, color=COLOURS[name], lw=1.6, label=f"{name}, 2D")
+        ax.plot(t["x_m"] * 1e3, t["p_gauge_Pa"] / k, color=COLOURS[name], lw=1.6, label=f"{name}, 2D")
         if "onedim_dev" in t:
             p1 = t["p_gauge_Pa"] - t["onedim_dev"] * q_out
             model = "quasi-1D isentropic" if s["flow"].get("compressible") else "Bernoulli"
-            ax.plot(t["x_m"] * 1e3, p1 / 1e5, "--", color=COLOURS["onedim"], lw=1.1, label=f"{name}, 1D ({model})" if name == "wall" else None)
+            ax.plot(t["x_m"] * 1e3, p1 / k, "--", color=COLOURS["onedim"], lw=1.1, label=f"{name}, 1D ({model})" if name == "wall" else None)
     pv = (s["pressure"]["vapour_pressure_Pa"] or -np.inf) - s["pressure"]["ambient_pressure_Pa"]
     if np.isfinite(pv) and s["pressure"]["min_wall_gauge_Pa"] < pv + 0.2 * abs(s["pressure"]["inlet_gauge_Pa"] - pv):
-        ax.axhline(pv / 1e5, color="#c0392b", lw=0.9, ls=":", label="vapour pressure (gauge)")
+        ax.axhline(pv / k, color="#c0392b", lw=0.9, ls=":", label="vapour pressure (gauge)")
     ax.set_xlabel("x [mm]")
-    ax.set_ylabel("gauge pressure [bar]")
+    ax.set_ylabel(f"gauge pressure [{unit}]")
+    _plain_ticks(ax)
     thr = s["onedim"]["breakdown_threshold"]
     ax.set_title(f"Wall pressure; shaded: 2D departs from 1D by more than {thr:.0%} of the outlet dynamic pressure", fontsize=8.5)
     ax.grid(alpha=0.3)
@@ -110,6 +123,7 @@ def axial_force_plot(run, path=None) -> Path:
                label=f"1D formula (wall + body) {s['forces']['onedim_x_N'] / 1e3:.4g} kN")
     ax.set_xlabel("x [mm]")
     ax.set_ylabel("cumulative axial force [kN]")
+    _plain_ticks(ax)
     ax.set_title("Axial force of the fluid on the part from the inlet (+x downstream)", fontsize=9)
     ax.grid(alpha=0.3)
     ax.legend(fontsize=7.5)
@@ -206,11 +220,11 @@ def speed_plot(run, path=None, lines: int = 12) -> Path:
     return save(fig, Path(path or run["dir"] / "plot_speed.png"))
 
 
-def all_plots(run_dir) -> dict[str, Path]:
+def all_plots(run_dir, unit: str = "bar") -> dict[str, Path]:
     """Every plot of a run; the field plots only where fields.vtu was kept (a grid study keeps it
     for its finest level unless asked)."""
     run = load_run(run_dir)  # read once for all plots
-    out = {"wall_pressure": wall_pressure_plot(run), "axial_force": axial_force_plot(run)}
+    out = {"wall_pressure": wall_pressure_plot(run, unit=unit), "axial_force": axial_force_plot(run)}
     if (Path(run_dir) / "fields.vtu").exists():
         out["mesh"] = mesh_plot(run)
         out["speed"] = speed_plot(run)

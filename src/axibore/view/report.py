@@ -19,6 +19,7 @@ from ..io.rundir import read_summary
 from ..describe import absolute_wall_pressure, deviation_text
 from ..post.joints import CAUTION as JOINT_CAUTION
 from ..safety import CAUTIONS
+from ..units import PRESSURE_UNITS
 
 
 CSS = """
@@ -62,8 +63,9 @@ def _fmt(v, unit="", digits=5, scale=1.0):
     return f"{v:.{digits}g} {unit}".strip()
 
 
-def headline_rows(s: dict) -> list[tuple[str, str, str]]:
-    """(label, key, formatted) of the headline table, in order."""
+def headline_rows(s: dict, unit: str = "bar") -> list[tuple[str, str, str]]:
+    """(label, key, formatted) of the headline table, in order (pressures in ``unit``)."""
+    k = 1.0 / PRESSURE_UNITS[unit]
     f, fl, p, o = s["forces"], s["flow"], s["pressure"], s["onedim"]
     rows = [
         ("Volume flow", "flow.volume_flow_m3_s", _fmt(fl["volume_flow_m3_s"], "m³/s")),
@@ -73,8 +75,8 @@ def headline_rows(s: dict) -> list[tuple[str, str, str]]:
         ("Maximum speed", "flow.max_speed_m_s", _fmt(fl["max_speed_m_s"], "m/s")),
         ("Discharge coefficient", "flow.discharge_coefficient",
          fl.get("discharge_coefficient_note", "-") if fl.get("discharge_coefficient") is None else _fmt(fl["discharge_coefficient"], "", 6)),
-        ("Inlet pressure (gauge, mean)", "pressure.inlet_gauge_Pa", _fmt(p["inlet_gauge_Pa"], "kPa", 6, 1e-3)),
-        ("Outlet pressure (gauge, mean)", "pressure.outlet_gauge_Pa", _fmt(p["outlet_gauge_Pa"], "kPa", 6, 1e-3)),
+        ("Inlet pressure (gauge, mean)", "pressure.inlet_gauge_Pa", _fmt(p["inlet_gauge_Pa"], unit, 6, k)),
+        ("Outlet pressure (gauge, mean)", "pressure.outlet_gauge_Pa", _fmt(p["outlet_gauge_Pa"], unit, 6, k)),
         ("Wall axial force (on the part, +x downstream)", "forces.wall_x_N", _fmt(f["wall_x_N"], "N", 6)),
         ("Centre-body axial force", "forces.centerbody_x_N", _fmt(f["centerbody_x_N"], "N", 6)),
         ("Momentum balance (inlet - outlet planes)", "forces.momentum_x_N", _fmt(f["momentum_x_N"], "N", 6)),
@@ -88,20 +90,20 @@ def headline_rows(s: dict) -> list[tuple[str, str, str]]:
     if f.get("per_bolt_N") is not None:
         rows.append((f"Per bolt, first joint ({f.get('bolts')} bolts; hydrodynamic part)", "forces.per_bolt_N", _fmt(f["per_bolt_N"], "N", 5)))
     rows += [
-        ("Minimum wall pressure (gauge)", "pressure.min_wall_gauge_Pa", _fmt(p["min_wall_gauge_Pa"], "kPa", 6, 1e-3)),
+        ("Minimum wall pressure (gauge)", "pressure.min_wall_gauge_Pa", _fmt(p["min_wall_gauge_Pa"], unit, 6, k)),
         ("  at x", "pressure.min_wall_x_m", _fmt(p["min_wall_x_m"], "mm", 5, 1e3)),
-        ("Minimum wall pressure (absolute)", "pressure.min_wall_absolute_Pa", absolute_wall_pressure(p)),
-        ("Vapour pressure (absolute)", "pressure.vapour_pressure_Pa", _fmt(p["vapour_pressure_Pa"], "kPa", 5, 1e-3)),
+        ("Minimum wall pressure (absolute)", "pressure.min_wall_absolute_Pa", absolute_wall_pressure(p, unit)),
+        ("Vapour pressure (absolute)", "pressure.vapour_pressure_Pa", _fmt(p["vapour_pressure_Pa"], unit, 5, k)),
         ("Cavitation index (p_out,abs - p_v) / (rho V_out² / 2)", "pressure.cavitation_index", _fmt(p["cavitation_index"], "", 4)),
         ("Inception index -Cp_min", "pressure.inception_index", _fmt(p["inception_index"], "", 4)),
-        ("Largest wall-pressure deviation from 1D", "onedim.wall_pressure_max_dev_Pa", deviation_text(o)),
+        ("Largest wall-pressure deviation from 1D", "onedim.wall_pressure_max_dev_Pa", deviation_text(o, unit)),
         ("Outlet momentum correction factor", "onedim.outlet_momentum_factor", _fmt(o["outlet_momentum_factor"], "", 6)),
         ("Outlet kinetic-energy correction factor", "onedim.outlet_energy_factor", _fmt(o["outlet_energy_factor"], "", 6)),
     ]
     return rows
 
 
-def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | Path | None = None) -> Path:
+def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | Path | None = None, unit: str = "bar") -> Path:
     """Write run_dir/report.html (the plots are drawn afresh from the run directory).
 
     ``shown_dir``: the directory name the report should show (a run is built in a temporary
@@ -114,7 +116,7 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     run_dir = Path(run_dir)
     shown = Path(shown_dir) if shown_dir is not None else run_dir
     s = read_summary(run_dir)
-    figs = plots.all_plots(run_dir)
+    figs = plots.all_plots(run_dir, unit)
     notes = []
     if not (run_dir / "fields.vtu").exists():
         include_3d = False
@@ -124,7 +126,7 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
         try:
             from .scene import render
 
-            png, _ = render(run_dir, "pressure", 270.0, run_dir / "view_pressure.png", window_size=(1200, 700))
+            png, _ = render(run_dir, "pressure", 270.0, run_dir / "view_pressure.png", window_size=(1200, 700), unit=unit)
             figs["view3d"] = png
         except Exception as exc:  # the report is still useful without the 3D picture: say why it is missing
             notes.append(f"3D view not rendered here ({type(exc).__name__}: {exc})")
@@ -144,7 +146,7 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
                  f"{dt.datetime.now().strftime('%Y-%m-%d %H:%M')} · run directory {e(str(shown))} · solver {e(s['solver']['kind'])}</p>")
     parts.append("<div class='caution'><strong>Caution.</strong> " + " ".join(e(c) for c in CAUTIONS) + "</div>")
     parts.append("<h2>Headline numbers</h2><table><tr><th>quantity</th><th>value</th></tr>")
-    for label, key, text in headline_rows(s):
+    for label, key, text in headline_rows(s, unit):
         parts.append(f"<tr><td>{e(label)}</td>{_num(s, key, text)}</tr>")
     ranges = s["onedim"]["breakdown_x_ranges_m"]
     rtext = ", ".join(f"{a * 1e3:.4g} to {b * 1e3:.4g} mm" for a, b in ranges) or "none"
@@ -158,7 +160,7 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
             per = "-" if j["per_bolt_N"] is None else f"{_fmt(j['per_bolt_N'], 'N', 5)} ({j['bolts']} bolts)"
             parts.append(f"<tr><td>{e(j['name'])}</td><td class='num'>{_fmt(j['x_m'], 'mm', 5, 1e3)}</td>"
                          f"<td class='num'>{_fmt(j['bore_diameter_m'], 'mm', 5, 1e3)} / {_fmt(j['gasket_diameter_m'], 'mm', 5, 1e3)}</td>"
-                         f"<td class='num'>{_fmt(j['pressure_gauge_Pa'], 'kPa', 5, 1e-3)}</td><td class='num'>{_fmt(j['part_force_N'], 'N', 6)}</td>"
+                         f"<td class='num'>{_fmt(j['pressure_gauge_Pa'], unit, 5, 1 / PRESSURE_UNITS[unit])}</td><td class='num'>{_fmt(j['part_force_N'], 'N', 6)}</td>"
                          f"<td class='num'>{_fmt(j['annulus_force_N'], 'N', 6)}</td><td class='num'>{_fmt(j['load_N'], 'N', 6)}</td>"
                          f"<td class='num'>{e(per)}</td></tr>")
         parts.append("</table>")

@@ -15,11 +15,44 @@ from ..io.files import atomic_file, read_csv
 from ..io.wall_load import SEGMENTS, revolve
 
 FIELDS = {
-    "pressure": ("p_gauge_Pa", "gauge pressure [Pa]"),
+    "pressure": ("p_gauge_Pa", "gauge pressure"),
     "speed": ("speed_m_s", "speed [m/s]"),
-    "mach": ("mach", "Mach number [-] (gas runs)"),
-    "cp": ("cp", "pressure coefficient Cp [-] (on the outlet dynamic pressure)"),
+    "mach": ("mach", "Mach number"),
+    "cp": ("cp", "Cp"),
 }
+
+
+@dataclass(frozen=True)
+class ViewOptions:
+    """What a view shows: pressure unit, an x range (m) to zoom on, a fixed colour range (field units)."""
+
+    unit: str = "bar"
+    x_range: tuple[float, float] | None = None
+    colour_range: tuple[float, float] | None = None
+
+
+def _field(grid, field: str, opts: ViewOptions) -> tuple[str, str]:
+    """Name of the cell array to colour by (pressures converted to the chosen unit) and its label."""
+    from ..units import PRESSURE_UNITS
+
+    name, label = FIELDS[field]
+    if field == "pressure":
+        shown = f"gauge pressure [{opts.unit}]"
+        grid.cell_data[shown] = grid.cell_data[name] / PRESSURE_UNITS[opts.unit]
+        return shown, shown
+    return name, label
+
+
+def _clip_x(grid, opts: ViewOptions):
+    if opts.x_range is None:
+        return grid
+    x0, x1 = opts.x_range
+    centres = grid.cell_centers().points[:, 0]
+    keep = (centres >= x0) & (centres <= x1)
+    if not keep.any():
+        raise ValueError(f"the x range {x0 * 1e3:.4g} to {x1 * 1e3:.4g} mm holds no cell of this run "
+                         f"(the bore spans {grid.bounds[0] * 1e3:.4g} to {grid.bounds[1] * 1e3:.4g} mm)")
+    return grid.extract_cells(np.flatnonzero(keep))
 
 
 @dataclass
@@ -83,34 +116,41 @@ def _wall_surfaces(run_dir: Path, angle_deg: float) -> list:
     return out
 
 
-def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_deg: float = 270.0) -> SceneInfo:
-    """Add the 3D cut-away of a run to ``plotter``: cut planes coloured by ``field``, the wall by pressure."""
+def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_deg: float = 270.0,
+                  opts: ViewOptions = ViewOptions()) -> SceneInfo:
+    """Add the 3D cut-away of a run to ``plotter``: cut planes coloured by ``field``; the wall in the
+    same colour scale when the field is the pressure, else translucent grey (one colour bar)."""
     import pyvista as pv
+
+    from ..units import PRESSURE_UNITS
 
     if field not in FIELDS:
         raise ValueError(f"field must be one of {', '.join(FIELDS)}, got {field!r}")
     if not 0 < angle_deg <= 360:
         raise ValueError(f"angle must be in (0, 360] degrees, got {angle_deg}")
     run_dir = Path(run_dir)
-    grid = _meridional_grid(run_dir)
-    name, label = FIELDS[field]
+    grid = _clip_x(_meridional_grid(run_dir), opts)
+    name, label = _field(grid, field, opts)
     values = grid.cell_data[name]
-    frange = (float(values.min()), float(values.max()))
+    frange = opts.colour_range or (float(values.min()), float(values.max()))
+    bar = {"title": label, "vertical": True, "position_x": 0.88, "position_y": 0.12, "width": 0.06, "height": 0.7,
+           "fmt": "%.4g", "title_font_size": 16, "label_font_size": 13, "color": "black"}
     planes = [grid] if angle_deg >= 360 else [grid, _rotated(grid, np.radians(angle_deg))]
     for k, g in enumerate(planes):
-        plotter.add_mesh(g, scalars=name, cmap="viridis", clim=frange, show_scalar_bar=(k == 0),
-                         scalar_bar_args={"title": label, "vertical": True, "position_x": 0.86, "position_y": 0.1})
+        plotter.add_mesh(g, scalars=name, cmap="viridis", clim=frange, show_scalar_bar=(k == 0), scalar_bar_args=bar)
 
     surfaces = _wall_surfaces(run_dir, angle_deg)
+    if opts.x_range is not None:
+        surfaces = [sf.clip_box((opts.x_range[0], opts.x_range[1], -1e9, 1e9, -1e9, 1e9), invert=False) for sf in surfaces]
+        surfaces = [sf for sf in surfaces if sf.n_points]
     wall_ranges = [(float(w.point_data[WALL_P].min()), float(w.point_data[WALL_P].max())) for w in surfaces]
     wr = (min(a for a, _ in wall_ranges), max(b for _, b in wall_ranges)) if wall_ranges else frange
-    for k, surf in enumerate(surfaces):
+    for surf in surfaces:
         if field == "pressure":  # one colour scale for planes and wall
-            plotter.add_mesh(surf, scalars=WALL_P, cmap="viridis", clim=frange, show_scalar_bar=False, opacity=0.55)
+            surf.point_data[name] = surf.point_data[WALL_P] / PRESSURE_UNITS[opts.unit]
+            plotter.add_mesh(surf, scalars=name, cmap="viridis", clim=frange, show_scalar_bar=False, opacity=0.55)
         else:
-            plotter.add_mesh(surf, scalars=WALL_P, cmap="plasma", clim=wr, opacity=0.55, show_scalar_bar=(k == 0),
-                             scalar_bar_args={"title": WALL_P, "vertical": True, "position_x": 0.07, "position_y": 0.1,
-                                              "title_font_size": 14})
+            plotter.add_mesh(surf, color="#b0b8c0", opacity=0.35, show_scalar_bar=False)
     gb = grid.bounds
     b = revolved_bounds(gb[0], gb[1], gb[3], angle_deg)
     x0, x1 = b[0], b[1]
@@ -134,40 +174,52 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
     return SceneInfo(b, field, frange, (float(wr[0]), float(wr[1])))
 
 
-def build_meridional(plotter, run_dir: str | Path, field: str = "speed", lines: int = 12) -> SceneInfo:
-    """Flat meridional view coloured by ``field`` with streamlines (stream-function contours)."""
+def build_meridional(plotter, run_dir: str | Path, field: str = "speed", lines: int = 12,
+                     opts: ViewOptions = ViewOptions()) -> SceneInfo:
+    """Flat meridional view coloured by ``field`` with streamlines (stream-function contours) and axes in mm."""
     run_dir = Path(run_dir)
-    grid = _meridional_grid(run_dir)
-    name, label = FIELDS[field]
+    full = _meridional_grid(run_dir)
+    psi_all = full.point_data["stream_function_m3_s"]
+    grid = _clip_x(full, opts)
+    name, label = _field(grid, field, opts)
     values = grid.cell_data[name]
-    frange = (float(values.min()), float(values.max()))
-    plotter.add_mesh(grid, scalars=name, cmap="viridis", clim=frange, scalar_bar_args={"title": label})
-    psi = grid.point_data["stream_function_m3_s"]
-    levels = np.linspace(psi.min(), psi.max(), lines + 2)[1:-1]
-    iso = grid.contour(isosurfaces=levels, scalars="stream_function_m3_s")
+    frange = opts.colour_range or (float(values.min()), float(values.max()))
+    plotter.add_mesh(grid, scalars=name, cmap="viridis", clim=frange,
+                     scalar_bar_args={"title": label, "fmt": "%.4g", "color": "black", "vertical": True,
+                                      "position_x": 0.86, "position_y": 0.15, "width": 0.06, "height": 0.7})
+    levels = np.linspace(psi_all.min(), psi_all.max(), lines + 2)[1:-1]  # the same flow fractions in a zoom
+    iso = grid.cell_data_to_point_data().contour(isosurfaces=levels, scalars="stream_function_m3_s")
     if iso.n_points:
+        iso.points[:, 2] += 1e-4 * (grid.bounds[1] - grid.bounds[0])  # just above the plane: no z-fighting hatching
         plotter.add_mesh(iso, color="white", line_width=1.5)
     plotter.set_background("white")
+    plotter.show_bounds(xtitle="x [m]", ytitle="r [m]", ztitle="", color="black", location="outer", ticks="outside",
+                        font_size=11, show_zaxis=False, use_2d=True, fmt="%.4g")
     plotter.view_xy()
     b = grid.bounds
     return SceneInfo(tuple(float(v) for v in b), field, frange, frange)
 
 
 def render(run_dir: str | Path, field: str = "pressure", angle_deg: float = 270.0, png: str | Path | None = None,
-           meridional: bool = False, window_size=(1400, 900)) -> tuple[Path | None, SceneInfo]:
-    """Open a window (display and no ``png``) or render off-screen to ``png``."""
+           meridional: bool = False, window_size=(1400, 900), unit: str = "bar",
+           opts: ViewOptions | None = None) -> tuple[Path | None, SceneInfo]:
+    """Open a window (display and no ``png``) or render off-screen to ``png`` (required without a display)."""
+    opts = opts or ViewOptions(unit=unit)
+    if png is None and not has_display():
+        raise ValueError("no display to open a window on: give --png FILE to render off-screen")
     if not has_display():
         # headless: render through EGL directly instead of trying (and warning about) an X server
         os.environ.setdefault("VTK_DEFAULT_OPENGL_WINDOW", "vtkEGLRenderWindow")
     import pyvista as pv
 
-    off = png is not None or not has_display() or pv.OFF_SCREEN
+    off = png is not None
     plotter = pv.Plotter(off_screen=off, window_size=list(window_size))
-    info = (build_meridional(plotter, run_dir, field) if meridional else build_cutaway(plotter, run_dir, field, angle_deg))
+    info = (build_meridional(plotter, run_dir, field, opts=opts) if meridional
+            else build_cutaway(plotter, run_dir, field, angle_deg, opts))
     if not off:
         plotter.show(title=f"axibore: {Path(run_dir).name}")
         return None, info
-    png = Path(png or Path(run_dir) / f"view_{'meridional_' if meridional else ''}{field}.png")
+    png = Path(png)
     with atomic_file(png) as tmp:
         plotter.screenshot(str(tmp))
     plotter.close()
