@@ -69,6 +69,8 @@ def test_gridstudy_demo_rounded_profile(tmp_path, capsys):
     assert data["quantities"]["wall_x_N"]["gci_fine"] < 1e-5  # the force is converged to round-off of the solve
     assert (tmp_path / "convergence.png").stat().st_size > 5000
     assert (tmp_path / "gridstudy.csv").read_text().startswith("quantity,level,cells")
+    page = (tmp_path / "gridstudy.html").read_text()
+    assert "wall axial force [N]" in page and "data:image/png;base64," in page and "Celik" in page
     for lv in (0, 1, 2):
         assert (tmp_path / f"level-{lv}" / "summary.json").exists()
         assert (tmp_path / f"level-{lv}" / "wall.csv").exists() and (tmp_path / f"level-{lv}" / "report.html").exists()

@@ -41,5 +41,5 @@ def run(args) -> int:
         out(line)
     out("")
     out("GCI: Celik et al. 2008, J. Fluids Eng. 130(7) 078001; safety factor 1.25 (three or more grids), 3 (two).")
-    out(f"wrote {outdir}/ (gridstudy.json, gridstudy.csv, convergence.png, level-N/ run directories)")
+    out(f"wrote {outdir}/ (gridstudy.html, gridstudy.json, gridstudy.csv, convergence.png, level-N/ run directories)")
     return 0 if any(lv.summary for lv in study.levels) else 1

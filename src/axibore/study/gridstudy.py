@@ -23,6 +23,16 @@ QUANTITIES = (
     ("max_speed_m_s", "flow", "max_speed_m_s"),
 )
 DESIGN_ORDER = 2.0
+# human label and display (unit, factor from SI) of each quantity
+LABELS = {
+    "wall_x_N": ("wall axial force", "N", 1.0),
+    "centerbody_x_N": ("centre-body axial force", "N", 1.0),
+    "total_x_N": ("total axial force", "N", 1.0),
+    "volume_flow_m3_s": ("volume flow", "L/min", 6e4),
+    "discharge_coefficient": ("discharge coefficient", "-", 1.0),
+    "min_wall_gauge_Pa": ("minimum wall pressure (gauge)", "kPa", 1e-3),
+    "max_speed_m_s": ("maximum speed", "m/s", 1.0),
+}
 
 
 @dataclass
@@ -155,6 +165,57 @@ def write_study(study: GridStudy, out_dir: Path) -> None:
     atomic_write_text(out_dir / "gridstudy.csv", "\n".join(lines) + "\n")
     if len(ok) >= 2:
         plot_convergence(study, out_dir / "convergence.png")
+    write_html(study, out_dir)
+
+
+def write_html(study: GridStudy, out_dir: Path) -> Path:
+    """gridstudy.html: self-contained (the plot embedded), prints on A4."""
+    import base64
+    import html
+
+    from ..view.report import CSS
+    from ..safety import CAUTIONS
+
+    e = html.escape
+    ok = sorted([lv for lv in study.levels if lv.summary], key=lambda lv: -lv.summary["mesh"]["h_m"])
+    parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>axibore grid study: {e(study.title)}</title>",
+             f"<style>{CSS}</style></head><body><h1>Grid study: {e(study.title)}</h1>",
+             "<p class='meta'>procedure: Celik, Ghia, Roache, Freitas, Coleman &amp; Raad, J. Fluids Eng. 130(7) 078001, 2008; "
+             "safety factor 1.25 with three or more grids, 3 with two</p>",
+             "<div class='caution'><strong>Caution.</strong> " + " ".join(e(c) for c in CAUTIONS) + "</div>",
+             "<h2>Levels</h2><table><tr><th>level</th><th>cells</th><th>h</th><th>refinement ratio to the next coarser</th>"
+             "<th>solve</th></tr>"]
+    for i, lv in enumerate(ok):
+        ratio = f"{ok[i - 1].summary['mesh']['h_m'] / lv.summary['mesh']['h_m']:.3f}" if i else "-"
+        sv = lv.summary["solver"]
+        parts.append(f"<tr><td>{lv.level}</td><td class='num'>{lv.summary['mesh']['cells']:,}</td>"
+                     f"<td class='num'>{lv.summary['mesh']['h_m'] * 1e3:.4g} mm</td><td class='num'>{ratio}</td>"
+                     f"<td>{e(str(sv.get('method', '')))}{'' if sv['converged'] else ' (NOT converged)'}</td></tr>")
+    for lv in study.levels:
+        if lv.error:
+            parts.append(f"<tr><td>{lv.level}</td><td colspan='4'>failed: {e(lv.error)}</td></tr>")
+    parts.append("</table><h2>Quantities</h2><table><tr><th>quantity</th>" + "".join(f"<th>L{lv.level}</th>" for lv in ok)
+                 + "<th>observed order</th><th>extrapolated</th><th>GCI fine</th></tr>")
+    for name, r in study.results.items():
+        label, unit, k = LABELS.get(name, (name, "", 1.0))
+        vals = dict(zip(r.h, r.phi))
+        cells = "".join(f"<td class='num'>{vals[lv.summary['mesh']['h_m']] * k:.7g}</td>" if lv.summary["mesh"]["h_m"] in vals
+                        else "<td>-</td>" for lv in ok)
+        order = "-" if r.order is None else f"{r.order:.2f}"
+        ext = "-" if r.extrapolated is None else f"{r.extrapolated * k:.7g}"
+        g = "-" if r.gci_fine is None else f"{r.gci_fine:.3%}"
+        parts.append(f"<tr><td>{e(label)} [{e(unit)}]</td>{cells}<td class='num'>{order}</td><td class='num'>{ext}</td>"
+                     f"<td class='num'>{g}</td></tr>")
+        for flag in r.flags + study.notes.get(name, []):
+            parts.append(f"<tr><td colspan='{len(ok) + 4}' class='warn'>{e(label)}: {e(flag)}</td></tr>")
+    parts.append("</table>")
+    plot = out_dir / "convergence.png"
+    if plot.exists():
+        src = "data:image/png;base64," + base64.b64encode(plot.read_bytes()).decode("ascii")
+        parts.append(f"<h2>Convergence</h2><figure><img alt='convergence' src='{src}'><figcaption>Relative difference "
+                     "from the extrapolated value against the cell size, with a slope-2 guide.</figcaption></figure>")
+    parts.append("</body></html>")
+    return atomic_write_text(out_dir / "gridstudy.html", "\n".join(parts))
 
 
 def plot_convergence(study: GridStudy, path: Path) -> Path:
@@ -163,7 +224,8 @@ def plot_convergence(study: GridStudy, path: Path) -> Path:
 
     fig, ax = figure(6.4, 4.6, dpi=120)
     hs_all = []
-    for name, r in study.results.items():
+    styles = [("o", "-"), ("s", "--"), ("^", "-."), ("D", ":"), ("v", "-"), ("P", "--"), ("X", "-.")]
+    for k, (name, r) in enumerate(study.results.items()):
         if r.extrapolated is None or not r.extrapolated or r.gci_fine in (None, 0.0):
             continue
         err = [abs(v - r.extrapolated) / abs(r.extrapolated) for v in r.phi]
@@ -172,8 +234,10 @@ def plot_convergence(study: GridStudy, path: Path) -> Path:
             continue
         hs, es = zip(*pts)
         hs_all += hs
-        label = f"{name} (p = {r.order:.2f})" if r.order is not None else name
-        ax.loglog(hs, es, "o-", label=label)
+        text = LABELS.get(name, (name,))[0]
+        label = f"{text} (p = {r.order:.2f})" if r.order is not None else text
+        marker, line = styles[k % len(styles)]  # lines that coincide stay distinguishable
+        ax.loglog(hs, es, marker=marker, ls=line, ms=7 - k % 3, mfc="none", label=label)
     if hs_all:
         h0, h1 = min(hs_all), max(hs_all)
         ref = [1e-3 * (h / h1) ** 2 for h in (h0, h1)]
