@@ -117,3 +117,24 @@ def test_polygon_area_and_pappus_volume():
     assert p.area == pytest.approx(2.0 + 0.75)
     # volume / 2 pi = integral r dA: 2 * 1/2 + integral_0^1 (r(x)^2 / 2) dx with r = 1 - x/2
     assert p.volume_per_radian == pytest.approx(1.0 + (1 - 0.5 + 1 / 12) / 2)
+
+
+def test_points_file_units_and_a_cone_ending_at_the_exit(tmp_path, nozzle_dict):
+    (tmp_path / "mm.csv").write_text("x_mm,r_mm\n0,40\n100,40\n160,12.5\n")
+    (tmp_path / "m.csv").write_text("x,r\n0,0.04\n0.1,0.04\n0.16,0.0125\n")
+    base = {"fluid": {"kind": "water", "temperature": "15 degC"}, "inlet": {"pressure": "2 bar"}}
+    a = case_from_dict({**base, "bore": {"template": "points", "file": "mm.csv"}}, base_dir=tmp_path).profile
+    b = case_from_dict({**base, "bore": {"template": "points", "file": "m.csv"}}, base_dir=tmp_path).profile
+    c = case_from_dict({**base, "bore": {"template": "points", "file": "m.csv", "unit": "m"}}, base_dir=tmp_path).profile
+    assert np.allclose(a.wall_points, b.wall_points, rtol=1e-12) and np.allclose(c.wall_points, b.wall_points)
+    with pytest.raises(CaseError) as exc:
+        case_from_dict({**base, "bore": {"template": "points", "file": "mm.csv", "unit": "in"}}, base_dir=tmp_path, source="c.toml")
+    assert 'c.toml: bore.unit: the case says "in" but the header of mm.csv says "mm"' in str(exc.value)
+    # a cone that ends at the exit plane: tip_length = 0 (and no lip to round)
+    nozzle_dict["bore"].update({"tip_length": 0, "lip_radius": 0})
+    p = case_from_dict(nozzle_dict).profile
+    assert len(p.wall) == 2 and p.r_outlet == pytest.approx(0.0125)
+    nozzle_dict["bore"]["lip_radius"] = "5 mm"
+    with pytest.raises(CaseError) as exc:
+        case_from_dict(nozzle_dict, source="n.toml")
+    assert "n.toml: bore.lip_radius: a lip rounding needs a straight tip" in str(exc.value)

@@ -156,7 +156,7 @@ class ConicalBore(_Section):
     exit_diameter: PosLength
     half_angle: HalfAngle
     inlet_length: PosLength
-    tip_length: PosLength
+    tip_length: NonNegLength  # 0: the cone ends at the exit plane
     lip_radius: NonNegLength = 0.0
     centerbody: CenterbodySpec | None = None
 
@@ -205,7 +205,8 @@ class SegmentsBore(_Section):
 class PointsBore(_Section):
     template: Literal["points"]
     file: str
-    smooth: bool = False
+    smooth: Annotated[bool, Field(strict=True)] = False
+    unit: Literal["m", "mm", "cm", "in"] | None = None  # of the file's x and r (else from its header, else metres)
     centerbody: CenterbodySpec | None = None
 
 

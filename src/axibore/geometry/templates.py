@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import csv
 import math
+import re
 from pathlib import Path
 
 import numpy as np
@@ -136,7 +137,13 @@ def smooth_resample(pts: np.ndarray, minimum: int = 64) -> np.ndarray:
     return out
 
 
-def _read_points(path: Path, key: str) -> np.ndarray:
+CSV_UNITS = {"m": 1.0, "mm": 1e-3, "cm": 1e-2, "in": 0.0254}
+_COLUMN = re.compile(r"^(x|r)\s*(?:[_\s]|\[|\()?\s*(m|mm|cm|in)?\s*[\])]?$")
+
+
+def _read_points(path: Path, key: str, unit: str | None = None) -> np.ndarray:
+    """x, r points of a CSV profile in metres: columns named x and r, with a unit in the header
+    ("x_mm", "x [mm]", "x (mm)") or in the case (bore.unit), else metres."""
     try:
         text = path.read_text(encoding="utf-8")
     except OSError as exc:
@@ -146,10 +153,19 @@ def _read_points(path: Path, key: str) -> np.ndarray:
     if not rows:
         raise ProfileError(key, f"{path.name}: the file is empty")
     n0, header = rows[0]
-    names = [h.strip().lower() for h in header]
-    if "x" not in names or "r" not in names:
-        raise ProfileError(key, f"{path.name} line {n0}: expected a header naming columns x and r (metres), got {header}")
-    ix, ir = names.index("x"), names.index("r")
+    found = {}
+    for k, h in enumerate(header):
+        m = _COLUMN.match(h.strip().lower())
+        if m:
+            found[m.group(1)] = (k, m.group(2))
+    if "x" not in found or "r" not in found:
+        raise ProfileError(key, f"{path.name} line {n0}: expected a header naming columns x and r (e.g. x,r or x_mm,r_mm), got {header}")
+    (ix, ux), (ir, ur) = found["x"], found["r"]
+    if ux != ur:
+        raise ProfileError(key, f"{path.name} line {n0}: columns x and r must be in the same unit, got {header}")
+    if ux is not None and unit is not None and ux != unit:
+        raise ProfileError("bore.unit", f'the case says "{unit}" but the header of {path.name} says "{ux}"')
+    factor = CSV_UNITS[ux or unit or "m"]
     pts = []
     for n, row in rows[1:]:
         try:
@@ -158,7 +174,11 @@ def _read_points(path: Path, key: str) -> np.ndarray:
             raise ProfileError(key, f"{path.name} line {n}: expected numbers in columns x and r, got {row}") from None
     if len(pts) < 2:
         raise ProfileError(key, f"{path.name}: needs at least two points")
-    return np.array(pts)
+    pts = np.array(pts) * factor
+    bad = ~np.isfinite(pts).all(axis=1)
+    if bad.any():
+        raise ProfileError(key, f"{path.name} line {rows[1 + int(np.flatnonzero(bad)[0])][0]}: expected finite numbers, got NaN or inf")
+    return pts
 
 
 def build_profile(bore, base_dir: Path | None = None) -> Profile:
@@ -173,8 +193,14 @@ def build_profile(bore, base_dir: Path | None = None) -> Profile:
             raise ProfileError("bore.exit_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m) for a nozzle")
         lc = _straight_cone(ri, re, b.half_angle)
         v = [(0, ri), (b.inlet_length, ri), (b.inlet_length + lc, re), (b.inlet_length + lc + b.tip_length, re)]
-        wall = fillet_chain(v, [0.0, b.lip_radius], ["bore.inlet_length", "bore.half_angle", "bore.tip_length"],
-                            ["bore.inlet_length", "bore.lip_radius"])
+        if b.tip_length == 0.0:  # the cone ends at the exit plane: no lip to round
+            if b.lip_radius > 0:
+                raise ProfileError("bore.lip_radius", "a lip rounding needs a straight tip after the cone: give tip_length > 0 "
+                                   "or lip_radius = 0")
+            wall = fillet_chain(v[:3], [0.0], ["bore.inlet_length", "bore.half_angle"], ["bore.inlet_length"])
+        else:
+            wall = fillet_chain(v, [0.0, b.lip_radius], ["bore.inlet_length", "bore.half_angle", "bore.tip_length"],
+                                ["bore.inlet_length", "bore.lip_radius"])
     elif t == "reducer":
         r1, r2 = b.inlet_diameter / 2, b.outlet_diameter / 2
         if abs(r1 - r2) <= 1e-9 * r1:
@@ -228,7 +254,7 @@ def build_profile(bore, base_dir: Path | None = None) -> Profile:
         wall = _chain_from_spec(b.start, b.segment, "bore")
     elif t == "points":
         path = Path(b.file) if Path(b.file).is_absolute() else Path(base_dir or Path.cwd()) / b.file
-        pts = _read_points(path, "bore.file")
+        pts = _read_points(path, "bore.file", b.unit)
         if b.smooth and len(pts) > 2:
             even = smooth_resample(pts)
             wall = [Segment(tuple(even[0]), tuple(even[-1]), "spline", via=tuple(map(tuple, even[1:-1])), key="bore.file")]
