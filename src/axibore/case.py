@@ -34,6 +34,7 @@ if TYPE_CHECKING:
     from .geometry import Profile
 
 DEFAULT_AMBIENT = 101325.0
+MAX_CASE_BYTES = 1_000_000  # a case file is a page of text; anything larger is not one
 
 OPERATING_POINTS = ('Allowed for a liquid: outlet.kind = "pipe": two of inlet.pressure, inlet.flow_rate and '
                     'outlet.pressure (default 0 gauge); "exit-plane" or "free-jet": inlet.pressure or inlet.flow_rate.')
@@ -74,6 +75,22 @@ def _quantity(dimension: str, reference: str | None = None):
     return BeforeValidator(convert)
 
 
+MAX_LENGTH = 1.0e4  # m: no bore of this tool is longer or wider
+MAX_PRESSURE = 1.0e10  # Pa
+
+
+def _plausible_length(value: float) -> float:
+    if abs(value) > MAX_LENGTH:
+        raise PydanticCustomError("plausible", f"expected a length below {MAX_LENGTH:g} m, got {value:.6g} m")
+    return value
+
+
+def _plausible_pressure(value: float) -> float:
+    if abs(value) > MAX_PRESSURE:
+        raise PydanticCustomError("plausible", f"expected a pressure below {MAX_PRESSURE / 1e9:g} GPa, got {value:.6g} Pa")
+    return value
+
+
 def _positive(value: float) -> float:
     if not value > 0.0:
         raise PydanticCustomError("positive", f"expected a value greater than zero, got {value:.6g} (SI)")
@@ -93,11 +110,11 @@ def _half_angle(value: float) -> float:
     return value
 
 
-Length = Annotated[float, _quantity("length")]
-PosLength = Annotated[float, _quantity("length"), AfterValidator(_positive)]
-NonNegLength = Annotated[float, _quantity("length"), AfterValidator(_non_negative)]
-Pressure = Annotated[float, _quantity("pressure", "gauge")]  # gauge unless the key says absolute
-AbsPressure = Annotated[float, _quantity("pressure", "absolute"), AfterValidator(_positive)]
+Length = Annotated[float, _quantity("length"), AfterValidator(_plausible_length)]
+PosLength = Annotated[float, _quantity("length"), AfterValidator(_plausible_length), AfterValidator(_positive)]
+NonNegLength = Annotated[float, _quantity("length"), AfterValidator(_plausible_length), AfterValidator(_non_negative)]
+Pressure = Annotated[float, _quantity("pressure", "gauge"), AfterValidator(_plausible_pressure)]  # gauge unless the key says absolute
+AbsPressure = Annotated[float, _quantity("pressure", "absolute"), AfterValidator(_plausible_pressure), AfterValidator(_positive)]
 Temperature = Annotated[float, _quantity("temperature"), AfterValidator(_positive)]
 Density = Annotated[float, _quantity("density"), AfterValidator(_positive)]
 HalfAngle = Annotated[float, _quantity("angle"), AfterValidator(_half_angle)]
@@ -234,7 +251,7 @@ MAX_LEVEL = 12
 
 
 class MeshSpec(_Section):
-    size: Annotated[float, Field(gt=0.0, le=1.0, strict=True)] = 0.05
+    size: Annotated[float, Field(gt=0.0, le=0.5, strict=True)] = 0.05  # at least two cells across the narrowest section
     level: Annotated[int, Field(ge=0, le=MAX_LEVEL, strict=True)] = 0
     cells: Literal["triangles", "quads"] = "quads"
 
@@ -452,7 +469,7 @@ def _format_validation(exc: ValidationError, data: dict) -> list[tuple[str, str]
             msg = err["msg"]
             if msg.startswith("Value error, "):
                 msg = msg[len("Value error, ") :]
-            if kind not in ("quantity", "positive", "non_negative", "angle_range", "solver_kind") and given is not None and not isinstance(given, (dict, list)):
+            if kind not in ("quantity", "positive", "non_negative", "angle_range", "solver_kind", "plausible") and given is not None and not isinstance(given, (dict, list)):
                 msg = f"{msg} (got {given!r})"
         problems.append((path, msg))
     return problems
@@ -473,7 +490,10 @@ def _cross_checks(m: CaseModel) -> list[tuple[str, str]]:
     if f.kind in ("water", "seawater") and f.temperature is None:
         problems.append(("fluid.temperature", f'missing: required for fluid.kind = "{f.kind}", e.g. "15 degC"'))
     if f.kind == "water" and f.temperature is not None and not fluids.WATER_T_MIN <= f.temperature <= fluids.WATER_T_MAX:
-        problems.append(("fluid.temperature", f"expected 0.01 to 200 degC for water, got {f.temperature - 273.15:.4g} degC"))
+        problems.append(("fluid.temperature", f"expected 0.01 to 200 degC for water (the range of IAPWS-IF97 liquid water), "
+                         f"got {f.temperature - 273.15:.4g} degC"))
+    if f.kind == "seawater" and f.temperature is not None and not fluids.SEAWATER_T_MIN <= f.temperature <= fluids.SEAWATER_T_MAX:
+        problems.append(("fluid.temperature", f"expected -2 to 40 degC for seawater, got {f.temperature - 273.15:.4g} degC"))
     if f.kind == "liquid":
         for key in ("density", "vapour_pressure"):
             if getattr(f, key) is None:
@@ -592,16 +612,20 @@ def case_from_dict(data: dict, source: str = "<memory>", base_dir: Path | None =
 
 def load_case(path: str | Path) -> Case:
     """Read and validate a TOML case file. Raises CaseError naming the file and every problem."""
+    from .io.files import InputError, read_input_text
+
     path = Path(path)
     source = str(path)
     try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise CaseError(source, [("", f"cannot read the case file ({exc.strerror})")]) from None
+        text = read_input_text(path, "case file", MAX_CASE_BYTES)
+    except InputError as exc:
+        raise CaseError(source, [("", str(exc))]) from None
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise CaseError(source, [("", f"not valid TOML: {exc}")]) from None
+    except RecursionError:
+        raise CaseError(source, [("", "not a case file: its arrays or tables are nested too deeply")]) from None
     return case_from_dict(data, source=source, base_dir=path.resolve().parent)
 
 

@@ -54,12 +54,17 @@ def describe(case: Case) -> list[str]:
         lines.append(f"inlet     total pressure {show(i.total_pressure, 'pressure')} gauge, total temperature {show(i.total_temperature, 'temperature')}")
     p_out = "computed" if (o.pressure is None and i.pressure is not None and i.flow_rate is not None) else show(o.pressure or 0.0, "pressure") + " gauge"
     lines.append(f"outlet    {o.kind}, static pressure {p_out}, ambient {show(o.ambient_pressure, 'pressure')} absolute")
+    from .budget import budget, refusal
+
     h = target_size(p, case.mesh.size, case.mesh.level)
-    n, how = expected_cells(p, case.mesh.size, case.mesh.level, case.mesh.cells)
+    b = budget(case)
     lines.append(
         f"mesh      {case.mesh.cells}, size {case.mesh.size:g} x smallest channel height, level {case.mesh.level}: "
-        f"target cell {show(h, 'length')}, {'' if how == 'counted' else 'about '}{n:,} cells ({how})"
+        f"target cell {show(h, 'length')}, {'' if b.how == 'counted' else 'about '}{b.cells:,} cells ({b.how}), "
+        f"about {b.memory_bytes / 1e9:.2g} GB of memory"
     )
+    if not b.within:
+        lines.append(f"note      {refusal(b)}; `run` will refuse this case")
     lines.append(f"solver    {case.solver_kind} (tolerance {case.solver.tolerance:g}); 1D breakdown threshold {case.onedim.threshold:.3g} of the outlet dynamic pressure")
     for j in case.joints:
         at = j.at if isinstance(j.at, str) else f"x = {show(j.at, 'length')}"

@@ -22,6 +22,10 @@ GASES: dict[str, tuple[float, float]] = {
 
 WATER_T_MIN = 273.16
 WATER_T_MAX = 473.15
+# Seawater from its freezing point at 35 g/kg (about -1.9 degC, common practice) to tropical surface water.
+SEAWATER_T_MIN = 271.15
+SEAWATER_T_MAX = 313.15
+TRIPLE_POINT_PRESSURE = 611.657  # Pa (IAPWS-IF97, Wagner et al. 2000)
 
 
 def water_vapour_pressure(temperature: float) -> float:
@@ -77,12 +81,15 @@ def resolve_water(temperature: float, reference_pressure_abs: float) -> Fluid:
 
 def resolve_seawater(temperature: float, density: float | None) -> Fluid:
     # Vapour pressure of seawater is about 2 % below that of pure water; pure water's is used,
-    # which errs towards predicting cavitation (common practice).
+    # which errs towards predicting cavitation (common practice). Below 0.01 degC (seawater stays
+    # liquid down to about -1.9 degC) the triple-point pressure is used: a little above the
+    # vapour pressure of the cold brine, so it also errs towards predicting cavitation.
+    pv = water_vapour_pressure(temperature) if temperature >= WATER_T_MIN else TRIPLE_POINT_PRESSURE
     return Fluid(
         kind="seawater",
         name="seawater",
         density=SEAWATER_DENSITY if density is None else density,
-        vapour_pressure=water_vapour_pressure(temperature),
+        vapour_pressure=pv,
         temperature=temperature,
         source="given density" if density is not None else "1025 kg/m^3 default (common practice)",
     )

@@ -10,6 +10,8 @@ from dataclasses import dataclass, field, replace
 from pathlib import Path
 from typing import Callable
 
+import numpy as np
+
 from .case import Case
 from .geometry import Profile
 from .mesh import FVMesh
@@ -54,11 +56,19 @@ def _quiet(stage: str, detail: str) -> None:
     pass
 
 
-def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Path | None = None) -> RunResult:
+def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Path | None = None,
+               max_cells: int | None = None) -> RunResult:
+    """Solve ``case`` in memory. Refused (RunRefused) when the case asks for what this version
+    cannot run, or when its mesh would exceed the memory of this machine (``max_cells`` overrides)."""
+    from .budget import budget, refusal
+
     progress = progress or _quiet
     refused = case.unsupported()
     if refused:
         raise RunRefused("; ".join(refused))
+    b = budget(case, max_cells)
+    if not b.within:
+        raise RunRefused(refusal(b))
     sec: dict[str, float] = {}
     profile = case.profile
     t = time.perf_counter()
@@ -71,6 +81,12 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
     solver = SOLVERS[case.solver_kind].load()
     flow = solver(case, profile, mesh, progress)
     sec["solve"] = time.perf_counter() - t
+    if not (np.all(np.isfinite(flow.pressure)) and np.all(np.isfinite(flow.velocity)) and np.isfinite(flow.mass_flow)):
+        from .solvers.base import FlowError
+
+        key = "inlet.total_pressure" if flow.compressible else ("inlet.flow_rate" if case.inlet.flow_rate else "inlet.pressure")
+        raise FlowError(key, "the solution is not finite (NaN or infinite pressures or speeds): the operating point is "
+                        "beyond what the numbers can hold; check the value and its unit")
     rec = flow.record
     sec["assembly"] = rec.seconds_assembly
     sec["linear_solve"] = rec.seconds_solve
@@ -89,17 +105,19 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
 
 
 def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, report: bool = True,
-             unit: str = "bar") -> RunResult:
+             unit: str = "bar", max_cells: int | None = None) -> RunResult:
     """Solve ``case`` and write its run directory; the directory appears complete or not at all.
 
     ``report``: also draw the plots and write report.html (the view stage; timed separately).
     """
-    from .io.files import atomic_dir
+    from .io.files import atomic_dir, clean_stale_partials
     from .io.rundir import write_report, write_run
 
     progress = progress or _quiet
+    for d in clean_stale_partials(Path(out_dir).parent):
+        progress("write", f"removed {d.name}, left by an interrupted run")
     with atomic_dir(out_dir) as tmp:
-        res = solve_case(case, progress, msh_path=tmp / "mesh.msh")
+        res = solve_case(case, progress, msh_path=tmp / "mesh.msh", max_cells=max_cells)
         write_run(res, tmp)
         if report:
             progress("report", "plots, 3D view and report.html")

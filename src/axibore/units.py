@@ -170,7 +170,7 @@ def show(value: float, dimension: str, digits: int = 4, unit: str | None = None)
     pressures in ``unit`` (one of PRESSURE_UNITS, default bar)."""
     if value is None or (isinstance(value, float) and not math.isfinite(value)):
         return "-"
-    if abs(value) < 1e-9:
+    if abs(value) < 1e-6:  # 1 um, 1 uPa, 1 uN: round-off of a zero
         value = 0.0
     if dimension == "length":
         return f"{plain(value * 1e3, digits)} mm" if abs(value) < 1.0 else f"{plain(value, digits)} m"

@@ -33,9 +33,20 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
+def _interrupt(signum, frame):
+    raise KeyboardInterrupt
+
+
 def main(argv: list[str] | None = None) -> int:
+    import signal
+
     parser = build_parser()
     args = parser.parse_args(argv)
+    for sig in (signal.SIGTERM, signal.SIGHUP):  # handled as Ctrl-C: temporary files removed, nothing half-written
+        try:
+            signal.signal(sig, _interrupt)
+        except (ValueError, OSError):  # not the main thread
+            pass
     if not getattr(args, "func", None):
         parser.print_help()
         return 2

@@ -16,6 +16,8 @@ def run(args) -> int:
     case = load(args)
     for line in describe(case):
         out(line)
-    refused = case.unsupported()
-    out("ok: the case is valid" if not refused else "valid, but `run` will refuse it in this version (see the notes above)")
+    from ..budget import budget
+
+    refused = case.unsupported() or not budget(case).within
+    out("ok: the case is valid" if not refused else "valid, but `run` will refuse it (see the notes above)")
     return 0

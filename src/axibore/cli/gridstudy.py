@@ -14,6 +14,7 @@ def add_args(p) -> None:
     add_case_arg(p)
     p.add_argument("--levels", type=levels, default=[0, 1, 2, 3], help="mesh levels, e.g. 0,1,2,3 (default)")
     p.add_argument("--out", help="study directory (default: runs/<case name>-gridstudy)")
+    p.add_argument("--force", action="store_true", help="replace an existing --out folder that is not an earlier study")
     p.add_argument("--workers", type=int, default=1, help="levels run side by side in this many processes (default 1)")
     p.add_argument("--keep", choices=["fields"], action="append", default=[],
                    help="--keep fields: keep the field files (fields.vtu, mesh.msh, load surfaces) of every level, "
@@ -32,7 +33,13 @@ def run(args) -> int:
     if args.workers < 1:
         err(f"--workers: expected 1 or more, got {args.workers}")
         return 2
-    outdir = Path(args.out) if args.out else Path("runs") / f"{stem(args)}-gridstudy"
+    from ..io.files import OutputError, check_output_dir
+
+    try:
+        outdir = check_output_dir(Path(args.out) if args.out else Path("runs") / f"{stem(args)}-gridstudy", args.force)
+    except OutputError as exc:
+        err(f"--out: {exc}")
+        return 2
     out(f"axibore {__version__}: grid study of {case.title}, levels {','.join(map(str, args.levels))}")
     with executor(args.workers) as ex:
         study = run_grid_study(case, args.levels, outdir, out, executor=ex, keep_fields="fields" in args.keep)

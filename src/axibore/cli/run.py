@@ -11,6 +11,8 @@ from ..units import PRESSURE_UNITS
 from .common import add_case_arg, err, level, load, out, progress, stem
 from .output import headline
 
+RECONCILIATION_LIMIT = 0.05  # a run whose wall force and momentum balance differ more is not a result
+
 HELP = "the whole job on a case (default: the built-in demo): mesh, solve, forces, checks, run directory"
 
 
@@ -18,6 +20,9 @@ def add_args(p) -> None:
     add_case_arg(p)
     p.add_argument("--out", help="run directory to write (default: runs/<case name>)")
     p.add_argument("--level", type=level, default=None, help="refinement level 0-12 (overrides mesh.level)")
+    p.add_argument("--max-cells", type=int, default=None,
+                   help="run even if the mesh exceeds the memory-based cell limit of this machine (this many cells at most)")
+    p.add_argument("--force", action="store_true", help="replace an existing --out folder that is not an earlier run")
     p.add_argument("--units", choices=list(PRESSURE_UNITS), default="bar",
                    help="pressure unit of the printed numbers, the report and the plots (default bar)")
     p.add_argument("--solver", choices=list(SOLVERS), default=None,
@@ -28,11 +33,17 @@ def run(args) -> int:
     from ..run import RunRefused, run_case
     from ..solvers.base import FlowError
 
+    from ..io.files import OutputError, check_output_dir
+
     case = load(args)
-    outdir = Path(args.out) if args.out else Path("runs") / stem(args)
+    try:
+        outdir = check_output_dir(Path(args.out) if args.out else Path("runs") / stem(args), args.force)
+    except OutputError as exc:
+        err(f"--out: {exc}")
+        return 2
     out(f"axibore {__version__}: {case.title}")
     try:
-        res = run_case(case, outdir, progress, unit=args.units)
+        res = run_case(case, outdir, progress, unit=args.units, max_cells=args.max_cells)
     except RunRefused as exc:
         err(f"{case.source}: cannot run this case yet: {exc}")
         return 2
@@ -54,4 +65,8 @@ def run(args) -> int:
     written = ["report.html"] if (outdir / "report.html").exists() else []
     written += ["summary.json", "wall.csv", "wall_load.vtu", "fields.vtu", "mesh.msh", "case.toml"]
     out(f"wrote {outdir}/ ({', '.join(written)})")
+    if abs(s["forces"]["reconciliation_rel"] or 0.0) > RECONCILIATION_LIMIT:
+        err(f"the wall force and the momentum balance differ by {s['forces']['reconciliation_rel']:+.2%} (more than "
+            f"{RECONCILIATION_LIMIT:.0%}): the mesh is too coarse for this bore; the numbers are not reliable (exit 1)")
+        return 1
     return 0 if s["solver"]["converged"] else 1

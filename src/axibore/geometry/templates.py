@@ -67,8 +67,15 @@ def fillet_chain(vertices, radii, keys, radius_keys) -> list[Segment]:
     return segs
 
 
+MAX_CONE_ASPECT = 1000.0  # a cone longer than this many diameters is a typo in the angle
+
+
 def _straight_cone(r_in: float, r_out: float, half_angle: float) -> float:
-    return abs(r_in - r_out) / math.tan(half_angle)
+    length = abs(r_in - r_out) / math.tan(half_angle)
+    if length > MAX_CONE_ASPECT * 2 * max(r_in, r_out):
+        raise ProfileError("bore.half_angle", f"{math.degrees(half_angle):.4g} deg makes the cone {length:.4g} m long, more than "
+                           f"{MAX_CONE_ASPECT:g} diameters: expected a larger half angle")
+    return length
 
 
 def _chain_from_spec(start, segments, prefix: str) -> list[Segment]:
@@ -141,13 +148,19 @@ CSV_UNITS = {"m": 1.0, "mm": 1e-3, "cm": 1e-2, "in": 0.0254}
 _COLUMN = re.compile(r"^(x|r)\s*(?:[_\s]|\[|\()?\s*(m|mm|cm|in)?\s*[\])]?$")
 
 
+MAX_POINTS = 20_000  # a profile CSV of more points is a scan, not a bore: resample it first
+MAX_CSV_BYTES = 5_000_000
+
+
 def _read_points(path: Path, key: str, unit: str | None = None) -> np.ndarray:
     """x, r points of a CSV profile in metres: columns named x and r, with a unit in the header
     ("x_mm", "x [mm]", "x (mm)") or in the case (bore.unit), else metres."""
+    from ..io.files import InputError, read_input_text
+
     try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise ProfileError(key, f"cannot read the profile file {str(path)!r} ({exc.strerror})") from None
+        text = read_input_text(path, "profile file", MAX_CSV_BYTES)
+    except InputError as exc:
+        raise ProfileError(key, f"{str(path)!r}: {exc}") from None
     rows = list(csv.reader(text.splitlines()))
     rows = [(n, r) for n, r in enumerate(rows, 1) if r and not r[0].lstrip().startswith("#")]
     if not rows:
@@ -166,6 +179,9 @@ def _read_points(path: Path, key: str, unit: str | None = None) -> np.ndarray:
     if ux is not None and unit is not None and ux != unit:
         raise ProfileError("bore.unit", f'the case says "{unit}" but the header of {path.name} says "{ux}"')
     factor = CSV_UNITS[ux or unit or "m"]
+    if len(rows) - 1 > MAX_POINTS:
+        raise ProfileError(key, f"{path.name}: {len(rows) - 1:,} points, more than the {MAX_POINTS:,} a profile may have "
+                           "(resample the curve; smooth = true draws a spline through fewer points)")
     pts = []
     for n, row in rows[1:]:
         try:

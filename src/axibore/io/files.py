@@ -48,12 +48,112 @@ def atomic_file(path: str | Path, suffix: str | None = None):
         raise
 
 
+class InputError(ValueError):
+    """An input file that cannot be read as text (names the file and why)."""
+
+
+def read_input_text(path: str | Path, what: str, max_bytes: int) -> str:
+    """Text of a regular file of at most ``max_bytes``, decoded as UTF-8, or InputError saying why not."""
+    path = Path(path)
+    try:
+        st = path.stat()
+    except OSError as exc:
+        raise InputError(f"cannot read the {what} ({exc.strerror})") from None
+    import stat as stat_mod
+
+    if not stat_mod.S_ISREG(st.st_mode):
+        raise InputError(f"the {what} is not a regular file (a device, pipe or folder cannot be read as one)")
+    if st.st_size > max_bytes:
+        raise InputError(f"the {what} is {st.st_size / 1e6:.3g} MB, more than the {max_bytes / 1e6:.3g} MB a {what} may have")
+    try:
+        raw = path.read_bytes()
+    except OSError as exc:
+        raise InputError(f"cannot read the {what} ({exc.strerror})") from None
+    try:
+        return raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = raw[: exc.start].count(b"\n") + 1
+        raise InputError(f"the {what} is not UTF-8 text (byte 0x{raw[exc.start]:02x} on line {line})") from None
+
+
+class OutputError(ValueError):
+    """An output location that cannot or must not be written (names the path and why)."""
+
+
+def is_run_directory(path: Path) -> bool:
+    """A directory axibore wrote: its summary.json names the software (or a grid study's gridstudy.json)."""
+    import json
+
+    for name, check in (("summary.json", lambda d: d.get("software", {}).get("name") == "axibore"),
+                        ("gridstudy.json", lambda d: "procedure" in d and "levels" in d)):
+        f = path / name
+        if f.is_file():
+            try:
+                if check(json.loads(f.read_text(encoding="utf-8"))):
+                    return True
+            except (ValueError, OSError, AttributeError):
+                return False
+    return False
+
+
+def check_output_dir(path: str | Path, force: bool = False) -> Path:
+    """The real path a run directory will be written to, checked before any work starts.
+
+    Refused: an existing file; an existing directory that is neither empty nor an earlier run
+    (unless ``force``); a parent that cannot be written. A symlink is followed to its target.
+    """
+    path = Path(path).expanduser()
+    if path.is_symlink():
+        path = path.resolve()
+    path = Path(os.path.abspath(path))
+    if path.exists() and not path.is_dir():
+        raise OutputError(f"{path}: exists and is a file, not a run directory; give another --out")
+    if path.is_dir() and any(path.iterdir()) and not is_run_directory(path) and not force:
+        raise OutputError(f"{path}: exists and is not an earlier run (no axibore summary.json): refusing to replace "
+                          "its files; give another --out, or --force to replace it")
+    if path == Path.cwd() or path in Path.cwd().parents:
+        raise OutputError(f"{path}: is the working directory or one above it; give a new folder for --out")
+    parent = path.parent
+    while not parent.exists():
+        parent = parent.parent
+    if not os.access(parent, os.W_OK | os.X_OK):
+        raise OutputError(f"{path}: cannot write in {parent} (permission denied); give another --out")
+    try:
+        probe = tempfile.NamedTemporaryFile(dir=parent, prefix=".axibore-write-test.", delete=True)
+        probe.close()
+    except OSError as exc:
+        raise OutputError(f"{path}: cannot write in {parent} ({exc.strerror}); give another --out") from None
+    return path
+
+
+def clean_stale_partials(parent: Path) -> list[Path]:
+    """Remove temporary run directories of processes that no longer run (left by a kill); returns them."""
+    removed = []
+    if not parent.is_dir():
+        return removed
+    for d in parent.glob(".*.partial"):
+        parts = d.name.split(".")
+        pid = next((int(p[4:]) for p in parts if p.startswith("pid-") and p[4:].isdigit()), None)
+        if pid is None or pid == os.getpid():
+            continue
+        try:
+            os.kill(pid, 0)
+            continue  # still running: its work, not ours
+        except ProcessLookupError:
+            pass
+        except PermissionError:
+            continue
+        shutil.rmtree(d, ignore_errors=True)
+        removed.append(d)
+    return removed
+
+
 @contextmanager
 def atomic_dir(path: str | Path):
     """Yield a temporary directory beside ``path``; on success it replaces ``path`` whole."""
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
-    tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}.", suffix=".partial", dir=path.parent))
+    tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}.pid-{os.getpid()}.", suffix=".partial", dir=path.parent))
     os.chmod(tmp, 0o755)
     try:
         yield tmp

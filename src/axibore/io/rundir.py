@@ -16,6 +16,7 @@ import numpy as np
 from .files import atomic_write_text, write_csv, write_vtu
 from .summary import dumps
 
+CASE_HEADER = "# resolved case: the case as it ran, every key explicit (axibore run writes it; it loads as it is)\n"
 WALL_HEADER = (
     "axibore wall table: faces in order of arc length s from the inlet; p_gauge relative to ambient; "
     "n = unit normal out of the fluid; cumulative_force_x_N = axial force on the part from the inlet to this face; "
@@ -46,7 +47,7 @@ def write_run(res, out: Path) -> None:
 
     t0 = time.perf_counter()
     out = Path(out)
-    atomic_write_text(out / "case.toml", "# resolved case: the case as it ran, every key explicit (axibore run writes it; it loads as it is)\n" + tomli_w.dumps(resolved_dict(res.case)))
+    atomic_write_text(out / "case.toml", CASE_HEADER + tomli_w.dumps(resolved_dict(res.case)))
     mesh, flow = res.mesh, res.flow
     write_vtu(out / "fields.vtu", mesh, cell_fields(mesh, flow),
               {"stream_function_m3_s": stream_function(mesh, flow.face_mass_flux / flow.inlet_density)})

@@ -4,12 +4,13 @@ from __future__ import annotations
 
 import json
 import math
+import shutil
 import time
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Callable
 
-from ..io.files import atomic_write_text
+from ..io.files import atomic_write_text, is_run_directory
 from .gci import GCIResult, gci
 
 # (name, summary section, summary key)
@@ -82,6 +83,23 @@ def _corner_notes(name: str, summary: dict, result: GCIResult) -> list[str]:
     return [f"the bore has sharp convex corners ({where(corners)}): their singular suction slows the convergence"]
 
 
+def _reusable(run_dir: Path, case) -> dict | None:
+    """The summary of a complete earlier run of exactly this resolved case, else None."""
+    import tomli_w
+
+    from ..case import resolved_dict
+    from ..io.rundir import CASE_HEADER
+
+    try:
+        written = (run_dir / "case.toml").read_text(encoding="utf-8")
+        summary = json.loads((run_dir / "summary.json").read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return None
+    if written != CASE_HEADER + tomli_w.dumps(resolved_dict(case)) or not summary.get("solver", {}).get("converged"):
+        return None
+    return summary
+
+
 def run_level(job: tuple) -> dict:
     """One level of a study (a module-level function, so that a process pool can run it)."""
     from ..run import run_case
@@ -108,19 +126,34 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
     done = [LevelResult(level, out_dir / f"level-{level}") for level in levels]
-    jobs = [(case.with_level(lv.level), lv.run_dir) for lv in done]
-    progress(f"{len(levels)} levels on {executor.workers} worker{'s' if executor.workers > 1 else ''}")
+    for stale in sorted(out_dir.glob("level-*")):  # levels of an earlier study that this one does not have
+        if stale.is_dir() and stale.name not in {lv.run_dir.name for lv in done} and is_run_directory(stale):
+            shutil.rmtree(stale, ignore_errors=True)
+            progress(f"removed {stale.name}: a level of an earlier study that this one does not include")
+    for err_file in out_dir.glob("level-*.error.txt"):
+        err_file.unlink(missing_ok=True)
+    cases = {lv.level: case.with_level(lv.level) for lv in done}
+    todo = []
+    for lv in done:
+        reused = _reusable(lv.run_dir, cases[lv.level])
+        if reused is not None:
+            lv.summary = reused
+            progress(f"level {lv.level}: reused the complete run in {lv.run_dir.name} (same resolved case)")
+        else:
+            todo.append(lv)
+    jobs = [(cases[lv.level], lv.run_dir) for lv in todo]
+    progress(f"{len(todo)} of {len(levels)} levels to run on {executor.workers} worker{'s' if executor.workers > 1 else ''}")
     t0 = time.perf_counter()
     for k, (i, summary, error) in enumerate(executor.run(run_level, jobs), 1):
-        lv = done[i]
+        lv = todo[i]
         lv.seconds = time.perf_counter() - t0
         if error is None:
             lv.summary = summary
-            progress(f"[{k}/{len(levels)}] level {lv.level}: {summary['mesh']['cells']:,} cells, {lv.seconds:.1f} s")
+            progress(f"[{k}/{len(todo)}] level {lv.level}: {summary['mesh']['cells']:,} cells, {lv.seconds:.1f} s")
         else:  # a failed level is reported; the study goes on with the others
             lv.error = error.message
             atomic_write_text(out_dir / f"level-{lv.level}.error.txt", error.traceback)
-            progress(f"[{k}/{len(levels)}] level {lv.level}: FAILED ({lv.error})")
+            progress(f"[{k}/{len(todo)}] level {lv.level}: FAILED ({lv.error})")
     study = GridStudy(case.title, done)
     ok = [lv for lv in done if lv.summary]
     for name, section, key in QUANTITIES:
