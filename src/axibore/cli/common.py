@@ -64,8 +64,27 @@ def stem(args) -> str:
     return Path(args.case).stem if getattr(args, "case", None) else "demo"
 
 
-def run_dir(path: str) -> Path:
+SUMMARY_SECTIONS = ("solver", "mesh", "flow", "pressure", "forces", "onedim")
+
+
+def run_dir(path: str, need_fields: bool = False) -> Path:
+    """A run directory whose summary.json and wall table can be read (else a CaseError saying what is wrong)."""
+    import json
+
     p = Path(path)
-    if not (p / "summary.json").exists():
+    s = p / "summary.json"
+    if not s.is_file():
         raise CaseError(str(p), [("", "not a run directory (no summary.json): give a directory written by `axibore run`")])
+    try:
+        data = json.loads(s.read_text(encoding="utf-8"))
+    except (ValueError, OSError):
+        raise CaseError(str(s), [("", "damaged: not readable JSON (rerun the case to write the run directory again)")]) from None
+    missing = [k for k in SUMMARY_SECTIONS if not isinstance(data, dict) or not isinstance(data.get(k), dict)]
+    if missing:
+        raise CaseError(str(s), [("", f"damaged or not a run summary: no {', '.join(missing)} section (rerun the case)")])
+    if not (p / "wall.csv").is_file():
+        raise CaseError(str(p), [("", "damaged: wall.csv is missing (rerun the case)")])
+    if need_fields and not (p / "fields.vtu").is_file():
+        raise CaseError(str(p), [("", "fields.vtu is missing (a grid study keeps it for its finest level only; "
+                                      "rerun with --keep fields or view the finest level)")])
     return p

@@ -38,7 +38,7 @@ def _pair(text: str, what: str, length: bool) -> tuple[float, float]:
 def run(args) -> int:
     from ..view.scene import ViewOptions, render
 
-    run = run_dir(args.run_dir)
+    run = run_dir(args.run_dir, need_fields=True)
     if args.field == "mach" and not json.loads((run / "summary.json").read_text())["flow"].get("compressible"):
         err("--field mach: this run is of a liquid (no Mach number); use pressure, speed or cp")
         return 2

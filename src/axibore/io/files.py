@@ -108,11 +108,11 @@ def check_output_dir(path: str | Path, force: bool = False) -> Path:
     path = Path(os.path.abspath(path))
     if path.exists() and not path.is_dir():
         raise OutputError(f"{path}: exists and is a file, not a run directory; give another --out")
+    if path == Path.cwd() or path in Path.cwd().parents:
+        raise OutputError(f"{path}: is the working directory or one above it; give a new folder for --out")
     if path.is_dir() and any(path.iterdir()) and not is_run_directory(path) and not force:
         raise OutputError(f"{path}: exists and is not an earlier run (no axibore summary.json): refusing to replace "
                           "its files; give another --out, or --force to replace it")
-    if path == Path.cwd() or path in Path.cwd().parents:
-        raise OutputError(f"{path}: is the working directory or one above it; give a new folder for --out")
     parent = path.parent
     while not parent.exists():
         parent = parent.parent

@@ -57,8 +57,18 @@ def gmsh_session(name: str = "axibore"):
     already has one, it is left open: a new model is added and removed afterwards, the caller's
     current model is made current again and the options set here are restored.
     """
+    import signal
+
     import gmsh
 
+    # Gmsh resets signal dispositions (SIGTERM, SIGHUP back to the default) behind Python's back:
+    # keep the caller's handlers and put them back afterwards.
+    handlers = {}
+    for sig in (signal.SIGINT, signal.SIGTERM, signal.SIGHUP):
+        try:
+            handlers[sig] = signal.getsignal(sig)
+        except (ValueError, OSError):
+            pass
     owned = not gmsh.isInitialized()
     if owned:
         gmsh.initialize(readConfigFiles=False, interruptible=False)
@@ -80,6 +90,12 @@ def gmsh_session(name: str = "axibore"):
                 gmsh.option.setNumber(k, v)
             if previous:
                 gmsh.model.setCurrent(previous)
+        for sig, handler in handlers.items():
+            if handler is not None:
+                try:
+                    signal.signal(sig, handler)
+                except (ValueError, OSError):  # not the main thread: nothing to restore from here
+                    pass
 
 
 def generate(gmsh, groups: dict[str, list[int]], surfaces: list[int], msh_path: str | Path | None = None,

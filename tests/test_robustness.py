@@ -1,0 +1,251 @@
+"""Bad input, misuse and kills: exit 0 or 2 with a message naming the key or file, never a
+traceback, never a lost user file, nothing half-written under a real name."""
+
+import os
+import signal
+import subprocess
+import sys
+import time
+import tomllib
+from pathlib import Path
+
+import pytest
+import tomli_w
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from axibore.cli import main
+
+CASES = Path(__file__).parents[1] / "cases"
+REDUCER = (CASES / "water_main_reducer.toml").read_text()
+
+
+def write(tmp_path, text, name="c.toml"):
+    p = tmp_path / name
+    p.write_text(text) if isinstance(text, str) else p.write_bytes(text)
+    return p
+
+
+def run_cli(argv, capsys):
+    rc = main(argv)
+    cap = capsys.readouterr()
+    assert "Traceback" not in cap.err and "Error:" not in cap.err, cap.err
+    return rc, cap.out, cap.err
+
+
+# -- files and --out ---------------------------------------------------------------------------
+def test_out_never_replaces_a_users_folder_or_file(tmp_path, capsys):
+    case = write(tmp_path, REDUCER + "\n[mesh]\nsize = 0.3\n")
+    mine = tmp_path / "mine"
+    mine.mkdir()
+    (mine / "notes.txt").write_text("keep me")
+    rc, _, err = run_cli(["run", str(case), "--out", str(mine)], capsys)
+    assert rc == 2 and "not an earlier run" in err and (mine / "notes.txt").read_text() == "keep me"
+    afile = tmp_path / "afile"
+    afile.write_text("data")
+    rc, _, err = run_cli(["run", str(case), "--out", str(afile)], capsys)
+    assert rc == 2 and "is a file" in err and afile.read_text() == "data"
+    rc, _, err = run_cli(["run", str(case), "--out", "."], capsys)
+    assert rc == 2 and "working directory" in err
+    assert not list(tmp_path.glob(".*old*")) and not list(tmp_path.glob(".*partial"))
+    # an earlier run is replaced; --force replaces a foreign folder
+    run_dir = tmp_path / "run"
+    assert run_cli(["run", str(case), "--out", str(run_dir)], capsys)[0] == 0
+    assert run_cli(["run", str(case), "--out", str(run_dir)], capsys)[0] == 0
+    assert run_cli(["run", str(case), "--out", str(mine), "--force"], capsys)[0] == 0 and not (mine / "notes.txt").exists()
+    # a symlinked --out writes through the link and leaves nothing hidden behind
+    link = tmp_path / "link"
+    link.symlink_to(run_dir)
+    assert run_cli(["run", str(case), "--out", str(link)], capsys)[0] == 0
+    assert (run_dir / "summary.json").exists() and not list(tmp_path.glob(".*"))
+
+
+@pytest.mark.skipif(os.geteuid() == 0, reason="root may write a read-only folder")
+def test_read_only_out(tmp_path, capsys):
+    ro = tmp_path / "ro"
+    ro.mkdir(mode=0o555)
+    rc, _, err = run_cli(["run", str(write(tmp_path, REDUCER)), "--out", str(ro / "run")], capsys)
+    assert rc == 2 and "cannot write" in err
+
+
+def test_impossible_out(tmp_path, capsys):
+    rc, _, err = run_cli(["run", str(write(tmp_path, REDUCER)), "--out", "/proc/axibore-run"], capsys)
+    assert rc == 2 and "--out" in err
+
+
+# -- input files -------------------------------------------------------------------------------
+@pytest.mark.parametrize("content, expected", [
+    (b"title = \"x\xff\"\n", "not UTF-8 text (byte 0xff on line 1)"),
+    ("a = " + "[" * 2000 + "]" * 2000 + "\n", "nested too deeply"),
+    (REDUCER.replace('flow_rate = "0.5 m^3/s"', 'flow_rate = "1e200 m^3/s"'), "inlet.flow_rate: expected a finite"),
+    (REDUCER.replace('pressure = "10 bar"', 'pressure = "9**9**9 Pa"'), 'inlet.pressure: expected a pressure, got "9**9**9 Pa"'),
+    (REDUCER.replace('pressure = "10 bar"', 'pressure = "bar"'), "inlet.pressure: expected a number followed by a unit"),
+    (REDUCER + "\n[mesh]\nlevel = \"4\"\n", "mesh.level"),
+    (REDUCER + "\n[mesh]\nsize = 1.0\n", "mesh.size"),
+    (REDUCER.replace("bolts = 20", "bolts = true", 1), "joint[1].bolts"),
+    (REDUCER.replace('inlet_diameter = "600 mm"', 'inlet_diameter = "1e30 m"'), "bore.inlet_diameter: expected a length below"),
+    (REDUCER.replace('half_angle = "10 deg"', 'half_angle = "1e-6 deg"'), "bore.half_angle"),
+    (REDUCER.replace('temperature = "12 degC"', 'temperature = "0 degC"'), "fluid.temperature: expected 0.01 to 200 degC"),
+])
+def test_bad_case_files_name_the_problem(tmp_path, capsys, content, expected):
+    rc, _, err = run_cli(["check", str(write(tmp_path, content))], capsys)
+    assert rc == 2 and expected in err, err
+
+
+def test_non_regular_and_huge_files(tmp_path, capsys):
+    rc, _, err = run_cli(["check", "/dev/zero"], capsys)
+    assert rc == 2 and "not a regular file" in err
+    (tmp_path / "big.csv").write_text("x,r\n" + "0,0.1\n" * 30000)
+    case = write(tmp_path, '[fluid]\nkind = "water"\ntemperature = "15 degC"\n[bore]\ntemplate = "points"\nfile = "big.csv"\n'
+                 '[inlet]\nflow_rate = "0.01 m^3/s"\n')
+    rc, _, err = run_cli(["check", str(case)], capsys)
+    assert rc == 2 and "bore.file" in err and "more than the 20,000" in err
+    case = write(tmp_path, case.read_text().replace("big.csv", "/dev/zero"))
+    rc, _, err = run_cli(["check", str(case)], capsys)
+    assert rc == 2 and "bore.file" in err and "not a regular file" in err
+
+
+def test_seawater_runs_at_sea_temperatures(tmp_path, capsys):
+    text = (CASES / "deck_wash_nozzle.toml").read_text().replace('temperature = "15 degC"', 'temperature = "-1.9 degC"')
+    assert run_cli(["check", str(write(tmp_path, text))], capsys)[0] == 0
+    text = text.replace('"-1.9 degC"', '"-5 degC"')
+    rc, _, err = run_cli(["check", str(write(tmp_path, text))], capsys)
+    assert rc == 2 and "expected -2 to 40 degC for seawater" in err
+
+
+# -- runaway work ------------------------------------------------------------------------------
+def test_runaway_meshes_are_refused_before_meshing(tmp_path, capsys):
+    for extra in ("\n[mesh]\nsize = 1e-9\n", "\n[mesh]\nlevel = 12\n"):
+        case = write(tmp_path, REDUCER + extra)
+        rc, out, _ = run_cli(["check", str(case)], capsys)
+        assert rc == 0 and "`run` will refuse this case" in out
+        t = time.perf_counter()
+        rc, _, err = run_cli(["run", str(case), "--out", str(tmp_path / "r")], capsys)
+        assert rc == 2 and "--max-cells" in err and time.perf_counter() - t < 20
+        assert not (tmp_path / "r").exists()
+
+
+# -- command-line misuse -----------------------------------------------------------------------
+@pytest.mark.parametrize("argv", [["gridstudy", "--levels", "2,1"], ["gridstudy", "--levels", "1,,2"], ["run", "--level", "x"],
+                                  ["view", "nowhere"], ["report", "nowhere"]])
+def test_misused_commands(argv, capsys):
+    with pytest.raises(SystemExit) if argv[0] == "gridstudy" or "--level" in argv else _no_raise():
+        rc = main(argv)
+        assert rc == 2
+    cap = capsys.readouterr()
+    assert "Traceback" not in cap.err
+
+
+class _no_raise:
+    def __enter__(self):
+        return self
+
+    def __exit__(self, *exc):
+        return False
+
+
+@pytest.mark.parametrize("damage", ["garbage", "{}", "[]", "truncated", "no wall.csv", "no fields.vtu"])
+def test_report_on_a_damaged_run(tmp_path, capsys, damage):
+    case = write(tmp_path, REDUCER + "\n[mesh]\nsize = 0.3\n")
+    run_dir = tmp_path / "run"
+    assert main(["run", str(case), "--out", str(run_dir)]) == 0
+    capsys.readouterr()
+    s = run_dir / "summary.json"
+    if damage == "garbage":
+        s.write_text("not json at all")
+    elif damage in ("{}", "[]"):
+        s.write_text(damage)
+    elif damage == "truncated":
+        s.write_text(s.read_text()[:200])
+    elif damage == "no wall.csv":
+        (run_dir / "wall.csv").unlink()
+    else:
+        (run_dir / "fields.vtu").unlink()
+    rc = main(["report", str(run_dir)])
+    cap = capsys.readouterr()
+    assert "Traceback" not in cap.err
+    if damage in ("garbage", "{}", "[]", "truncated", "no wall.csv"):
+        assert rc == 2 and str(run_dir) in cap.err
+    else:
+        assert rc == 0 and "not kept" in (run_dir / "report.html").read_text()
+
+
+# -- kills -------------------------------------------------------------------------------------
+@pytest.mark.parametrize("sig", [signal.SIGTERM, signal.SIGKILL])
+def test_killed_run_leaves_no_half_written_run(tmp_path, sig):
+    case = write(tmp_path, REDUCER + "\n[mesh]\nlevel = 2\n")
+    out = tmp_path / "run"
+    env = dict(os.environ, PYTHONUNBUFFERED="1")
+    proc = subprocess.Popen([sys.executable, "-m", "axibore.cli", "run", str(case), "--out", str(out)],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env)
+    for line in proc.stdout:  # kill it in the middle of the solve
+        if line.startswith("[mesh]") and "cells" in line:
+            break
+    proc.send_signal(sig)
+    proc.wait(timeout=60)
+    assert not out.exists()
+    if sig == signal.SIGTERM:
+        assert not list(tmp_path.glob(".*partial"))  # cleaned on the way out
+        assert "interrupted" in proc.stderr.read()
+    # the next run into the same folder removes what a SIGKILL left, says so, and completes
+    res = subprocess.run([sys.executable, "-m", "axibore.cli", "run", str(case), "--out", str(out), "--level", "0"],
+                         capture_output=True, text=True, env=env)
+    assert res.returncode == 0 and (out / "summary.json").exists()
+    assert not list(tmp_path.glob(".*partial"))
+    if sig == signal.SIGKILL:
+        assert "left by an interrupted run" in res.stdout
+
+
+# -- property-based fuzz of the shipped cases -----------------------------------------------------
+def _mutations():
+    values = st.one_of(st.integers(-10**6, 10**6), st.floats(allow_nan=True, allow_infinity=True), st.booleans(),
+                       st.text(max_size=12), st.sampled_from(["1 bar", "3 mm", "-2 deg", "0 m", "1e300 Pa", "nan m", "12", ""]),
+                       st.lists(st.integers(), max_size=3))
+    return st.tuples(st.sampled_from(sorted(p.name for p in CASES.glob("*.toml"))), st.integers(0, 60), values)
+
+
+def _leaf_keys(d, prefix=""):
+    for k, v in d.items():
+        if isinstance(v, dict):
+            yield from _leaf_keys(v, f"{prefix}{k}.")
+        else:
+            yield f"{prefix}{k}"
+
+
+def _fuzz_once(tmp_path, capsys, mutation):
+    name, pick, value = mutation
+    data = tomllib.loads((CASES / name).read_text())
+    keys = list(_leaf_keys(data))
+    key = keys[pick % len(keys)]
+    node = data
+    *parents, leaf = key.split(".")
+    for part in parents:
+        node = node[part]
+    node[leaf] = value
+    try:
+        text = tomli_w.dumps(data)
+    except (TypeError, ValueError):  # not representable in TOML (NaN in a table is, None is not)
+        return
+    path = tmp_path / "fuzz.toml"
+    path.write_text(text)
+    t = time.perf_counter()
+    rc = main(["check", str(path)])
+    cap = capsys.readouterr()
+    assert time.perf_counter() - t < 20
+    assert rc in (0, 2)
+    assert "Traceback" not in cap.err
+    if rc == 2:
+        assert any(line.startswith(f"{path}: ") and ": " in line[len(str(path)) + 2:] for line in cap.err.splitlines()), cap.err
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(mutation=_mutations())
+def test_fuzzed_cases_exit_0_or_2_with_a_key(tmp_path, capsys, mutation):
+    _fuzz_once(tmp_path, capsys, mutation)
+
+
+@pytest.mark.slow
+@settings(max_examples=400, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(mutation=_mutations())
+def test_fuzzed_cases_many(tmp_path, capsys, mutation):
+    _fuzz_once(tmp_path, capsys, mutation)
