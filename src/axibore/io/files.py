@@ -93,7 +93,10 @@ def is_run_directory(path: Path) -> bool:
                     return True
             except (ValueError, OSError, AttributeError):
                 return False
-    return False
+    # an interrupted grid study: only level-N run directories (and their error notes) so far
+    entries = [e for e in path.iterdir() if not e.name.startswith(".")] if path.is_dir() else []
+    return bool(entries) and all(e.name.startswith("level-") and (e.name.endswith(".error.txt") or is_run_directory(e))
+                                 for e in entries)
 
 
 def check_output_dir(path: str | Path, force: bool = False) -> Path:
