@@ -54,14 +54,17 @@ def test_scene_bounds_and_scalar_range(run_dir):
     assert np.allclose(expected, (x0, x1, -R, R, -R, R), rtol=0, atol=1e-12)
     assert np.allclose(p.bounds, expected, rtol=0, atol=1e-9 * R)
     field = np.concatenate(m.cell_data["p_gauge_Pa"]) / 1e5  # shown in bar (the default unit)
-    assert info.field_range == pytest.approx((field.min(), field.max()), rel=1e-12)
+    wall = np.concatenate([read_csv(run_dir / f"{n}.csv")["p_gauge_Pa"] for n in ("wall", "centerbody")]) / 1e5
+    # the colour range holds the cells and the wall (whose suction peak reaches past the cells)
+    lo, hi = info.field_range
+    assert lo <= field.min() and hi >= field.max() and lo <= wall.min() * 0.97 and lo >= wall.min() * 1.001
     ranges = []
     for a in p.renderer.actors.values():
         mapper = getattr(a, "mapper", None)
         data = getattr(mapper, "dataset", None)
         if data is not None and "gauge pressure [bar]" in data.cell_data:
             ranges.append(mapper.scalar_range)
-    assert ranges and all(np.allclose(r, (field.min(), field.max())) for r in ranges)
+    assert ranges and all(np.allclose(r, (lo, hi)) for r in ranges)
     p.close()
 
 

@@ -51,7 +51,8 @@ def headline(summary: dict, unit: str = "bar") -> list[str]:
         ("min wall pressure abs", absolute_wall_pressure(p, unit)),
     ]
     if not gas:
-        rows.append(("cavitation index", f"{p['cavitation_index']:.4g} (inception at {p['inception_index']:.4g})"))
+        rows.append(("cavitation index", f"{p['cavitation_index']:.4g} (cavitation where it is below the inception index "
+                                         f"{p['inception_index']:.4g})"))
     rows += [
         ("1D wall-pressure dev", deviation_text(o, unit)),
         (f"1D breakdown (> {o['breakdown_threshold']:.3g} q_out)",
@@ -59,7 +60,8 @@ def headline(summary: dict, unit: str = "bar") -> list[str]:
         ("outlet beta / alpha", f"{o['outlet_momentum_factor']:.5f} / {o['outlet_energy_factor']:.5f}"),
     ]
     sv = summary["solver"]
-    solve = f"{summary['mesh']['cells']:,} cells ({summary['mesh']['method']}), {sv['method']}, residual {sv['residual']:.1e}, " \
+    method = "superlu (direct)" if sv["method"] == "superlu" else sv["method"]
+    solve = f"{summary['mesh']['cells']:,} cells ({summary['mesh']['method']}), {method}, residual {sv['residual']:.1e}, " \
             f"mass imbalance {sv['mass_imbalance']:.1e}"
     if not sv["converged"]:
         solve += "  NOT CONVERGED"

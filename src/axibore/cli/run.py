@@ -37,7 +37,7 @@ def run(args) -> int:
 
     case = load(args)
     try:
-        outdir = check_output_dir(Path(args.out) if args.out else Path("runs") / stem(args), args.force)
+        outdir = check_output_dir(Path(args.out) if args.out else Path("runs") / stem(args), args.force, say=out)
     except OutputError as exc:
         err(f"--out: {exc}")
         return 2
@@ -56,6 +56,9 @@ def run(args) -> int:
         out(line)
     for w in s["warnings"]:
         out(f"warning: {w}")
+    for j in s.get("joints", []):
+        if j["note"]:
+            out(f"note: joint {j['name']}: {j['note']}")
     out("")
     out(caution_text())
     if s.get("joints"):

@@ -63,5 +63,6 @@ def run(args) -> int:
         return 2
     lo, hi = info.field_range
     if png is not None:
-        out(f"wrote {png} ({args.field} {lo:.6g} to {hi:.6g}{' ' + args.units if args.field == 'pressure' else ''})")
+        unit = {"pressure": f" {args.units} gauge", "speed": " m/s", "mach": "", "cp": ""}[args.field]
+        out(f"wrote {png} ({args.field} {lo:.4g} to {hi:.4g}{unit})")
     return 0

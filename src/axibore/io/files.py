@@ -99,7 +99,7 @@ def is_run_directory(path: Path) -> bool:
                                  for e in entries)
 
 
-def check_output_dir(path: str | Path, force: bool = False) -> Path:
+def check_output_dir(path: str | Path, force: bool = False, say=None) -> Path:
     """The real path a run directory will be written to, checked before any work starts.
 
     Refused: an existing file; an existing directory that is neither empty nor an earlier run
@@ -113,9 +113,13 @@ def check_output_dir(path: str | Path, force: bool = False) -> Path:
         raise OutputError(f"{path}: exists and is a file, not a run directory; give another --out")
     if path == Path.cwd() or path in Path.cwd().parents:
         raise OutputError(f"{path}: is the working directory or one above it; give a new folder for --out")
-    if path.is_dir() and any(path.iterdir()) and not is_run_directory(path) and not force:
-        raise OutputError(f"{path}: exists and is not an earlier run (no axibore summary.json): refusing to replace "
-                          "its files; give another --out, or --force to replace it")
+    if path.is_dir() and any(path.iterdir()) and not is_run_directory(path):
+        if not force:
+            raise OutputError(f"{path}: exists and is not an earlier run (no axibore summary.json): refusing to replace "
+                              "its files; give another --out, or --force to delete them and write the run there")
+        if say:
+            n = sum(1 for _ in path.rglob("*"))
+            say(f"--force: {path} is not an earlier run; its {n} files and folders will be deleted when the run completes")
     parent = path.parent
     while not parent.exists():
         parent = parent.parent

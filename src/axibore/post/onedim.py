@@ -139,7 +139,7 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
     elif outlet_kind == "pipe":
         cd_note = "none for a pipe outlet (inviscid flow between two planes has no losses)"
     else:
-        cd_note = "1 by the inviscid exit-plane model (not computed: a free-jet outlet or the viscous wall layer computes it)"
+        cd_note = "1 by the inviscid exit-plane model (an inviscid jet leaving through the exit plane has no losses and no contraction)"
     dev_pa = worst * q_out
     local = dev_pa / abs(worst_p) if np.isfinite(worst_p) and abs(worst_p) > 0.1 * q_out else None
     return OneDimComparison(

@@ -20,7 +20,7 @@ SAFETY_TWO_GRIDS = 3.0
 MIN_RATIO = 1.3
 # Relative changes between grids below this are the accuracy of the solve itself (linear tolerance
 # 1e-10 of the residual, the boundary reconstruction), not discretisation: the quantity is converged.
-ROUND_OFF = 1e-7
+ROUND_OFF = 1e-6
 
 
 @dataclass(frozen=True)

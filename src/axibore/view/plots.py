@@ -139,9 +139,10 @@ def mesh_plot(run, path=None, zoom_at: tuple[float, float] | None = None) -> Pat
     run = _as_run(run)
     s = run["summary"]
     f = fields(run)
-    nodes, allc = f["nodes"], f["polygons"]
-    zx, zr = zoom_at or (s["pressure"]["min_wall_x_m"], s["pressure"].get("min_wall_r_m", nodes[:, 1].max()))
-    span = 12 * s["mesh"]["target_h_m"]
+    nodes, allc = f["nodes"] * 1e3, f["polygons"]  # drawn in millimetres
+    zx, zr = zoom_at or (s["pressure"]["min_wall_x_m"], s["pressure"].get("min_wall_r_m", nodes[:, 1].max() * 1e-3))
+    zx, zr = zx * 1e3, zr * 1e3
+    span = 12 * s["mesh"]["target_h_m"] * 1e3
     fig, axes = figure(7.4, 3.4, nrows=1, ncols=2, gridspec_kw={"width_ratios": [2.2, 1]})
     centre = nodes[allc].mean(axis=1)
     inside = (np.abs(centre[:, 0] - zx) < 1.5 * span) & (np.abs(centre[:, 1] - zr) < 1.5 * span)
@@ -149,21 +150,22 @@ def mesh_plot(run, path=None, zoom_at: tuple[float, float] | None = None) -> Pat
         axes[0].add_collection(PolyCollection(nodes[allc], facecolor="none", edgecolor="#2c3e50", linewidth=0.15))
     else:
         for name, t in run["tables"].items():
-            axes[0].plot(t["x_m"], t["r_m"], color=COLOURS[name], lw=1)
+            axes[0].plot(t["x_m"] * 1e3, t["r_m"] * 1e3, color=COLOURS[name], lw=1)
         axes[0].text(0.5, 0.5, "cells too dense to draw here: see the zoom", transform=axes[0].transAxes, ha="center", fontsize=7)
     axes[1].add_collection(PolyCollection(nodes[allc[inside]], facecolor="none", edgecolor="#2c3e50", linewidth=0.5))
     for ax in axes:
         ax.set_aspect("equal")
     axes[0].set_xlim(nodes[:, 0].min(), nodes[:, 0].max())
     axes[0].set_ylim(0, nodes[:, 1].max() * 1.02)
+    zr = min(zr, nodes[:, 1].max() - span)  # keep the zoom box inside the picture
     axes[0].add_patch(Rectangle((zx - span, zr - span), 2 * span, 2 * span, fill=False, ec="#c0392b", lw=1))
     axes[0].set_title(f"{s['mesh']['cells']:,} cells ({s['mesh']['method']})", fontsize=8.5)
     axes[1].set_xlim(zx - span, zx + span)
     axes[1].set_ylim(zr - span, zr + span)
     axes[1].set_title("zoom at the minimum wall pressure", fontsize=8.5)
     for ax in axes:
-        ax.set_xlabel("x [m]")
-    axes[0].set_ylabel("r [m]")
+        ax.set_xlabel("x [mm]")
+    axes[0].set_ylabel("r [mm]")
     fig.tight_layout()
     return save(fig, Path(path or run["dir"] / "plot_mesh.png"))
 
@@ -176,7 +178,7 @@ def speed_plot(run, path=None, lines: int = 12) -> Path:
 
     run = _as_run(run)
     f = fields(run)
-    nodes, cells, allc = f["nodes"], f["cells"], f["polygons"]
+    nodes, cells, allc = f["nodes"] * 1e3, f["cells"], f["polygons"]  # drawn in millimetres
     fig, ax = figure(7.4, 3.2)
 
     psi = f["point_data"]["stream_function_m3_s"]
@@ -184,7 +186,7 @@ def speed_plot(run, path=None, lines: int = 12) -> Path:
     mach = "mach" in f["cell_data"]
     speed = f["cell_data"]["mach" if mach else "speed_m_s"]
     if len(allc) <= DRAW_CELLS_MAX:
-        pc = PolyCollection(nodes[allc], array=speed, cmap="viridis", edgecolor="face", linewidth=0.05)
+        pc = PolyCollection(nodes[allc], array=speed, cmap="viridis", edgecolor="none", antialiased=False)
         ax.add_collection(pc)
         tri = mtri.Triangulation(nodes[:, 0], nodes[:, 1], _triangles(cells))
         ax.tricontour(tri, psi, levels=levels, colors="white", linewidths=0.6)
@@ -212,8 +214,8 @@ def speed_plot(run, path=None, lines: int = 12) -> Path:
     ax.set_aspect("equal")
     cb = fig.colorbar(pc, ax=ax, shrink=0.85)
     cb.set_label("Mach number" if mach else "speed [m/s]")
-    ax.set_xlabel("x [m]")
-    ax.set_ylabel("r [m]")
+    ax.set_xlabel("x [mm]")
+    ax.set_ylabel("r [mm]")
     ax.set_title(f"{'Mach number' if mach else 'Speed'}; white: streamlines, each band carries 1/{lines + 1} of the flow",
                  fontsize=8.5)
     fig.tight_layout()

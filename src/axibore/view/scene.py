@@ -18,7 +18,7 @@ FIELDS = {
     "pressure": ("p_gauge_Pa", "gauge pressure"),
     "speed": ("speed_m_s", "speed [m/s]"),
     "mach": ("mach", "Mach number"),
-    "cp": ("cp", "Cp"),
+    "cp": ("cp", "Cp = (p - p_out) / q_out"),
 }
 
 
@@ -50,8 +50,8 @@ def _clip_x(grid, opts: ViewOptions):
     centres = grid.cell_centers().points[:, 0]
     keep = (centres >= x0) & (centres <= x1)
     if not keep.any():
-        raise ValueError(f"the x range {x0 * 1e3:.4g} to {x1 * 1e3:.4g} mm holds no cell of this run "
-                         f"(the bore spans {grid.bounds[0] * 1e3:.4g} to {grid.bounds[1] * 1e3:.4g} mm)")
+        raise ValueError(f"the x range {x0:.4g} to {x1:.4g} holds no cell of this run "
+                         f"(the bore spans {grid.bounds[0]:.4g} to {grid.bounds[1]:.4g}; lengths in the view's unit)")
     return grid.extract_cells(np.flatnonzero(keep))
 
 
@@ -132,17 +132,22 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
     grid = _clip_x(_meridional_grid(run_dir), opts)
     name, label = _field(grid, field, opts)
     values = grid.cell_data[name]
-    frange = opts.colour_range or (float(values.min()), float(values.max()))
+    surfaces = _wall_surfaces(run_dir, angle_deg)
+    if opts.x_range is not None:
+        surfaces = [sf.clip_box((opts.x_range[0], opts.x_range[1], -1e9, 1e9, -1e9, 1e9), invert=False) for sf in surfaces]
+        surfaces = [sf for sf in surfaces if sf.n_points]
+    lo, hi = float(values.min()), float(values.max())
+    if field == "pressure":  # the wall values (face reconstruction) reach past the cell values at a suction peak
+        for sf in surfaces:
+            w = sf.point_data[WALL_P] / PRESSURE_UNITS[opts.unit]
+            lo, hi = min(lo, float(w.min())), max(hi, float(w.max()))
+    frange = opts.colour_range or (lo, hi)
     bar = {"title": label, "vertical": True, "position_x": 0.88, "position_y": 0.12, "width": 0.06, "height": 0.7,
            "fmt": "%.4g", "title_font_size": 16, "label_font_size": 13, "color": "black"}
     planes = [grid] if angle_deg >= 360 else [grid, _rotated(grid, np.radians(angle_deg))]
     for k, g in enumerate(planes):
         plotter.add_mesh(g, scalars=name, cmap="viridis", clim=frange, show_scalar_bar=(k == 0), scalar_bar_args=bar)
 
-    surfaces = _wall_surfaces(run_dir, angle_deg)
-    if opts.x_range is not None:
-        surfaces = [sf.clip_box((opts.x_range[0], opts.x_range[1], -1e9, 1e9, -1e9, 1e9), invert=False) for sf in surfaces]
-        surfaces = [sf for sf in surfaces if sf.n_points]
     wall_ranges = [(float(w.point_data[WALL_P].min()), float(w.point_data[WALL_P].max())) for w in surfaces]
     wr = (min(a for a, _ in wall_ranges), max(b for _, b in wall_ranges)) if wall_ranges else frange
     for surf in surfaces:
@@ -179,8 +184,10 @@ def build_meridional(plotter, run_dir: str | Path, field: str = "speed", lines: 
     """Flat meridional view coloured by ``field`` with streamlines (stream-function contours) and axes in mm."""
     run_dir = Path(run_dir)
     full = _meridional_grid(run_dir)
+    full.points = full.points * 1e3  # drawn in millimetres
     psi_all = full.point_data["stream_function_m3_s"]
-    grid = _clip_x(full, opts)
+    grid = _clip_x(full, ViewOptions(opts.unit, None if opts.x_range is None else (opts.x_range[0] * 1e3, opts.x_range[1] * 1e3),
+                                     opts.colour_range))
     name, label = _field(grid, field, opts)
     values = grid.cell_data[name]
     frange = opts.colour_range or (float(values.min()), float(values.max()))
@@ -193,11 +200,12 @@ def build_meridional(plotter, run_dir: str | Path, field: str = "speed", lines: 
         iso.points[:, 2] += 1e-4 * (grid.bounds[1] - grid.bounds[0])  # just above the plane: no z-fighting hatching
         plotter.add_mesh(iso, color="white", line_width=1.5)
     plotter.set_background("white")
-    plotter.show_bounds(xtitle="x [m]", ytitle="r [m]", ztitle="", color="black", location="outer", ticks="outside",
-                        font_size=11, show_zaxis=False, use_2d=True, fmt="%.4g")
+    plotter.show_bounds(xtitle="x [mm]", ytitle="r [mm]", ztitle="", color="black", location="outer", ticks="outside",
+                        font_size=16, show_zaxis=False, use_2d=True, fmt="%.4g")
+    plotter.add_text(f"{label}: {run_dir.name}", position="upper_edge", font_size=12, color="black")
     plotter.view_xy()
-    b = grid.bounds
-    return SceneInfo(tuple(float(v) for v in b), field, frange, frange)
+    b = tuple(float(v) * 1e-3 for v in grid.bounds)  # back in metres
+    return SceneInfo(b, field, frange, frange)
 
 
 def render(run_dir: str | Path, field: str = "pressure", angle_deg: float = 270.0, png: str | Path | None = None,
