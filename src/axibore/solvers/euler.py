@@ -20,8 +20,9 @@ cancels, and a uniform axial mass flux gives sum_f rho u_x n_x A_f = 0.
   frozen once the residual has dropped ``freeze_orders`` orders.
 * Boundaries by ghost states built from the interior face state: inlet total pressure and
   total temperature with the flow normal to the plane (static pressure extrapolated from
-  inside); outlet static pressure when the normal Mach number is below 0.95, full extrapolation
-  at or above one, the ghost pressure blended linearly in between; walls, centre body and axis reflect (mirror) the velocity.
+  inside); outlet by characteristics (entropy, tangential velocity and the outgoing Riemann
+  invariant from inside, the back pressure but not below the sonic pressure of those
+  invariants; extrapolation when supersonic normal to the plane); walls, centre body and axis reflect (mirror) the velocity.
 * Steady state: backward Euler in pseudo-time with local time steps, CFL grown by switched
   evolution relaxation (Mulder & van Leer 1985, J. Comput. Phys. 59, 232-246). The Jacobian is
   that of the first-order residual, assembled sparse from face-local finite differences of the
@@ -33,6 +34,16 @@ cancels, and a uniform axial mass flux gives sum_f rho u_x n_x A_f = 0.
   preconditioned by the LU factor of the first-order matrix; defect correction alone (the
   first-order matrix as the only Jacobian) stalls at low Mach numbers (no convergence in 200
   steps at M = 0.05, against 11 steps with Newton-Krylov).
+* Step control: a step whose largest relative change of density or pressure exceeds
+  ``max_update`` is scaled down, and the next CFL number is then cut by the square root of that
+  factor; a step that multiplies the residual by more than ``reject_growth`` is undone and retried
+  at a quarter of its CFL number. The GMRES tolerance follows Eisenstat & Walker (1996), choice
+  2. The preconditioner's factor (single precision) is kept across steps while GMRES converges
+  in at most ``refactor_iterations`` iterations; the first-order Jacobian is only assembled when
+  a new factor is needed.
+* Initial state: quasi-1D isentropic flow; choked, with a sonic area slightly below the minimum
+  area (INITIAL_SONIC_AREA), so that a straight throat starts supersonic, not on the singular
+  sonic state.
 """
 
 from __future__ import annotations
@@ -48,7 +59,7 @@ from ..mesh import FVMesh
 from . import onedim_gas as q1d
 
 WALL_KINDS = ("wall", "centerbody", "axis")
-OUTLET_BLEND = 0.05  # normal-Mach band below one over which the outlet goes from p_out to extrapolation
+INITIAL_SONIC_AREA = 0.99  # choked initial state: sonic area / minimum area (a typical throat Cd)
 
 
 # ---- plain data in --------------------------------------------------------------------------
@@ -72,8 +83,11 @@ class TotalInlet:
 class EulerSettings:
     second_order: bool = True
     limiter_k: float = 5.0  # Venkatakrishnan's K: eps^2 = (K h / L)^3 in scaled variables
-    freeze_orders: float = 3.0  # freeze the limiter after this many orders of residual drop,
-    # or when the residual has not halved over the last five steps (limiter chatter)
+    freeze_orders: float = 3.0  # freeze the limiter after this many orders of residual drop
+    freeze_on_stall: bool = True  # also when the residual, already down freeze_stall_orders, has not
+    # halved over five steps (limiter chatter); not earlier: a stall at 1e-2 on the blow-off nozzle
+    # was a moving sonic front, and a limiter frozen on it was stale
+    freeze_stall_orders: float = 2.0
     low_mach_fix: bool = True  # Thornber et al. 2008 velocity-jump scaling in the face states
     cfl0: float = 20.0
     cfl_max: float = 1e8
@@ -84,10 +98,17 @@ class EulerSettings:
     integral_steps: int = 5  # ... over this many consecutive steps, with the mass imbalance below
     imbalance_tol: float = 1e-5
     max_update: float = 0.3  # largest relative change of rho or p per step (the step is scaled down)
+    reject_growth: float = 5.0  # undo a step that multiplies the residual by more than this (0: never)
+    cfl_cut_min: float = 0.1  # after a scaled-down step (factor alpha) CFL *= sqrt(max(alpha, this))
     gmres_rtol: float = 1e-2  # relative tolerance of the Newton-Krylov (and reuse) GMRES solves
+    gmres_rtol_max: float = 0.3  # Newton-Krylov: the tolerance follows Eisenstat & Walker's choice 2
+    # (SIAM J. Sci. Comput. 17, 1996), 0.9 (res_k / res_k-1)^2, between gmres_rtol and this
     newton_krylov: bool = True  # second order: GMRES on the matrix-free second-order Jacobian
     krylov_iterations: int = 20
     reuse_iterations: int = 0  # > 0: reuse the last LU factor as GMRES preconditioner (this many iterations)
+    single_factor: bool = True  # Newton-Krylov: preconditioner factor in single precision
+    refactor_iterations: int = 10  # Newton-Krylov: keep the preconditioner's factor while GMRES needs at most
+    # this many iterations (0: factor every step)
 
 
 # ---- plain data out -------------------------------------------------------------------------
@@ -261,14 +282,26 @@ class _Problem:
         # walls, centre body, axis: mirror
         un = u * nx + v * nr
         WG[0], WG[1], WG[2], WG[3] = rho, u - 2 * un * nx, v - 2 * un * nr, p
-        # outlet: static pressure if subsonic normal to the plane, else extrapolate
+        # outlet: characteristic state. Entropy, tangential velocity and the outgoing Riemann
+        # invariant J+ = u_n + 2c/(g-1) come from inside; the pressure is the back pressure, but
+        # not below the sonic pressure p*(J+, s) at which the normal velocity reaches the sound
+        # speed (a choked exit cannot expand further in the exit plane). At a supersonic normal
+        # Mach number the state is extrapolated. p* equals the interior pressure at M_n = 1, so
+        # the ghost state is continuous in the interior state: no switching at a sonic exit.
         o = self.bkind == 1
-        c = np.sqrt(g * p[o] / rho[o])
-        # blended over the last OUTLET_BLEND of normal Mach number below one, so that the ghost
-        # state is continuous in the interior state (no switching chatter at a sonic exit)
-        w = np.clip((1.0 - un[o] / c) / OUTLET_BLEND, 0.0, 1.0)
-        WG[0, o], WG[1, o], WG[2, o] = rho[o], u[o], v[o]
-        WG[3, o] = p[o] + w * (self.p_out - p[o])
+        ro, po, uno = rho[o], p[o], un[o]
+        K = po / ro**g  # entropy
+        co = np.sqrt(g * po / ro)
+        Jp = uno + 2.0 * co / (g - 1.0)
+        cs = np.maximum((g - 1.0) / (g + 1.0) * Jp, 1e-12 * co)
+        p_star = K * (cs * cs / (g * K)) ** (g / (g - 1.0))
+        sub = uno < co
+        pb = np.where(sub, np.maximum(self.p_out, p_star), po)
+        rb = (pb / K) ** (1.0 / g)
+        unb = np.where(sub, Jp - 2.0 / (g - 1.0) * np.sqrt(g * pb / rb), uno)
+        WG[0, o], WG[3, o] = rb, pb
+        WG[1, o] = u[o] + (unb - uno) * nx[o]
+        WG[2, o] = v[o] + (unb - uno) * nr[o]
         # inlet: total pressure and temperature, flow along the inward normal, p from inside
         i = self.bkind == 0
         p0, T0 = self.inlet.total_pressure, self.inlet.total_temperature
@@ -465,16 +498,32 @@ def _area_function(mesh: FVMesh):
 
 
 def initial_state(mesh: FVMesh, gas: IdealGas, inlet: TotalInlet, p_out: float) -> np.ndarray:
-    """Quasi-1D isentropic state along x (local flow area from the mesh walls), axial velocity."""
+    """Quasi-1D isentropic state along x (local flow area from the mesh walls), axial velocity.
+
+    Choked without a shock, the state uses a sonic area INITIAL_SONIC_AREA times the minimum
+    area: quasi-1D flow is exactly sonic along a constant-area throat (a straight nozzle tip),
+    the singular point of the steady equations, and from there the solver had to move the
+    transition to the supersonic flow of the real two-dimensional throat (sonic line upstream
+    of the minimum section, discharge coefficient below one: Kliegel & Levine 1969) one cell
+    column per step (30 steps at 5.4k cells, 60 at 21.7k on the blow-off nozzle).
+    """
     g, R = gas.gamma, gas.gas_constant
     area = _area_function(mesh)
     x0, x1 = mesh.nodes[:, 0].min(), mesh.nodes[:, 0].max()
     xs = np.linspace(x0, x1, 801)
-    sol = q1d.quasi_one_dim(xs, area(xs), inlet.total_pressure, inlet.total_temperature, p_out, R, g)
+    A = area(xs)
+    p0, T0 = inlet.total_pressure, inlet.total_temperature
+    sol = q1d.quasi_one_dim(xs, A, p0, T0, p_out, R, g)
+    Ms, ps, Ts = sol.mach, sol.pressure, sol.temperature
+    if sol.regime != "subsonic" and sol.x_shock is None:
+        it = int(np.argmin(A))
+        down = np.arange(A.size) > it
+        Ms = q1d.mach_from_area_ratio(A / (INITIAL_SONIC_AREA * A[it]), g, supersonic=down)
+        ps, Ts = p0 * q1d.pressure_ratio(Ms, g), T0 * q1d.temperature_ratio(Ms, g)
     xc = mesh.cell_centroid[:, 0]
-    M = np.interp(xc, xs, sol.mach)
-    p = np.interp(xc, xs, sol.pressure)
-    T = np.interp(xc, xs, sol.temperature)
+    M = np.interp(xc, xs, Ms)
+    p = np.interp(xc, xs, ps)
+    T = np.interp(xc, xs, Ts)
     rho = p / (R * T)
     u = M * np.sqrt(g * R * T)
     return conservative(np.stack([rho, u, np.zeros_like(u), p]), g)
@@ -487,22 +536,32 @@ class _Linear:
     (SuperLU's incomplete LU, tried as a GMRES preconditioner, hit exactly singular factors on
     these matrices and needed 45-100 iterations where it worked: not offered.)"""
 
-    def __init__(self, rtol: float, reuse_iterations: int = 0):
-        self.rtol, self.reuse = rtol, reuse_iterations
+    def __init__(self, rtol: float, reuse_iterations: int = 0, refactor_iterations: int = 0):
+        self.rtol, self.reuse, self.refactor = rtol, reuse_iterations, refactor_iterations
         self.lu = None
+        self.prec = None
+        self.single = False
+        self.last_iterations = None  # GMRES iterations of the last Newton-Krylov solve
+        self.last_converged = False
         self.factorizations = 0
         self.gmres_iterations = 0
 
-    def _factor(self, Amat):
+    def _factor(self, Amat, single: bool = False):
         import scipy.sparse.linalg as spla
 
         self.factorizations += 1
         # the matrix comes in nested-dissection order: keep it, pivot on the diagonal when it
-        # is within a factor 100 of the column's largest entry (SuperLU's threshold pivoting)
-        self.lu = spla.splu(Amat, permc_spec="NATURAL", diag_pivot_thresh=0.01, options=dict(SymmetricMode=True))
+        # is within a factor 100 of the column's largest entry (SuperLU's threshold pivoting).
+        # As a preconditioner only, the factor is computed in single precision (0.6 against
+        # 0.9-1.0 s at 21.7k cells; GMRES corrects its 1e-4 relative error)
+        A = Amat.astype(np.float32) if single else Amat
+        lu = spla.splu(A, permc_spec="NATURAL", diag_pivot_thresh=0.01, options=dict(SymmetricMode=True))
+        self.lu = lu
+        self.prec = (lambda v: lu.solve(v.astype(np.float32)).astype(np.float64)) if single else lu.solve
+        self.single = single
 
     def solve(self, Amat: sp.csc_matrix, b: np.ndarray):
-        if self.lu is not None and self.reuse > 0:
+        if self.lu is not None and self.reuse > 0 and not self.single:
             x, n_it = _gmres_right(lambda v: Amat @ v, self.lu.solve, b, self.rtol, self.reuse)
             self.gmres_iterations += n_it
             r = float(np.linalg.norm(Amat @ x - b))
@@ -511,12 +570,21 @@ class _Linear:
         self._factor(Amat)
         return self.lu.solve(b), "superlu (nested dissection)"
 
-    def newton_krylov(self, Amat, b, prob, U, R, diag, iterations: int):
+    def needs_factor(self) -> bool:
+        """Newton-Krylov: factor the first-order matrix again? Not while the factor of an earlier
+        step still brought GMRES to the tolerance within ``refactor_iterations`` iterations."""
+        return (self.prec is None or self.refactor <= 0 or not self.last_converged
+                or self.last_iterations > self.refactor)
+
+    def newton_krylov(self, Amat, b, prob, U, R, diag, iterations: int, rtol: float | None = None):
         """GMRES on the Jacobian of the second-order residual, applied matrix-free by finite
         differences of the residual (limiter held at its value for U), preconditioned by the
         LU factor of the first-order Jacobian (Knoll & Keyes 2004, J. Comput. Phys. 193,
-        "Jacobian-free Newton-Krylov methods: a survey of approaches and applications")."""
-        self._factor(Amat)
+        "Jacobian-free Newton-Krylov methods: a survey of approaches and applications").
+        ``Amat`` None: reuse the factor of an earlier step."""
+        reused = Amat is None
+        if not reused:
+            self._factor(Amat, single=self.single_factor)
         C, sc, pos = prob.C, prob.cons_scale[:, None], prob.pos
         phi = prob.last_phi
         Un = U / sc
@@ -533,41 +601,57 @@ class _Linear:
             out[pos] = (((Rp - R) / eps + diag * dU) / sc).T
             return out.ravel()
 
-        x, n_it = _gmres_right(matvec, self.lu.solve, b, self.rtol, iterations)
+        tol = self.rtol if rtol is None else rtol
+        x, n_it, ok = _gmres_right(matvec, self.prec, b, tol, iterations, report=True)
         self.gmres_iterations += n_it
+        self.last_iterations, self.last_converged = n_it, ok
+        if not ok and not reused and self.single:
+            # a fresh single-precision factor that does not bring GMRES to the tolerance: the
+            # matrix is too ill-conditioned for it (low Mach numbers without the low-Mach fix);
+            # the later factors are computed in double precision
+            self.single_factor = False
+        self.reuses = getattr(self, "reuses", 0) + reused
         return x, "newton-krylov (gmres, first-order LU preconditioner)"
 
 
-def _gmres_right(matvec, prec, b: np.ndarray, rtol: float, m: int):
-    """Right-preconditioned GMRES(m), one cycle, modified Gram-Schmidt (Saad & Schultz 1986,
-    SIAM J. Sci. Stat. Comput. 7). Starts from x0 = prec(b). Returns x and the iterations used."""
+def _gmres_right(matvec, prec, b: np.ndarray, rtol: float, m: int, report: bool = False):
+    """Right-preconditioned GMRES(m), one cycle, classical Gram-Schmidt applied twice (as
+    accurate as modified Gram-Schmidt, in two matrix-vector products per iteration; Giraud,
+    Langou & Rozloznik 2005, Comput. Math. Appl. 50) (Saad & Schultz 1986, SIAM J. Sci. Stat.
+    Comput. 7). Starts from x0 = prec(b). Returns x and the iterations used (and whether the
+    tolerance was reached, with ``report``)."""
     x0 = prec(b)
     r = b - matvec(x0)
     beta = float(np.linalg.norm(r))
     bnorm = float(np.linalg.norm(b)) or 1.0
     if beta <= rtol * bnorm:
-        return x0, 0
+        return (x0, 0, True) if report else (x0, 0)
     V = np.empty((m + 1, b.size))
     Z = np.empty((m, b.size))
     H = np.zeros((m + 1, m))
     V[0] = r / beta
     k_used = 0
+    ok = False
     for k in range(m):
         Z[k] = prec(V[k])
         w = matvec(Z[k])
-        for j in range(k + 1):
-            H[j, k] = float(w @ V[j])
-            w -= H[j, k] * V[j]
+        h = V[: k + 1] @ w
+        w -= h @ V[: k + 1]
+        h2 = V[: k + 1] @ w
+        w -= h2 @ V[: k + 1]
+        H[: k + 1, k] = h + h2
         H[k + 1, k] = float(np.linalg.norm(w))
         k_used = k + 1
         e = np.zeros(k + 2)
         e[0] = beta
         y, *_ = np.linalg.lstsq(H[: k + 2, : k + 1], e, rcond=None)
         res = float(np.linalg.norm(H[: k + 2, : k + 1] @ y - e))
-        if res <= rtol * bnorm or H[k + 1, k] == 0.0:
+        ok = res <= rtol * bnorm
+        if ok or H[k + 1, k] == 0.0:
             break
         V[k + 1] = w / H[k + 1, k]
-    return x0 + y @ Z[:k_used], k_used
+    x = x0 + y @ Z[:k_used]
+    return (x, k_used, ok) if report else (x, k_used)
 
 
 def _wall_force(prob: _Problem, F: np.ndarray) -> float:
@@ -606,7 +690,8 @@ def solve_euler(mesh: FVMesh, gas: IdealGas, inlet: TotalInlet, outlet_pressure:
         U = initial_state(mesh, gas, inlet, outlet_pressure)
     else:
         U = np.array(init.U if isinstance(init, EulerResult) else init, float)
-    linear = _Linear(s.gmres_rtol, s.reuse_iterations)
+    linear = _Linear(s.gmres_rtol, s.reuse_iterations, s.refactor_iterations)
+    linear.single_factor = s.single_factor
     hist, cfls = [], []
     integ = []  # (mdot_in, mdot_out, wall force)
     t_jac = t_lin = t_res = 0.0
@@ -618,6 +703,8 @@ def solve_euler(mesh: FVMesh, gas: IdealGas, inlet: TotalInlet, outlet_pressure:
     second = s.second_order
     steady_count = 0
     step = 0
+    eta_prev = None
+    U_prev, rel_prev, cfl_prev, rejected = None, float("nan"), cfl, 0
     for step in range(1, s.max_steps + 1):
         t0 = time.perf_counter()
         R, F, _ = prob.residual(U, second, update_limiter=(frozen_at is None))
@@ -633,6 +720,16 @@ def solve_euler(mesh: FVMesh, gas: IdealGas, inlet: TotalInlet, outlet_pressure:
         cfls.append(cfl)
         if progress is not None:
             progress(step, rel, cfl)
+        # residual-based backtracking: a step that multiplied the residual by more than
+        # reject_growth (5) is undone, and retried from the previous state at a quarter of its CFL
+        # number with a fresh preconditioner (the rejected attempt counts as a step)
+        if (s.reject_growth > 0 and U_prev is not None and np.isfinite(rel_prev)
+                and rel > s.reject_growth * rel_prev):
+            U, cfl = U_prev, max(0.25 * cfl_prev, 0.1)
+            U_prev = None
+            linear.prec = None
+            rejected += 1
+            continue
         # integral quantities of the current state
         mf = F[0] * prob.A
         fin, fout = prob.groups["inlet"], prob.groups["outlet"]
@@ -651,20 +748,29 @@ def solve_euler(mesh: FVMesh, gas: IdealGas, inlet: TotalInlet, outlet_pressure:
                 converged, by = True, "integrals"
                 reason = f"mass flows and wall force steady to {s.integral_tol:g} over {s.integral_steps} steps"
                 break
-        stalled = len(hist) > 10 and min(hist[-5:]) > 0.5 * min(hist[:-5])
+        stalled = (s.freeze_on_stall and len(hist) > 10 and rel <= 10 ** (-s.freeze_stall_orders)
+                   and min(hist[-5:]) > 0.5 * min(hist[:-5]))
         if second and frozen_at is None and (rel <= 10 ** (-s.freeze_orders) or stalled):
             frozen_at = step
             prob.residual(U, second, update_limiter=False)  # stores the limiter of this state
         # implicit pseudo-time step
         t0 = time.perf_counter()
         diag = np.broadcast_to(prob.spectral(U) / cfl, (4, prob.C))  # V / dt with dt = CFL V / sum (|u.n| + c) A
-        J = prob.jacobian(U, diag)
+        nk = s.newton_krylov and second
+        J = prob.jacobian(U, diag) if (not nk or linear.needs_factor()) else None
         t_jac += time.perf_counter() - t0
         t0 = time.perf_counter()
         b = np.empty((prob.C, 4))
         b[prob.pos] = -(R / prob.cons_scale[:, None]).T
-        if s.newton_krylov and second:
-            x, lin_name = linear.newton_krylov(J, b.ravel(), prob, U, R, diag, s.krylov_iterations)
+        if nk:
+            eta = s.gmres_rtol
+            if len(hist) >= 2 and s.gmres_rtol_max > s.gmres_rtol:
+                eta = 0.9 * (hist[-1] / hist[-2]) ** 2
+                if eta_prev is not None and 0.9 * eta_prev**2 > 0.1:  # Eisenstat-Walker safeguard
+                    eta = max(eta, 0.9 * eta_prev**2)
+                eta = min(s.gmres_rtol_max, max(s.gmres_rtol, eta))
+            eta_prev = eta
+            x, lin_name = linear.newton_krylov(J, b.ravel(), prob, U, R, diag, s.krylov_iterations, eta)
         else:
             x, lin_name = linear.solve(J, b.ravel())
         t_lin += time.perf_counter() - t0
@@ -674,6 +780,7 @@ def solve_euler(mesh: FVMesh, gas: IdealGas, inlet: TotalInlet, outlet_pressure:
         Wn = primitive(U + dU, g)
         worst = max(float(np.max(np.abs(Wn[0] - W[0]) / W[0])), float(np.max(np.abs(Wn[3] - W[3]) / W[3])))
         alpha = 1.0 if (np.isfinite(worst) and worst <= s.max_update) else (s.max_update / worst if np.isfinite(worst) else 0.1)
+        U_prev, rel_prev, cfl_prev = U, rel, cfl
         U = U + alpha * dU
         Wn = primitive(U, g)
         if np.any(Wn[0] <= 0) or np.any(Wn[3] <= 0):
@@ -681,7 +788,12 @@ def solve_euler(mesh: FVMesh, gas: IdealGas, inlet: TotalInlet, outlet_pressure:
             cfl = max(cfl * 0.1, 0.1)
             continue
         # switched evolution relaxation (Mulder & van Leer 1985)
-        cfl = float(min(s.cfl_max, s.cfl0 * (1.0 / max(rel, 1e-300)) ** s.ser_exponent))
+        # switched evolution relaxation (Mulder & van Leer 1985), but after a step that had to be
+        # scaled down the CFL number is cut by sqrt(alpha): the SER value alone keeps a CFL number
+        # whose Newton steps are mostly thrown away (near a sonic front, where the steady
+        # Jacobian is nearly singular, alpha fell to 1e-2..1e-3 for 30 steps)
+        cfl_ser = float(min(s.cfl_max, s.cfl0 * (1.0 / max(rel, 1e-300)) ** s.ser_exponent))
+        cfl = cfl_ser if alpha >= 1.0 else min(cfl_ser, cfl * math.sqrt(max(alpha, s.cfl_cut_min)))
 
     R, F, (WLb, WG) = prob.residual(U, second, update_limiter=(frozen_at is None))
     W = primitive(U, g)
@@ -710,7 +822,9 @@ def solve_euler(mesh: FVMesh, gas: IdealGas, inlet: TotalInlet, outlet_pressure:
     record = SolveRecord(
         converged=converged, reason=reason, converged_by=by, steps=step, residual_history=tuple(hist),
         seconds=time.perf_counter() - t_start, seconds_jacobian=t_jac, seconds_linear=t_lin, seconds_residual=t_res,
-        linear_method=f"{lin_name}: {linear.factorizations} factorizations, {linear.gmres_iterations} GMRES iterations",
+        linear_method=(f"{lin_name}: {linear.factorizations} factorizations, {linear.gmres_iterations} GMRES iterations"
+                       + (f", factor reused in {linear.reuses} steps" if getattr(linear, "reuses", 0) else "")
+                       + (f", {rejected} steps rejected" if rejected else "")),
         cfl_history=tuple(cfls),
         mass_imbalance=(m_in - m_out) / m_in if m_in else float("nan"), limiter_frozen_at=frozen_at,
     )
