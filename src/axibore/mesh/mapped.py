@@ -10,6 +10,7 @@ convergence of wall values); meshing is linear in the cell count and fast.
 from __future__ import annotations
 
 import math
+from functools import lru_cache
 
 import numpy as np
 
@@ -50,9 +51,17 @@ def _point_at_x(seg: Segment, x: float) -> tuple[float, float]:
             if -1e-9 <= t <= 1 + 1e-9:
                 return (x, cr + R * math.sin(a))
         raise NotMappable(f"{seg.key}: no point of the arc at x = {x}")
-    p = seg.sample(64)
+    xs, rs = _spline_samples(seg)
+    return (x, float(np.interp(x, xs, rs)))
+
+
+@lru_cache(maxsize=64)
+def _spline_samples(seg: Segment) -> tuple[np.ndarray, np.ndarray]:
+    """Dense samples of a spline sorted by x, computed once per segment (about 4096 points)."""
+    per_span = int(min(64, max(2, 4096 // (len(seg.via) + 1))))
+    p = seg.sample(per_span)
     order = np.argsort(p[:, 0])
-    return (x, float(np.interp(x, p[order, 0], p[order, 1])))
+    return p[order, 0], p[order, 1]
 
 
 def _piece(seg: Segment, xa: float, xb: float) -> Segment:
