@@ -66,6 +66,8 @@ class ProcessExecutor:
 
 
 class DaskExecutor:
+    remote = True  # its workers may not share the client's filesystem
+
     def __init__(self, workers: int = 1, scheduler: str | None = None, timeout: float = 30.0):
         import logging
         from pathlib import Path
@@ -118,7 +120,7 @@ class DaskExecutor:
 def executor(workers: int = 1, scheduler: str | None = None, dask: bool = False):
     """SerialExecutor (one worker), ProcessExecutor (several), or DaskExecutor (``dask`` or a ``scheduler``)."""
     if scheduler or dask:
-        ex = DaskExecutor(workers, scheduler)
+        ex = DaskExecutor(max(workers, 1), scheduler)
     else:
         ex = SerialExecutor() if workers <= 1 else ProcessExecutor(workers)
     try:

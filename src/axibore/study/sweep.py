@@ -525,3 +525,25 @@ def write_html(result: SweepResult, out_dir: Path, pngs: list[Path]) -> Path:
         parts.append(f"<figure><img alt='{e(p.stem)}' src='{src}'><figcaption>{e(p.stem)}</figcaption></figure>")
     parts.append("</body></html>")
     return atomic_write_text(out_dir / "sweep.html", "\n".join(parts))
+
+
+def sweep(case_or_path=None, vary: dict | None = None, zip_: bool = False, workers: int | None = None,
+          scheduler: str | None = None, out=None, plot=None, keep_fields: bool = False, progress=None,
+          force: bool = False) -> SweepResult:
+    """The Python form of ``axibore sweep`` (see ``axibore.sweep``)."""
+    from ..case import demo_case_path, load_case
+    from ..io.files import check_output_dir
+    from .runner import executor
+
+    path = None if isinstance(case_or_path, Case) else Path(case_or_path or demo_case_path())
+    case = case_or_path if isinstance(case_or_path, Case) else load_case(path)
+    if vary is None:
+        vary, zip_ = sweep_from_case(case)
+    points = build_points(case, vary, zip_, source=case.source)
+    stem = path.stem if path is not None else "case"
+    out_dir = check_output_dir(Path(out) if out is not None else Path("runs") / f"{stem}-sweep", force)
+    workers = max(1, os.cpu_count() or 1) if workers is None else workers
+    plots = tuple(plot.split(",")) if isinstance(plot, str) else (tuple(plot) if plot else None)
+    with executor(max(workers, 1), scheduler=scheduler, dask=workers > 0) as ex:
+        return run_sweep(case, points, out_dir, ex, keep_fields=keep_fields, plots=plots, progress=progress,
+                         vary=vary, zip_=zip_)
