@@ -157,39 +157,49 @@ def test_two_sweeps_sharing_points(tmp_path):
 
 
 def test_concurrent_install_never_shows_half_a_directory(tmp_path):
-    """Writers racing on one point and a reader: the reader sees no directory or a complete one."""
-    from axibore.study.sweep import install_run
+    """Three writers racing on each of many points and a reader: the reader sees no directory or a
+    complete one, exactly one writer installs each point, and nothing temporary is left."""
+    from axibore.study.sweep import complete_summary, install_run
 
     text = "# case\n"
-    files = {"case.toml": text.encode(), **{f"f{i}.csv": b"x" * 20000 for i in range(20)}, "summary.json": b"{}"}
-    target = tmp_path / "pt"
-    stop, seen = threading.Event(), []
+    files = {"case.toml": text.encode(), **{f"f{i}.csv": b"x" * 20000 for i in range(20)},
+             "summary.json": b'{"software": {"name": "axibore"}}'}
+    rounds = 12
+    current = {"target": tmp_path / "pt0"}
+    stop, seen, installed = threading.Event(), [], []
 
     def reader():
         while not stop.is_set():
+            target = current["target"]
             if target.is_dir():
-                try:
-                    names = {p.name for p in target.iterdir()}
-                except FileNotFoundError:
-                    continue
-                seen.append(names == set(files) or not names)
-
-    def writer():
-        for _ in range(15):
-            install_run(target, files, text + "other\n")  # never complete for this text: replaced each time
+                seen.append({p.name for p in target.iterdir()} == set(files))
 
     t = threading.Thread(target=reader)
     t.start()
-    ws = [threading.Thread(target=writer) for _ in range(3)]
-    for w in ws:
-        w.start()
-    for w in ws:
-        w.join()
+    for k in range(rounds):
+        current["target"] = target = tmp_path / f"pt{k}"
+        barrier = threading.Barrier(3)
+
+        def writer():
+            barrier.wait()
+            installed.append(install_run(target, files, text))
+
+        ws = [threading.Thread(target=writer) for _ in range(3)]
+        for w in ws:
+            w.start()
+        for w in ws:
+            w.join()
+        assert complete_summary(target, text) is not None
     stop.set()
     t.join()
     assert seen and all(seen)
-    assert {p.name for p in target.iterdir()} == set(files)
+    assert sum(installed) == rounds  # one writer per point; the others found it complete and dropped theirs
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")]
+    # a stale directory (another case, half written) is replaced whole
+    stale = tmp_path / "stale"
+    stale.mkdir()
+    (stale / "case.toml").write_text("# another case\n")
+    assert install_run(stale, files, text) and {p.name for p in stale.iterdir()} == set(files)
 
 
 def test_compare_two_runs(tmp_path, capsys):
