@@ -2,10 +2,36 @@
 
 Heavy optional libraries (gmsh, pyvista, matplotlib, dask) are imported only by the leaf modules
 that use them, so importing the package is fast.
+
+Python API::
+
+    import axibore
+    res = axibore.run("cases/water_main_reducer.toml", mesh__level=1)   # RunResult; res.summary()
+    table = axibore.sweep("cases/water_main_reducer.toml", vary={"bore.half_angle": "10 deg:20 deg:3"},
+                          workers=2, out="runs/angles")                   # SweepResult; table.rows
+    case = axibore.load_case("cases/x.toml").with_updates({"inlet.pressure": "8 bar"})
 """
 
 __version__ = "0.1.0"
 
 from .case import Case, CaseError, load_case  # noqa: E402
+from . import run  # noqa: E402  (the module is callable: axibore.run(case_or_path, out=None, **updates))
 
-__all__ = ["Case", "CaseError", "load_case", "__version__"]
+
+def sweep(case_or_path=None, vary: dict | None = None, zip: bool = False, workers: int | None = None,  # noqa: A002
+          scheduler: str | None = None, out=None, plot=None, keep_fields: bool = False, progress=None, force: bool = False):
+    """Run a parameter sweep and return its table (``SweepResult``: ``.rows``, ``.failed``, ``.lines()``).
+
+    ``vary``: dotted key -> values as in a case file: a list, a comma list ``"20 mm,25 mm"`` or a range
+    ``"3 bar:12 bar:10"``; default the case's [sweep] table. ``zip``: pair the lists. ``workers``: Dask
+    worker processes of a local cluster on 127.0.0.1 (default: the CPU count; 0: in this process, no
+    Dask); ``scheduler``: an existing cluster (address or scheduler file). ``out``: the sweep folder
+    (default runs/<case name>-sweep); complete points in it are reused.
+    """
+    from .study.sweep import sweep as _sweep
+
+    return _sweep(case_or_path, vary=vary, zip_=zip, workers=workers, scheduler=scheduler, out=out, plot=plot,
+                  keep_fields=keep_fields, progress=progress, force=force)
+
+
+__all__ = ["Case", "CaseError", "load_case", "run", "sweep", "__version__"]

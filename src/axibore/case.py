@@ -309,6 +309,13 @@ class FlangeSpec(JointSpec):
     """The single joint of a simple case ([flange]); several joints go in [[joint]] tables."""
 
 
+class SweepSpec(_Section):
+    """A parameter sweep of the case (``axibore sweep``): dotted key -> values, as on the command line."""
+
+    vary: dict[str, Union[str, list[Union[Annotated[bool, Field(strict=True)], int, float, str]]]] = Field(default_factory=dict)
+    zip: Annotated[bool, Field(strict=True)] = False  # pair the lists (equal lengths) instead of their product
+
+
 class CaseModel(_Section):
     title: str = "untitled case"
     fluid: FluidSpec
@@ -320,6 +327,7 @@ class CaseModel(_Section):
     onedim: OneDimSpec = OneDimSpec()
     flange: FlangeSpec = FlangeSpec()
     joint: list[JointSpec] = Field(default_factory=list)
+    sweep: SweepSpec | None = None  # read by `axibore sweep`; not part of a run
 
 
 # ---------------------------------------------------------------------------------------------
@@ -697,6 +705,7 @@ def _unit_dump(model: BaseModel) -> dict:
 def resolved_dict(case: Case) -> dict:
     """The case as it ran, every key explicit, quantities with units; loads back to the same case."""
     data = _unit_dump(case.model)
+    data.pop("sweep", None)  # a run is one point: the sweep that made it is not part of it
     if data["bore"]["template"] == "points":
         data["bore"]["file"] = str(case.resolve_path(data["bore"]["file"]).resolve())
     if case.solver_kind is not None:

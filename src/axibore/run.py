@@ -128,3 +128,35 @@ def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, 
             res.seconds["report"] = time.perf_counter() - t
     progress("write", f"run directory {out_dir}")
     return res
+
+
+def run(case_or_path: "Case | str | Path | None" = None, out: str | Path | None = None, progress: Progress | None = None,
+        report: bool = True, max_cells: int | None = None, **updates) -> RunResult:
+    """The Python entry point: run a case and return its ``RunResult`` (``.summary()`` is summary.json).
+
+    ``case_or_path``: a ``Case``, a case-file path, or None for the built-in demo. ``updates``: dotted
+    case keys, as ``**{"mesh.level": 1}`` or with ``__`` for the dots (``mesh__level=1``); values as in a
+    case file (``bore__half_angle="12 deg"``). ``out``: also write the run directory there (refused, as on
+    the command line, when it is a file or a folder that is not an earlier run); None: in memory only.
+    Raises ``CaseError`` for bad input, ``RunRefused`` for what this version cannot run.
+    """
+    from .case import demo_case_path, load_case
+
+    case = case_or_path if isinstance(case_or_path, Case) else load_case(case_or_path or demo_case_path())
+    if updates:
+        case = case.with_updates({k.replace("__", "."): v for k, v in updates.items()})
+    if out is None:
+        return solve_case(case, progress, max_cells=max_cells)
+    from .io.files import check_output_dir
+
+    return run_case(case, check_output_dir(out), progress, report=report, max_cells=max_cells)
+
+
+class _CallableModule(__import__("types").ModuleType):
+    """``axibore.run`` is this module and the function ``run`` at once: ``axibore.run("case.toml")``."""
+
+    def __call__(self, *args, **kwargs) -> RunResult:
+        return run(*args, **kwargs)
+
+
+__import__("sys").modules[__name__].__class__ = _CallableModule

@@ -1,4 +1,4 @@
-"""Command line: ``axibore run | check | mesh | gridstudy | view | report | verify``.
+"""Command line: ``axibore run | check | mesh | gridstudy | sweep | compare | view | report | verify``.
 
 One module per command, each with ``HELP``, ``add_args(parser)`` and ``run(args) -> int``;
 ``main(argv) -> int`` wires them (exit 0 ok, 2 bad input, 1 failure or not converged).
@@ -15,7 +15,7 @@ from .. import __version__
 from ..case import CaseError
 from .common import err
 
-NAMES = ("run", "check", "mesh", "gridstudy", "view", "report", "verify")
+NAMES = ("run", "check", "mesh", "gridstudy", "sweep", "compare", "view", "report", "verify")
 COMMANDS = {name: import_module(f"{__name__}.{name}") for name in NAMES}
 
 

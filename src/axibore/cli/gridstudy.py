@@ -15,7 +15,10 @@ def add_args(p) -> None:
     p.add_argument("--levels", type=levels, default=[0, 1, 2, 3], help="mesh levels, e.g. 0,1,2,3 (default)")
     p.add_argument("--out", help="study directory (default: runs/<case name>-gridstudy)")
     p.add_argument("--force", action="store_true", help="replace an existing --out folder that is not an earlier study")
-    p.add_argument("--workers", type=int, default=1, help="levels run side by side in this many processes (default 1)")
+    p.add_argument("--workers", type=int, default=1, help="levels run side by side in this many processes (default 1; with --dask: Dask workers)")
+    p.add_argument("--dask", action="store_true", help="run the levels on a local dask.distributed cluster of --workers processes")
+    p.add_argument("--scheduler", default=None,
+                   help="run the levels on an existing dask.distributed cluster (address tcp://HOST:PORT or a scheduler file)")
     p.add_argument("--keep", choices=["fields"], action="append", default=[],
                    help="--keep fields: keep the field files (fields.vtu, mesh.msh, load surfaces) of every level, "
                         "not only of the finest")
@@ -41,7 +44,7 @@ def run(args) -> int:
         err(f"--out: {exc}")
         return 2
     out(f"axibore {__version__}: grid study of {case.title}, levels {','.join(map(str, args.levels))}")
-    with executor(args.workers) as ex:
+    with executor(args.workers, scheduler=args.scheduler, dask=args.dask) as ex:
         study = run_grid_study(case, args.levels, outdir, out, executor=ex, keep_fields="fields" in args.keep)
     out("")
     for line in table_lines(study):

@@ -85,7 +85,8 @@ def is_run_directory(path: Path) -> bool:
     import json
 
     for name, check in (("summary.json", lambda d: d.get("software", {}).get("name") == "axibore"),
-                        ("gridstudy.json", lambda d: "procedure" in d and "levels" in d)):
+                        ("gridstudy.json", lambda d: "procedure" in d and "levels" in d),
+                        ("sweep.json", lambda d: d.get("kind") == "axibore sweep")):
         f = path / name
         if f.is_file():
             try:

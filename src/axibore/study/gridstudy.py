@@ -141,12 +141,21 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
             progress(f"level {lv.level}: reused the complete run in {lv.run_dir.name} (same resolved case)")
         else:
             todo.append(lv)
-    jobs = [(cases[lv.level], lv.run_dir) for lv in todo]
+    remote = getattr(executor, "remote", False)  # workers that may not share this filesystem: files come back
+    if remote:
+        from .sweep import install_run, resolved_text, run_point
+
+        fn, jobs = run_point, [(cases[lv.level], True) for lv in todo]
+    else:
+        fn, jobs = run_level, [(cases[lv.level], lv.run_dir) for lv in todo]
     progress(f"{len(todo)} of {len(levels)} levels to run on {executor.workers} worker{'s' if executor.workers > 1 else ''}")
     t0 = time.perf_counter()
-    for k, (i, summary, error) in enumerate(executor.run(run_level, jobs), 1):
+    for k, (i, summary, error) in enumerate(executor.run(fn, jobs), 1):
         lv = todo[i]
         lv.seconds = time.perf_counter() - t0
+        if remote and error is None:
+            install_run(lv.run_dir, summary["files"], resolved_text(cases[lv.level]))
+            summary = json.loads(summary["files"]["summary.json"])
         if error is None:
             lv.summary = summary
             progress(f"[{k}/{len(todo)}] level {lv.level}: {summary['mesh']['cells']:,} cells, {lv.seconds:.1f} s")

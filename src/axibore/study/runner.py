@@ -5,6 +5,11 @@
 Gmsh or linear-algebra state is shared) for more. Both offer ``run(fn, items)``, which yields
 ``(index, result, error)`` as jobs finish; a failing job gives its error text and does not stop
 the others. ``fn`` and the items must be picklable for the process pool (module-level functions).
+
+``DaskExecutor`` runs the same jobs on dask.distributed: a LocalCluster of worker processes bound
+to 127.0.0.1 (dashboard off), or an existing cluster (``scheduler``: an address such as
+``tcp://10.0.0.5:8786`` or a scheduler file). A job whose worker dies is run again elsewhere by
+the scheduler; after repeated losses it fails with the others going on.
 """
 
 from __future__ import annotations
@@ -60,11 +65,66 @@ class ProcessExecutor:
         self._pool.shutdown(wait=True, cancel_futures=True)
 
 
+class DaskExecutor:
+    remote = True  # its workers may not share the client's filesystem
+
+    def __init__(self, workers: int = 1, scheduler: str | None = None, timeout: float = 30.0):
+        import logging
+        from pathlib import Path
+
+        from distributed import Client, LocalCluster
+
+        self.cluster = None
+        if scheduler:
+            if Path(scheduler).is_file():
+                self.client = Client(scheduler_file=str(scheduler), timeout=timeout)
+            else:
+                self.client = Client(scheduler, timeout=timeout)
+        else:
+            self.cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, host="127.0.0.1",
+                                        dashboard_address=None, silence_logs=logging.ERROR)
+            self.client = Client(self.cluster, timeout=timeout)
+        self.workers = len(self.client.scheduler_info().get("workers", {})) or workers
+
+    def run(self, fn: Callable, items: Iterable) -> Iterator[tuple[int, Any, JobError | None]]:
+        from functools import partial
+
+        from distributed import as_completed
+
+        items = list(items)
+        if not items:
+            return
+        futures = self.client.map(partial(_call, fn), items, pure=False)
+        index = {fut.key: i for i, fut in enumerate(futures)}
+        try:
+            for fut in as_completed(futures):
+                try:
+                    result, error = fut.result()
+                except Exception as exc:  # the job's workers died (KilledWorker) or it could not be sent
+                    result, error = None, JobError(f"{type(exc).__name__}: {exc}", traceback.format_exc())
+                fut.release()
+                yield index[fut.key], result, error
+        finally:
+            for fut in futures:
+                fut.cancel()
+
+    def close(self) -> None:
+        try:
+            self.client.close()
+        finally:
+            if self.cluster is not None:
+                self.cluster.close()
+
+
 @contextmanager
-def executor(workers: int = 1):
-    ex = SerialExecutor() if workers <= 1 else ProcessExecutor(workers)
+def executor(workers: int = 1, scheduler: str | None = None, dask: bool = False):
+    """SerialExecutor (one worker), ProcessExecutor (several), or DaskExecutor (``dask`` or a ``scheduler``)."""
+    if scheduler or dask:
+        ex = DaskExecutor(max(workers, 1), scheduler)
+    else:
+        ex = SerialExecutor() if workers <= 1 else ProcessExecutor(workers)
     try:
         yield ex
     finally:
-        if isinstance(ex, ProcessExecutor):
+        if isinstance(ex, (ProcessExecutor, DaskExecutor)):
             ex.close()

@@ -1,0 +1,41 @@
+"""axibore compare: headline numbers of run directories side by side, wall pressures overlaid."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from ..safety import caution_text
+from .common import err, out, run_dir
+
+HELP = "compare run directories: headline numbers side by side with differences, wall pressures overlaid"
+
+
+def add_args(p) -> None:
+    p.add_argument("runs", nargs="+", metavar="RUN_DIR", help="two or more run directories (differences against the first)")
+    p.add_argument("--out", help="folder to write compare.html and compare_wall_pressure.png into")
+
+
+def run(args) -> int:
+    from ..io.files import OutputError, check_output_dir
+    from ..study.compare import compare_runs, write_html
+
+    if len(args.runs) < 2:
+        err("compare: expected two or more run directories")
+        return 2
+    dirs = [run_dir(r) for r in args.runs]  # CaseError naming a directory that is not a run: exit 2
+    outdir = None
+    if args.out:
+        try:
+            outdir = check_output_dir(Path(args.out), force=(Path(args.out) / "compare.html").is_file())
+        except OutputError as exc:
+            err(f"--out: {exc}")
+            return 2
+    cmp = compare_runs(dirs)
+    for line in cmp.lines():
+        out(line)
+    out("")
+    out(caution_text())
+    if outdir is not None:
+        path = write_html(cmp, outdir)
+        out(f"wrote {path}")
+    return 0

@@ -1,0 +1,549 @@
+"""Parameter sweeps: one full run directory per point of a grid of case values, run on an executor.
+
+A sweep varies dotted case keys (``bore.half_angle``, ``inlet.pressure``, ``mesh.level`` ...) over
+lists of values written as in a case file. Several keys give their cartesian product, or with
+``zip`` their pairs. Every point is validated (``Case.with_updates``) before anything runs.
+
+Each point is a run directory in the sweep folder named by a short hash of its resolved case
+(the case.toml text), so a point is the same directory whichever sweep asks for it. A worker runs
+its point in a temporary directory of its own and sends the files back as bytes (the field files
+only when kept), so workers need not share the client's filesystem; the client writes each run
+directory under a temporary name and renames it whole. A complete run directory whose case.toml
+matches is reused, so a rerun after an interrupt does only what is missing.
+"""
+
+from __future__ import annotations
+
+import csv
+import hashlib
+import io
+import itertools
+import json
+import math
+import os
+import re
+import shutil
+import socket
+import tempfile
+import time
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Callable
+
+from ..case import Case, CaseError, case_from_dict
+from ..io.files import atomic_write_text, clean_stale_partials
+
+# headline outputs of a point: (column, summary section, key)
+OUTPUTS = (
+    ("forces.wall_x_N", "forces", "wall_x_N"),
+    ("forces.total_x_N", "forces", "total_x_N"),
+    ("forces.momentum_x_N", "forces", "momentum_x_N"),
+    ("forces.reconciliation_rel", "forces", "reconciliation_rel"),
+    ("flow.volume_flow_m3_s", "flow", "volume_flow_m3_s"),
+    ("flow.mass_flow_kg_s", "flow", "mass_flow_kg_s"),
+    ("flow.discharge_coefficient", "flow", "discharge_coefficient"),
+    ("flow.max_speed_m_s", "flow", "max_speed_m_s"),
+    ("pressure.min_wall_gauge_Pa", "pressure", "min_wall_gauge_Pa"),
+    ("pressure.inlet_gauge_Pa", "pressure", "inlet_gauge_Pa"),
+    ("mesh.cells", "mesh", "cells"),
+)
+OUTPUT_NAMES = tuple(name for name, _, _ in OUTPUTS)
+DEFAULT_PLOTS = ("forces.total_x_N", "flow.discharge_coefficient", "pressure.min_wall_gauge_Pa")
+# files of a run that only field plots, 3D views and structural models need (the bulk of a run)
+FIELD_FILES = ("fields.vtu", "mesh.msh", "wall_load.vtu", "centerbody_load.vtu", "wall_load_points.csv",
+               "centerbody_load_points.csv", "wall_load_points.csv.json", "centerbody_load_points.csv.json")
+HASH_CHARS = 12
+MAX_POINTS = 10_000
+
+_INT = re.compile(r"^[+-]?\d+$")
+_FLOAT = re.compile(r"^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$")
+_NUMBER_UNIT = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$")
+
+
+# ---------------------------------------------------------------------------------------------
+# values and points
+
+
+def _scalar(text: str) -> Any:
+    """A comma-list entry as a case file would hold it: integer, float, boolean or a string with units."""
+    t = text.strip()
+    if _INT.match(t):
+        return int(t)
+    if _FLOAT.match(t):
+        return float(t)
+    if t.lower() in ("true", "false"):
+        return t.lower() == "true"
+    return t
+
+
+def parse_values(key: str, given: Any, source: str = "--vary") -> list:
+    """Values of one varied key: a list (from a case file), a comma list ``"20 mm,25 mm"`` or a
+    linear range with a count ``"3 bar:12 bar:10"`` (units on the ends)."""
+    if isinstance(given, list):
+        if not given:
+            raise CaseError(source, [(key, "expected one or more values, got an empty list")])
+        return list(given)
+    if not isinstance(given, str):
+        return [given]
+    text = given.strip()
+    if not text:
+        raise CaseError(source, [(key, "expected values such as \"20 mm,25 mm\" or a range \"3 bar:12 bar:10\", got nothing")])
+    if ":" in text and "," not in text:
+        parts = [p.strip() for p in text.split(":")]
+        if len(parts) != 3 or not _INT.match(parts[2]):
+            raise CaseError(source, [(key, f"expected a range START:END:COUNT such as \"3 bar:12 bar:10\", got {given!r}")])
+        count = int(parts[2])
+        if not 1 <= count <= MAX_POINTS:
+            raise CaseError(source, [(key, f"expected a count from 1 to {MAX_POINTS} in {given!r}, got {count}")])
+        ends = [_NUMBER_UNIT.match(p) for p in parts[:2]]
+        if not all(ends):
+            raise CaseError(source, [(key, f"expected a number with an optional unit at both ends of {given!r}")])
+        (a, ua), (b, ub) = (m.groups() for m in ends)
+        if ua and ub and ua != ub:
+            raise CaseError(source, [(key, f"expected the same unit at both ends of the range {given!r} ({ua!r} and {ub!r})")])
+        unit = ua or ub
+        lo, hi = float(a), float(b)
+        vals = [lo] if count == 1 else [lo + (hi - lo) * i / (count - 1) for i in range(count)]
+        if not unit:
+            if _INT.match(a) and _INT.match(b) and all(float(v).is_integer() for v in vals):
+                return [int(round(v)) for v in vals]
+            return vals
+        return [f"{v:.12g} {unit}" for v in vals]
+    entries = [p.strip() for p in text.split(",")]
+    if any(not e for e in entries):
+        raise CaseError(source, [(key, f"expected comma-separated values, got {given!r} (an empty entry)")])
+    return [_scalar(e) for e in entries]
+
+
+def parse_vary(text: str) -> tuple[str, str]:
+    """``KEY=VALUES`` of the command line."""
+    key, sep, values = text.partition("=")
+    if not sep or not key.strip():
+        raise CaseError("--vary", [("", f"expected KEY=VALUES such as bore.half_angle=\"10 deg,15 deg\", got {text!r}")])
+    return key.strip(), values
+
+
+def point_grid(vary: dict[str, list], zip_: bool = False, source: str = "--vary") -> list[dict]:
+    """The points: the cartesian product of the value lists, or their pairs with ``zip_``."""
+    keys = list(vary)
+    if not keys:
+        raise CaseError(source, [("", "nothing to vary: give --vary KEY=VALUES (or a [sweep] vary table)")])
+    if zip_:
+        lengths = {k: len(v) for k, v in vary.items()}
+        if len(set(lengths.values())) > 1:
+            raise CaseError(source, [("zip", "expected lists of equal length to pair, got "
+                                             + ", ".join(f"{k}: {n}" for k, n in lengths.items()))])
+        combos = list(zip(*vary.values()))
+    else:
+        n = math.prod(len(v) for v in vary.values())
+        if n > MAX_POINTS:
+            raise CaseError(source, [("", f"the product has {n} points, more than {MAX_POINTS}")])
+        combos = list(itertools.product(*vary.values()))
+    return [dict(zip(keys, c)) for c in combos]
+
+
+def _si_value(case: Case, key: str) -> Any:
+    """The validated (SI) value of a dotted key of ``case``."""
+    node: Any = case.model
+    for part in key.split("."):
+        m = re.match(r"^(\w+)\[(\d+)\]$", part)
+        node = getattr(node, m.group(1))[int(m.group(2)) - 1] if m else getattr(node, part)
+    if isinstance(node, tuple) and len(node) == 2 and isinstance(node[0], str):  # flow_rate: (kind, value)
+        return node[1]
+    return node
+
+
+def resolved_text(case: Case) -> str:
+    """The case.toml a run of ``case`` writes: the identity of a point."""
+    import tomli_w
+
+    from ..case import resolved_dict
+    from ..io.rundir import CASE_HEADER
+
+    return CASE_HEADER + tomli_w.dumps(resolved_dict(case))
+
+
+def point_name(text: str) -> str:
+    return hashlib.sha256(text.encode("utf-8")).hexdigest()[:HASH_CHARS]
+
+
+@dataclass
+class Point:
+    index: int  # from 1
+    values: dict  # as given
+    case: Case
+    text: str  # resolved case.toml
+    name: str  # run directory name (hash of text)
+    si: dict = field(default_factory=dict)
+
+    def label(self) -> str:
+        return ", ".join(f"{k}={v}" for k, v in self.values.items())
+
+
+def without_sweep(case: Case) -> Case:
+    if "sweep" not in case.data:
+        return case
+    data = {k: v for k, v in case.data.items() if k != "sweep"}
+    return case_from_dict(data, source=case.source, base_dir=case.base_dir)
+
+
+def sweep_from_case(case: Case) -> tuple[dict, bool]:
+    """The vary table and zip flag of a case's [sweep] section ({} and False without one)."""
+    spec = case.model.sweep
+    return (dict(spec.vary), spec.zip) if spec is not None else ({}, False)
+
+
+def build_points(case: Case, vary: dict[str, Any], zip_: bool = False, source: str = "--vary") -> list[Point]:
+    """Every point validated before anything runs: CaseError naming each bad point and key."""
+    base = without_sweep(case)
+    lists = {key: parse_values(key, given, source) for key, given in vary.items()}
+    points, problems = [], []
+    for i, values in enumerate(point_grid(lists, zip_, source), 1):
+        where = f"point {i} ({', '.join(f'{k}={v}' for k, v in values.items())})"
+        try:
+            pcase = base.with_updates(values)
+        except CaseError as exc:
+            problems += [(f"{where}: {path}" if path else where, msg) for path, msg in exc.problems]
+            continue
+        refused = pcase.unsupported()
+        if refused:
+            problems.append((where, "cannot run: " + "; ".join(refused)))
+            continue
+        text = resolved_text(pcase)
+        points.append(Point(i, values, pcase, text, point_name(text), {k: _si_value(pcase, k) for k in values}))
+    if problems:
+        raise CaseError(case.source, problems)
+    return points
+
+
+# ---------------------------------------------------------------------------------------------
+# one point on a worker, and its run directory on the client
+
+
+def run_point(job: tuple) -> dict:
+    """Run one point in a temporary directory of this worker; return the run directory's files as
+    bytes (field files only with ``keep_fields``). A module-level function, sent to workers."""
+    from ..run import run_case
+
+    case, keep_fields = job
+    t0 = time.perf_counter()
+    with tempfile.TemporaryDirectory(prefix="axibore-point-") as tmp:
+        run_dir = Path(tmp) / "run"
+        run_case(case, run_dir, report=False)
+        files = {f.name: f.read_bytes() for f in sorted(run_dir.iterdir())
+                 if f.is_file() and (keep_fields or f.name not in FIELD_FILES)}
+    return {"files": files, "seconds": time.perf_counter() - t0, "host": socket.gethostname(), "pid": os.getpid()}
+
+
+def complete_summary(run_dir: Path, text: str) -> dict | None:
+    """The summary of a complete run directory of exactly this resolved case, else None."""
+    try:
+        if (run_dir / "case.toml").read_text(encoding="utf-8") != text:
+            return None
+        summary = json.loads((run_dir / "summary.json").read_text(encoding="utf-8"))
+    except (OSError, ValueError):
+        return None
+    return summary if isinstance(summary, dict) and summary.get("software", {}).get("name") == "axibore" else None
+
+
+def install_run(run_dir: Path, files: dict[str, bytes], text: str) -> bool:
+    """Write a run directory whole: files into a temporary directory beside it, then one rename.
+
+    If another sweep has meanwhile written the same point, its directory is kept and ours dropped
+    (False). A stale directory (another case, incomplete) is replaced."""
+    run_dir = Path(run_dir)
+    parent = run_dir.parent
+    parent.mkdir(parents=True, exist_ok=True)
+    tmp = Path(tempfile.mkdtemp(prefix=f".{run_dir.name}.pid-{os.getpid()}.", suffix=".partial", dir=parent))
+    try:
+        os.chmod(tmp, 0o755)
+        for name in sorted(files, key=lambda n: n == "summary.json"):  # the index last
+            if "/" in name or name.startswith("."):
+                continue
+            (tmp / name).write_bytes(files[name])
+        for _ in range(5):
+            if complete_summary(run_dir, text) is not None:
+                shutil.rmtree(tmp, ignore_errors=True)
+                return False
+            try:
+                os.rename(tmp, run_dir)  # fails if run_dir exists and is not empty
+                return True
+            except OSError:
+                pass
+            if complete_summary(run_dir, text) is not None:
+                continue
+            old = parent / f".{run_dir.name}.old-{os.getpid()}-{time.monotonic_ns()}"
+            try:
+                os.rename(run_dir, old)
+            except FileNotFoundError:
+                continue
+            shutil.rmtree(old, ignore_errors=True)
+        raise OSError(f"{run_dir}: could not be written (changed by another process meanwhile)")
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
+
+
+# ---------------------------------------------------------------------------------------------
+# the sweep
+
+
+@dataclass
+class SweepResult:
+    """The table of a sweep: one row (a dict) a point, in point order."""
+
+    title: str
+    keys: list[str]
+    rows: list[dict]
+    out_dir: Path | None = None
+    ran: int = 0
+    reused: int = 0
+    seconds: float = 0.0
+
+    @property
+    def failed(self) -> list[dict]:
+        return [r for r in self.rows if r["status"] != "ok"]
+
+    @property
+    def ok(self) -> bool:
+        return not self.failed
+
+    def columns(self) -> list[str]:
+        return list(self.rows[0]) if self.rows else []
+
+    def column(self, name: str) -> list:
+        return [r.get(name) for r in self.rows]
+
+    def lines(self, outputs: tuple[str, ...] = ("forces.wall_x_N", "forces.total_x_N", "flow.volume_flow_m3_s",
+                                                "flow.discharge_coefficient", "pressure.min_wall_gauge_Pa")) -> list[str]:
+        """The table as printed text."""
+        heads = ["#"] + self.keys + [o.split(".", 1)[1] for o in outputs] + ["status"]
+        body = []
+        for r in self.rows:
+            cells = [str(r["point"])] + [str(r[k]) for k in self.keys]
+            cells += ["-" if r.get(o) is None else f"{r[o]:.6g}" for o in outputs]
+            cells.append(r["status"] + (f": {r['error']}" if r.get("error") else ""))
+            body.append(cells)
+        widths = [max(len(h), *(len(c[i]) for c in body)) if body else len(h) for i, h in enumerate(heads[:-1])]
+        fmt = lambda cells: "  ".join(c.rjust(w) for c, w in zip(cells, widths)) + "  " + cells[-1]  # noqa: E731
+        return [fmt(heads)] + [fmt(c) for c in body]
+
+
+def _row(p: Point, summary: dict | None, status: str, error: str | None, run_dir: Path, seconds: float | None,
+         reused: bool) -> dict:
+    row: dict[str, Any] = {"point": p.index}
+    for k, v in p.values.items():
+        row[k] = v
+    for k, v in p.si.items():
+        row[f"{k} [SI]"] = v
+    for name, section, key in OUTPUTS:
+        row[name] = summary.get(section, {}).get(key) if summary else None
+    row["solver.converged"] = summary.get("solver", {}).get("converged") if summary else None
+    row["status"] = status
+    row["error"] = error
+    row["run_dir"] = run_dir.name
+    row["seconds"] = seconds
+    row["reused"] = reused
+    return row
+
+
+def _status(summary: dict) -> tuple[str, str | None]:
+    if not summary.get("solver", {}).get("converged"):
+        return "not-converged", "the solver did not converge"
+    return "ok", None
+
+
+def _fmt_time(s: float) -> str:
+    return f"{s:.0f} s" if s < 120 else f"{s / 60:.1f} min"
+
+
+def run_sweep(case: Case, points: list[Point], out_dir: Path, executor=None, keep_fields: bool = False,
+              plots: tuple[str, ...] | None = None, progress: Callable[[str], None] | None = None,
+              vary: dict | None = None, zip_: bool = False) -> SweepResult:
+    """Run the points not yet complete in ``out_dir`` on ``executor`` and write the results."""
+    from .runner import JobError, SerialExecutor
+
+    progress = progress or (lambda msg: None)
+    executor = executor or SerialExecutor()
+    out_dir = Path(out_dir)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    for d in clean_stale_partials(out_dir):
+        progress(f"removed {d.name}, left by an interrupted sweep")
+    keys = list(points[0].values) if points else []
+    rows: dict[int, dict] = {}
+    todo: dict[str, list[Point]] = {}  # run directory name -> the points that share it
+    reused = 0
+    for p in points:
+        summary = complete_summary(out_dir / p.name, p.text)
+        if summary is not None:
+            status, error = _status(summary)
+            rows[p.index] = _row(p, summary, status, error, out_dir / p.name, None, True)
+            reused += 1
+        else:
+            todo.setdefault(p.name, []).append(p)
+    if not (out_dir / "sweep.json").exists():  # marks the folder as a sweep before the first point exists
+        _write_json(out_dir, case, keys, [], "running", vary, zip_)
+    progress(f"{len(points)} points: {reused} complete already (reused), {len(todo)} to run on "
+             f"{executor.workers} worker{'s' if executor.workers != 1 else ''}")
+    names = list(todo)
+    jobs = [(todo[n][0].case, keep_fields) for n in names]
+    t0 = time.perf_counter()
+    done = failed = 0
+    for i, result, error in executor.run(run_point, jobs):
+        name = names[i]
+        group = todo[name]
+        err_file = out_dir / f"{name}.error.txt"
+        if error is None:
+            try:
+                install_run(out_dir / name, result["files"], group[0].text)
+                summary = complete_summary(out_dir / name, group[0].text)
+                if summary is None:
+                    raise OSError(f"{out_dir / name}: the run directory written is not complete")
+            except OSError as exc:
+                error = JobError(f"{type(exc).__name__}: {exc}", str(exc))
+        if error is None:
+            err_file.unlink(missing_ok=True)
+            status, why = _status(summary)
+            for p in group:
+                rows[p.index] = _row(p, summary, status, why, out_dir / name, result["seconds"], False)
+            done += 1
+        else:
+            atomic_write_text(err_file, f"{group[0].label()}\n{error.message}\n\n{error.traceback}")
+            for p in group:
+                rows[p.index] = _row(p, None, "failed", error.message, out_dir / name, None, False)
+            failed += 1
+        finished = done + failed
+        elapsed = time.perf_counter() - t0
+        left = len(names) - finished
+        eta = elapsed / finished * left
+        last = rows[group[0].index]
+        what = "FAILED: " + str(last["error"]) if last["status"] == "failed" else last["status"]
+        progress(f"[{finished}/{len(names)}] done {done}, failed {failed}, left {left}, "
+                 f"elapsed {_fmt_time(elapsed)}, about {_fmt_time(eta)} left | point {group[0].index} "
+                 f"({group[0].label()}): {what}")
+    result = SweepResult(case.title, keys, [rows[p.index] for p in points], out_dir, ran=done + failed, reused=reused,
+                         seconds=time.perf_counter() - t0)
+    write_results(result, case, out_dir, plots, vary, zip_)
+    return result
+
+
+def _write_json(out_dir: Path, case: Case, keys: list[str], rows: list[dict], status: str, vary, zip_) -> None:
+    from ..safety import CAUTIONS
+
+    data = {"kind": "axibore sweep", "schema": 1, "title": case.title, "case": case.source, "keys": keys,
+            "vary": {k: v for k, v in (vary or {}).items()}, "zip": zip_, "status": status,
+            "outputs": list(OUTPUT_NAMES), "points": rows, "cautions": list(CAUTIONS)}
+    atomic_write_text(out_dir / "sweep.json", json.dumps(data, indent=2, default=str) + "\n")
+
+
+def write_results(result: SweepResult, case: Case, out_dir: Path, plots: tuple[str, ...] | None = None,
+                  vary: dict | None = None, zip_: bool = False) -> None:
+    """sweep.csv, sweep.json, the plots (plot_<output>_vs_<key>.png) and sweep.html."""
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    cols = result.columns()
+    w.writerow(cols)
+    for r in result.rows:
+        w.writerow(["" if r[c] is None else (repr(r[c]) if isinstance(r[c], float) else r[c]) for c in cols])
+    atomic_write_text(out_dir / "sweep.csv", buf.getvalue())
+    _write_json(out_dir, case, result.keys, result.rows, "complete" if result.ok else "some points failed", vary, zip_)
+    pngs = plot_sweep(result, out_dir, plots or DEFAULT_PLOTS)
+    write_html(result, out_dir, pngs)
+
+
+def _numeric(v) -> bool:
+    return isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
+
+
+def plot_sweep(result: SweepResult, out_dir: Path, outputs: tuple[str, ...]) -> list[Path]:
+    """One PNG per varied key: the chosen outputs against it, a line for each value of the other keys."""
+    from ..view.plots import figure, save
+
+    for old in out_dir.glob("plot_*.png"):
+        old.unlink(missing_ok=True)
+    paths = []
+    rows = [r for r in result.rows if r["status"] == "ok"]
+    outputs = tuple(o for o in outputs if any(_numeric(r.get(o)) for r in rows))
+    if not rows or not outputs:
+        return paths
+    for key in result.keys:
+        xs_key = f"{key} [SI]"
+        if not all(_numeric(r[xs_key]) for r in rows) or len({r[xs_key] for r in rows}) < 2:
+            continue
+        others = [k for k in result.keys if k != key]
+        fig, axes = figure(6.4, 2.6 * len(outputs) + 0.6, dpi=110, nrows=len(outputs), squeeze=False)
+        for ax, o in zip(axes[:, 0], outputs):
+            groups: dict[tuple, list] = {}
+            for r in rows:
+                groups.setdefault(tuple(r[k] for k in others), []).append(r)
+            for g, members in groups.items():
+                pts = sorted((r[xs_key], r[o]) for r in members if _numeric(r.get(o)))
+                if not pts:
+                    continue
+                label = ", ".join(f"{k}={v}" for k, v in zip(others, g)) or None
+                ax.plot([p[0] for p in pts], [p[1] for p in pts], marker="o", label=label)
+            ax.set_ylabel(o, fontsize=8)
+            ax.grid(True, alpha=0.3)
+            if others and len(groups) <= 8:
+                ax.legend(fontsize=7)
+        axes[-1, 0].set_xlabel(f"{key} (SI)")
+        fig.suptitle(f"{result.title}: against {key}", fontsize=10)
+        fig.tight_layout()
+        paths.append(save(fig, out_dir / f"plot_vs_{key.replace('.', '_').replace('[', '_').replace(']', '')}.png"))
+    return paths
+
+
+def write_html(result: SweepResult, out_dir: Path, pngs: list[Path]) -> Path:
+    """sweep.html: the table and the plots (embedded), self-contained."""
+    import base64
+    import html
+
+    from ..safety import CAUTIONS
+    from ..view.report import CSS
+
+    e = html.escape
+    shown = ("forces.wall_x_N", "forces.total_x_N", "flow.volume_flow_m3_s", "flow.mass_flow_kg_s",
+             "flow.discharge_coefficient", "pressure.min_wall_gauge_Pa")
+    parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>axibore sweep: {e(result.title)}</title>",
+             f"<style>{CSS}</style></head><body><h1>Sweep: {e(result.title)}</h1>",
+             f"<p class='meta'>{len(result.rows)} points, {len(result.failed)} not ok; varied: {e(', '.join(result.keys))}</p>",
+             "<div class='caution'><strong>Caution.</strong> " + " ".join(e(c) for c in CAUTIONS) + "</div>",
+             "<h2>Points</h2><table><tr><th>#</th>" + "".join(f"<th>{e(k)}</th>" for k in result.keys)
+             + "".join(f"<th>{e(s)}</th>" for s in shown) + "<th>status</th><th>run directory</th></tr>"]
+    for r in result.rows:
+        cells = "".join(f"<td>{e(str(r[k]))}</td>" for k in result.keys)
+        cells += "".join(f"<td class='num'>{'-' if r.get(s) is None else f'{r[s]:.6g}'}</td>" for s in shown)
+        status = e(r["status"]) + (f": {e(str(r['error']))}" if r.get("error") else "")
+        cls = "" if r["status"] == "ok" else " class='warn'"
+        parts.append(f"<tr><td>{r['point']}</td>{cells}<td{cls}>{status}</td>"
+                     f"<td><a href='{e(r['run_dir'])}/summary.json'>{e(r['run_dir'])}</a></td></tr>")
+    parts.append("</table>")
+    if pngs:
+        parts.append("<h2>Plots</h2>")
+    for p in pngs:
+        src = "data:image/png;base64," + base64.b64encode(Path(p).read_bytes()).decode("ascii")
+        parts.append(f"<figure><img alt='{e(p.stem)}' src='{src}'><figcaption>{e(p.stem)}</figcaption></figure>")
+    parts.append("</body></html>")
+    return atomic_write_text(out_dir / "sweep.html", "\n".join(parts))
+
+
+def sweep(case_or_path=None, vary: dict | None = None, zip_: bool = False, workers: int | None = None,
+          scheduler: str | None = None, out=None, plot=None, keep_fields: bool = False, progress=None,
+          force: bool = False) -> SweepResult:
+    """The Python form of ``axibore sweep`` (see ``axibore.sweep``)."""
+    from ..case import demo_case_path, load_case
+    from ..io.files import check_output_dir
+    from .runner import executor
+
+    path = None if isinstance(case_or_path, Case) else Path(case_or_path or demo_case_path())
+    case = case_or_path if isinstance(case_or_path, Case) else load_case(path)
+    if vary is None:
+        vary, zip_ = sweep_from_case(case)
+    points = build_points(case, vary, zip_, source=case.source)
+    stem = path.stem if path is not None else "case"
+    out_dir = check_output_dir(Path(out) if out is not None else Path("runs") / f"{stem}-sweep", force)
+    workers = max(1, os.cpu_count() or 1) if workers is None else workers
+    plots = tuple(plot.split(",")) if isinstance(plot, str) else (tuple(plot) if plot else None)
+    with executor(max(workers, 1), scheduler=scheduler, dask=workers > 0) as ex:
+        return run_sweep(case, points, out_dir, ex, keep_fields=keep_fields, plots=plots, progress=progress,
+                         vary=vary, zip_=zip_)
