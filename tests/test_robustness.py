@@ -255,7 +255,7 @@ def test_killed_grid_study_resumes_without_rerunning_finished_levels(tmp_path):
     case = write(tmp_path, REDUCER.replace('[[joint]]', '[mesh]\nsize = 0.2\n\n[[joint]]', 1))
     out = tmp_path / "study"
     env = dict(os.environ, PYTHONUNBUFFERED="1")
-    cmd = [sys.executable, "-m", "axibore.cli", "gridstudy", str(case), "--levels", "0,1,3", "--out", str(out)]
+    cmd = [sys.executable, "-m", "axibore.cli", "gridstudy", str(case), "--levels", "0,1,6", "--out", str(out)]
     proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env)
     for line in proc.stdout:
         if line.startswith("[2/3]"):  # two levels done, the finest under way
@@ -263,10 +263,10 @@ def test_killed_grid_study_resumes_without_rerunning_finished_levels(tmp_path):
     proc.send_signal(signal.SIGTERM)
     proc.wait(timeout=60)
     assert (out / "level-0" / "summary.json").exists() and (out / "level-1" / "summary.json").exists()
-    assert not (out / "level-3").exists() and not list(out.glob(".*partial"))
+    assert not (out / "level-6").exists() and not list(out.glob(".*partial"))
     res = subprocess.run(cmd, capture_output=True, text=True, env=env)
     assert res.returncode == 0, res.stderr
-    assert "level 0: reused" in res.stdout and "level 1: reused" in res.stdout and "[1/1] level 3" in res.stdout
+    assert "level 0: reused" in res.stdout and "level 1: reused" in res.stdout and "[1/1] level 6" in res.stdout
     # a study with other levels removes the level it no longer has
     res = subprocess.run(cmd[:-4] + ["--levels", "0,1", "--out", str(out)], capture_output=True, text=True, env=env)
-    assert res.returncode == 0 and "removed level-3" in res.stdout and not (out / "level-3").exists()
+    assert res.returncode == 0 and "removed level-6" in res.stdout and not (out / "level-6").exists()

@@ -159,15 +159,32 @@ def clean_stale_partials(parent: Path) -> list[Path]:
 @contextmanager
 def atomic_dir(path: str | Path):
     """Yield a temporary directory beside ``path``; on success it replaces ``path`` whole."""
+    import signal
+
     path = Path(path)
     path.parent.mkdir(parents=True, exist_ok=True)
-    tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}.pid-{os.getpid()}.", suffix=".partial", dir=path.parent))
-    os.chmod(tmp, 0o755)
+    held = {signal.SIGINT, signal.SIGTERM, signal.SIGHUP}
+    try:  # no interrupt between making the folder and owning its removal
+        signal.pthread_sigmask(signal.SIG_BLOCK, held)
+    except (ValueError, OSError, AttributeError):
+        held = set()
+    tmp = None
     try:
+        tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}.pid-{os.getpid()}.", suffix=".partial", dir=path.parent))
+        os.chmod(tmp, 0o755)
+        if held:
+            signal.pthread_sigmask(signal.SIG_UNBLOCK, held)
+            held = set()
         yield tmp
     except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
+        # an interrupt may land before ``tmp`` is bound (a signal already pending when the mask was set):
+        # remove every temporary folder of this process for this path
+        for d in [tmp] if tmp is not None else path.parent.glob(f".{path.name}.pid-{os.getpid()}.*.partial"):
+            shutil.rmtree(d, ignore_errors=True)
         raise
+    finally:
+        if held:
+            signal.pthread_sigmask(signal.SIG_UNBLOCK, held)
     old = None
     if path.exists():
         old = path.with_name(f".{path.name}.old-{os.getpid()}")

@@ -70,8 +70,31 @@ def gmsh_session(name: str = "axibore"):
         except (ValueError, OSError):
             pass
     owned = not gmsh.isInitialized()
+    def restore():
+        for sig, handler in handlers.items():
+            if handler is not None:
+                try:
+                    signal.signal(sig, handler)
+                except (ValueError, OSError):  # not the main thread: nothing to restore from here
+                    pass
+
+    def guarded(call):
+        """Run a Gmsh call that resets the handlers with the signals held back, then put the handlers
+        back before a held signal is delivered (no window in which a SIGTERM kills without cleanup)."""
+        held = {signal.SIGTERM, signal.SIGHUP}
+        try:
+            signal.pthread_sigmask(signal.SIG_BLOCK, held)
+        except (ValueError, OSError, AttributeError):
+            held = set()
+        try:
+            call()
+            restore()
+        finally:
+            if held:
+                signal.pthread_sigmask(signal.SIG_UNBLOCK, held)
+
     if owned:
-        gmsh.initialize(readConfigFiles=False, interruptible=False)
+        guarded(lambda: gmsh.initialize(readConfigFiles=False, interruptible=False))
         previous, saved = None, {}
     else:
         previous = gmsh.model.getCurrent()
@@ -83,19 +106,14 @@ def gmsh_session(name: str = "axibore"):
         yield gmsh
     finally:
         if owned:
-            gmsh.finalize()
+            guarded(gmsh.finalize)
         else:
             gmsh.model.remove()
             for k, v in saved.items():
                 gmsh.option.setNumber(k, v)
             if previous:
                 gmsh.model.setCurrent(previous)
-        for sig, handler in handlers.items():
-            if handler is not None:
-                try:
-                    signal.signal(sig, handler)
-                except (ValueError, OSError):  # not the main thread: nothing to restore from here
-                    pass
+        restore()
 
 
 def generate(gmsh, groups: dict[str, list[int]], surfaces: list[int], msh_path: str | Path | None = None,
