@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import os
 from dataclasses import dataclass
+from functools import lru_cache
 
 BASE_BYTES = 2.0e8
 BYTES_PER_CELL = {"potential": 2.0e3, "euler": 3.5e4}
@@ -48,10 +49,16 @@ def memory_estimate(cells: int, solver: str | None) -> float:
     return BASE_BYTES + BYTES_PER_CELL.get(solver or "potential", BYTES_PER_CELL["euler"]) * cells
 
 
-def budget(case, max_cells: int | None = None) -> Budget:
+@lru_cache(maxsize=32)
+def _cells(case) -> tuple[int, str]:
+    """Cells of a case's mesh, once per case (a Case is immutable and hashed by identity)."""
     from .mesh.gmsh_build import expected_cells
 
-    n, how = expected_cells(case.profile, case.mesh.size, case.mesh.level, case.mesh.cells)
+    return expected_cells(case.profile, case.mesh.size, case.mesh.level, case.mesh.cells)
+
+
+def budget(case, max_cells: int | None = None) -> Budget:
+    n, how = _cells(case)
     avail = available_memory()
     per = BYTES_PER_CELL.get(case.solver_kind or "potential", BYTES_PER_CELL["euler"])
     limit = max_cells if max_cells is not None else int(max(0.0, MEMORY_FRACTION * avail - BASE_BYTES) / per)

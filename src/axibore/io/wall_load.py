@@ -67,19 +67,40 @@ def revolve(cols: dict[str, np.ndarray], segments: int = SEGMENTS, angle_deg: fl
 
 
 def merged(pts: np.ndarray, quads: np.ndarray, node_p: np.ndarray, full: bool):
-    """Merge the revolved points that coincide: the seam of a full revolution and points on the axis."""
+    """Merge the revolved points that coincide: a full revolution has no seam to merge (revolve
+    makes none), so only the points on the axis (r = 0, one per face end there) are merged."""
     n = len(pts)
-    key = np.round(pts / (1e-9 * max(1.0, np.abs(pts).max())), 0)
-    _, first, inverse = np.unique(key, axis=0, return_index=True, return_inverse=True)
-    inverse = inverse.ravel()
-    if first.size == n:
+    tol = 1e-9 * max(1.0, float(np.abs(pts).max()))
+    on_axis = np.flatnonzero(np.hypot(pts[:, 1], pts[:, 2]) <= tol)
+    if on_axis.size <= 1:
         return pts, quads, node_p
-    return pts[first], inverse[quads], node_p[first]
+    key = np.round(pts[on_axis, 0] / tol)
+    _, first, inverse = np.unique(key, return_index=True, return_inverse=True)
+    keep = np.ones(n, bool)
+    keep[on_axis] = False
+    keep[on_axis[first]] = True
+    target = np.arange(n)
+    target[on_axis] = on_axis[first][inverse.ravel()]
+    renumber = np.cumsum(keep) - 1
+    return pts[keep], renumber[target][quads], node_p[keep]
 
 
-def write_wall_load(run_dir: str | Path, tables: dict[str, dict[str, np.ndarray]], segments: int = SEGMENTS) -> list[Path]:
-    """Write <name>_load.vtu, <name>_load.csv and <name>_load_points.csv for each wall table
-    (columns as in wall.csv); ``segments`` around the axis."""
+def point_normals(pts: np.ndarray, cols: dict[str, np.ndarray]) -> np.ndarray:
+    """Unit normals out of the fluid (into the part) at revolved points: the meridional normal turned about x."""
+    t = np.arctan2(pts[:, 2], pts[:, 1])
+    nx = np.interp(pts[:, 0], cols["x_m"], cols["n_x"])
+    nr = np.interp(pts[:, 0], cols["x_m"], cols["n_r"])
+    normals = np.column_stack([nx, nr * np.cos(t), nr * np.sin(t)])
+    return normals / np.linalg.norm(normals, axis=1)[:, None]
+
+
+POINT_TABLE_SEGMENTS = 36  # around the axis in <name>_load_points.csv (10 deg apart; the .vtu has SEGMENTS)
+
+
+def write_wall_load(run_dir: str | Path, tables: dict[str, dict[str, np.ndarray]], segments: int = SEGMENTS,
+                    table_segments: int = POINT_TABLE_SEGMENTS) -> list[Path]:
+    """Write <name>_load.vtu (``segments`` around the axis), <name>_load.csv and
+    <name>_load_points.csv (``table_segments`` around the axis) for each wall table."""
     import meshio
 
     run_dir = Path(run_dir)
@@ -87,12 +108,7 @@ def write_wall_load(run_dir: str | Path, tables: dict[str, dict[str, np.ndarray]
     for name, cols in tables.items():
         pts, quads, node_p, cell_p = revolve(cols, segments)
         pts, quads, node_p = merged(pts, quads, node_p, True)
-        # unit normals out of the fluid (into the part) at the points: the meridional normal turned about the axis
-        t = np.arctan2(pts[:, 2], pts[:, 1])
-        nx = np.interp(pts[:, 0], cols["x_m"], cols["n_x"])
-        nr = np.interp(pts[:, 0], cols["x_m"], cols["n_r"])
-        normals = np.column_stack([nx, nr * np.cos(t), nr * np.sin(t)])
-        normals /= np.linalg.norm(normals, axis=1)[:, None]
+        normals = point_normals(pts, cols)
         m = meshio.Mesh(pts, [("quad", quads)], point_data={"p_gauge_Pa": node_p, "normal": normals},
                         cell_data={"p_gauge_Pa": [cell_p]})
         path = run_dir / f"{name}_load.vtu"
@@ -106,10 +122,14 @@ def write_wall_load(run_dir: str | Path, tables: dict[str, dict[str, np.ndarray]
                   f"axibore {name} load: gauge pressure at {name} face centres; n = unit normal out of the fluid (into the "
                   "part); the load on the part is p * n * ring_area (axisymmetric)")
         written.append(csv_path)
+        if table_segments != segments:
+            pts, quads, node_p, _ = revolve(cols, table_segments)
+            pts, quads, node_p = merged(pts, quads, node_p, True)
+            normals = point_normals(pts, cols)
         pts_path = run_dir / f"{name}_load_points.csv"
         write_csv(pts_path, {"x_m": pts[:, 0], "y_m": pts[:, 1], "z_m": pts[:, 2], "p_gauge_Pa": node_p,
                              "n_x": normals[:, 0], "n_y": normals[:, 1], "n_z": normals[:, 2]},
-                  f"axibore {name} load as points of the revolved surface ({segments} segments around the x axis): "
+                  f"axibore {name} load as points of the revolved surface ({table_segments} segments around the x axis): "
                   "gauge pressure and the unit normal out of the fluid (into the part) at each point, for structural "
                   "tools that read point loads")
         written.append(pts_path)

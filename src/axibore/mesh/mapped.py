@@ -56,6 +56,13 @@ def _point_at_x(seg: Segment, x: float) -> tuple[float, float]:
 
 
 @lru_cache(maxsize=64)
+def _piece_samples(seg: Segment) -> np.ndarray:
+    """Points of a spline for the via points of its pieces: 6 a span, at most about 2000 in all."""
+    pts = np.array([seg.start, *seg.via, seg.end])
+    return _catmull_rom(pts, int(max(1, min(6, 2000 // (len(pts) - 1)))))
+
+
+@lru_cache(maxsize=64)
 def _spline_samples(seg: Segment) -> tuple[np.ndarray, np.ndarray]:
     """Dense samples of a spline sorted by x, computed once per segment (about 4096 points)."""
     per_span = int(min(64, max(2, 4096 // (len(seg.via) + 1))))
@@ -72,8 +79,7 @@ def _piece(seg: Segment, xa: float, xb: float) -> Segment:
         return Segment(a, b, key=s.key)
     if s.kind == "arc":
         return Segment(a, b, "arc", s.radius, key=s.key)
-    pts = np.array([s.start, *s.via, s.end])
-    dense = _catmull_rom(pts, 6)
+    dense = _piece_samples(s)
     eps = GEOMETRY_TOL * abs(xb - xa)
     inside = dense[(dense[:, 0] > xa + eps) & (dense[:, 0] < xb - eps)]
     if len(inside) == 0:
