@@ -1,7 +1,7 @@
 """Sweep throughput on this machine: points per minute with 1 and 2 Dask workers (LocalCluster on
 127.0.0.1), and the scheduling overhead per point against the run time of a point.
 
-    .venv/bin/python scripts/bench_sweep.py [--points 8] [--level 1]
+    .venv/bin/python scripts/bench_sweep.py [--points 8] [--level 2]
 
 Overhead per point = (wall time of the sweep with one worker - sum of the point run times measured
 on the worker) / points: sending the case, returning the files, writing the run directory. The
@@ -43,7 +43,7 @@ def bench(workers: int, case, vary: dict) -> dict:
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--points", type=int, default=8)
-    ap.add_argument("--level", type=int, default=1)
+    ap.add_argument("--level", type=int, default=2)
     args = ap.parse_args()
     case = load_case(ROOT / "cases" / "water_main_reducer.toml").with_updates({"mesh.level": args.level})
     vary = {"bore.half_angle": f"8 deg:22 deg:{args.points}"}

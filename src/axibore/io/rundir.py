@@ -27,8 +27,9 @@ WALL_HEADER = (
 def cell_fields(mesh, flow) -> dict[str, np.ndarray]:
     """The cell data of fields.vtu from a FlowResult."""
     vel3 = np.column_stack([flow.velocity[0], flow.velocity[1], np.zeros(mesh.n_cells)])
-    out = {"velocity_m_s": vel3, "speed_m_s": flow.speed, "p_gauge_Pa": flow.pressure, "cp": flow.cp,
-           "density_kg_m3": flow.density}
+    out = {"velocity_m_s": vel3, "speed_m_s": flow.speed, "p_gauge_Pa": flow.pressure, "cp": flow.cp}
+    if flow.compressible:  # a liquid's density is one number (in summary.json)
+        out["density_kg_m3"] = flow.density
     if flow.temperature is not None:
         out["temperature_K"] = flow.temperature
     if flow.mach is not None:
