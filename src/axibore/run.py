@@ -66,7 +66,7 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
     refused = case.unsupported()
     if refused:
         raise RunRefused("; ".join(refused))
-    b = budget(case, max_cells)
+    b = budget(case, max_cells, precise=False)
     if not b.within:
         raise RunRefused(refusal(b))
     sec: dict[str, float] = {}

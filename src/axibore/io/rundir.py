@@ -17,6 +17,21 @@ from .files import atomic_write_text, write_csv, write_vtu
 from .summary import dumps
 
 CASE_HEADER = "# resolved case: the case as it ran, every key explicit (axibore run writes it; it loads as it is)\n"
+# files of a run that only the field plots, the 3D view and structural models need (the bulk of a run);
+# studies keep them for chosen runs only
+FIELD_FILES = ("fields.vtu", "mesh.msh", "wall_load.vtu", "centerbody_load.vtu", "wall_load_points.csv",
+               "centerbody_load_points.csv", "wall_load_points.csv.json", "centerbody_load_points.csv.json")
+
+
+def resolved_case_text(case) -> str:
+    """The case.toml a run of ``case`` writes: the identity of a run (grid-study levels, sweep points)."""
+    import tomli_w
+
+    from ..case import resolved_dict
+
+    return CASE_HEADER + tomli_w.dumps(resolved_dict(case))
+
+
 WALL_HEADER = (
     "axibore wall table: faces in order of arc length s from the inlet; p_gauge relative to ambient; "
     "n = unit normal out of the fluid; cumulative_force_x_N = axial force on the part from the inlet to this face; "
@@ -40,15 +55,12 @@ def cell_fields(mesh, flow) -> dict[str, np.ndarray]:
 
 def write_run(res, out: Path) -> None:
     """Write every file of a run; summary.json last, with the time the other files took."""
-    import tomli_w
-
-    from ..case import resolved_dict
     from ..post.stream import stream_function
     from .wall_load import write_wall_load
 
     t0 = time.perf_counter()
     out = Path(out)
-    atomic_write_text(out / "case.toml", CASE_HEADER + tomli_w.dumps(resolved_dict(res.case)))
+    atomic_write_text(out / "case.toml", resolved_case_text(res.case))
     mesh, flow = res.mesh, res.flow
     write_vtu(out / "fields.vtu", mesh, cell_fields(mesh, flow),
               {"stream_function_m3_s": stream_function(mesh, flow.face_mass_flux / flow.inlet_density)})

@@ -11,6 +11,7 @@ from pathlib import Path
 from typing import Callable
 
 from ..io.files import atomic_write_text, is_run_directory
+from ..io.rundir import FIELD_FILES
 from .gci import GCIResult, gci
 
 # (name, summary section, summary key)
@@ -85,17 +86,14 @@ def _corner_notes(name: str, summary: dict, result: GCIResult) -> list[str]:
 
 def _reusable(run_dir: Path, case) -> dict | None:
     """The summary of a complete earlier run of exactly this resolved case, else None."""
-    import tomli_w
-
-    from ..case import resolved_dict
-    from ..io.rundir import CASE_HEADER
+    from ..io.rundir import resolved_case_text
 
     try:
         written = (run_dir / "case.toml").read_text(encoding="utf-8")
         summary = json.loads((run_dir / "summary.json").read_text(encoding="utf-8"))
     except (OSError, ValueError):
         return None
-    if written != CASE_HEADER + tomli_w.dumps(resolved_dict(case)) or not summary.get("solver", {}).get("converged"):
+    if written != resolved_case_text(case) or not summary.get("solver", {}).get("converged"):
         return None
     return summary
 
@@ -107,10 +105,6 @@ def run_level(job: tuple) -> dict:
     case, run_dir = job
     return run_case(case, run_dir, report=False).summary()
 
-
-# files of a run that only the field plots, the 3D view and structural models need (the bulk of a run)
-FIELD_FILES = ("fields.vtu", "mesh.msh", "wall_load.vtu", "centerbody_load.vtu", "wall_load_points.csv",
-               "centerbody_load_points.csv", "wall_load_points.csv.json", "centerbody_load_points.csv.json")
 
 
 def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[str], None] | None = None,
@@ -143,7 +137,8 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
             todo.append(lv)
     remote = getattr(executor, "remote", False)  # workers that may not share this filesystem: files come back
     if remote:
-        from .sweep import install_run, resolved_text, run_point
+        from ..io.rundir import resolved_case_text
+        from .sweep import install_run, run_point
 
         fn, jobs = run_point, [(cases[lv.level], True) for lv in todo]
     else:
@@ -154,7 +149,7 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
         lv = todo[i]
         lv.seconds = time.perf_counter() - t0
         if remote and error is None:
-            install_run(lv.run_dir, summary["files"], resolved_text(cases[lv.level]))
+            install_run(lv.run_dir, summary["files"], resolved_case_text(cases[lv.level]))
             summary = json.loads(summary["files"]["summary.json"])
         if error is None:
             lv.summary = summary

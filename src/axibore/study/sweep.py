@@ -32,6 +32,7 @@ from typing import Any, Callable
 
 from ..case import Case, CaseError, case_from_dict
 from ..io.files import atomic_write_text, clean_stale_partials
+from ..io.rundir import FIELD_FILES, resolved_case_text
 
 # headline outputs of a point: (column, summary section, key)
 OUTPUTS = (
@@ -49,9 +50,6 @@ OUTPUTS = (
 )
 OUTPUT_NAMES = tuple(name for name, _, _ in OUTPUTS)
 DEFAULT_PLOTS = ("forces.total_x_N", "flow.discharge_coefficient", "pressure.min_wall_gauge_Pa")
-# files of a run that only field plots, 3D views and structural models need (the bulk of a run)
-FIELD_FILES = ("fields.vtu", "mesh.msh", "wall_load.vtu", "centerbody_load.vtu", "wall_load_points.csv",
-               "centerbody_load_points.csv", "wall_load_points.csv.json", "centerbody_load_points.csv.json")
 HASH_CHARS = 12
 MAX_POINTS = 10_000
 
@@ -153,16 +151,6 @@ def _si_value(case: Case, key: str) -> Any:
     return node
 
 
-def resolved_text(case: Case) -> str:
-    """The case.toml a run of ``case`` writes: the identity of a point."""
-    import tomli_w
-
-    from ..case import resolved_dict
-    from ..io.rundir import CASE_HEADER
-
-    return CASE_HEADER + tomli_w.dumps(resolved_dict(case))
-
-
 def point_name(text: str) -> str:
     return hashlib.sha256(text.encode("utf-8")).hexdigest()[:HASH_CHARS]
 
@@ -209,7 +197,7 @@ def build_points(case: Case, vary: dict[str, Any], zip_: bool = False, source: s
         if refused:
             problems.append((where, "cannot run: " + "; ".join(refused)))
             continue
-        text = resolved_text(pcase)
+        text = resolved_case_text(pcase)
         points.append(Point(i, values, pcase, text, point_name(text), {k: _si_value(pcase, k) for k in values}))
     if problems:
         raise CaseError(case.source, problems)
