@@ -443,6 +443,27 @@ def _numeric(v) -> bool:
     return isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
 
 
+# how an output is drawn: summary-key suffix -> (factor from SI, unit)
+_PLOT_UNITS = (("_x_N", 1e-3, "kN"), ("_Pa", 1e-5, "bar"), ("_m3_s", 6e4, "L/min"), ("_kg_s", 1.0, "kg/s"),
+               ("_m_s", 1.0, "m/s"))
+
+
+def _plot_unit(output: str) -> tuple[float, str]:
+    return next(((k, u) for suffix, k, u in _PLOT_UNITS if output.endswith(suffix)), (1.0, "-"))
+
+
+def _given_axis(rows: list[dict], key: str) -> tuple[list[float], str] | None:
+    """The values of ``key`` as the user gave them, when all are numbers in one unit ("8 deg", ...)."""
+    units, nums = set(), []
+    for r in rows:
+        m = _NUMBER_UNIT.match(str(r[key]))
+        if not m:
+            return None
+        nums.append(float(m.group(1)))
+        units.add(m.group(2))
+    return (nums, units.pop()) if len(units) == 1 else None
+
+
 def plot_sweep(result: SweepResult, out_dir: Path, outputs: tuple[str, ...]) -> list[Path]:
     """One PNG per varied key: the chosen outputs against it, a line for each value of the other keys."""
     from ..view.plots import figure, save
@@ -459,22 +480,27 @@ def plot_sweep(result: SweepResult, out_dir: Path, outputs: tuple[str, ...]) -> 
         if not all(_numeric(r[xs_key]) for r in rows) or len({r[xs_key] for r in rows}) < 2:
             continue
         others = [k for k in result.keys if k != key]
+        given = _given_axis(rows, key)
+        xval = {id(r): v for r, v in zip(rows, given[0])} if given else {id(r): r[xs_key] for r in rows}
         fig, axes = figure(6.4, 2.6 * len(outputs) + 0.6, dpi=110, nrows=len(outputs), squeeze=False)
         for ax, o in zip(axes[:, 0], outputs):
             groups: dict[tuple, list] = {}
             for r in rows:
                 groups.setdefault(tuple(r[k] for k in others), []).append(r)
             for g, members in groups.items():
-                pts = sorted((r[xs_key], r[o]) for r in members if _numeric(r.get(o)))
+                k_o = _plot_unit(o)[0]
+                pts = sorted((xval[id(r)], r[o] * k_o) for r in members if _numeric(r.get(o)))
                 if not pts:
                     continue
                 label = ", ".join(f"{k}={v}" for k, v in zip(others, g)) or None
                 ax.plot([p[0] for p in pts], [p[1] for p in pts], marker="o", label=label)
-            ax.set_ylabel(o, fontsize=8)
+            unit = _plot_unit(o)[1]
+            ax.set_ylabel(f"{o} [{unit}]", fontsize=8)
+            ax.ticklabel_format(axis="y", useOffset=False, style="plain")
             ax.grid(True, alpha=0.3)
             if others and len(groups) <= 8:
                 ax.legend(fontsize=7)
-        axes[-1, 0].set_xlabel(f"{key} (SI)")
+        axes[-1, 0].set_xlabel(f"{key} [{given[1]}]" if given and given[1] else f"{key} (SI)")
         fig.suptitle(f"{result.title}: against {key}", fontsize=10)
         fig.tight_layout()
         paths.append(save(fig, out_dir / f"plot_vs_{key.replace('.', '_').replace('[', '_').replace(']', '')}.png"))
