@@ -56,6 +56,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from ..mesh import FVMesh
+from ..numerics.gradients import least_squares_gradient
 from . import onedim_gas as q1d
 
 WALL_KINDS = ("wall", "centerbody", "axis")
@@ -245,17 +246,11 @@ class _Problem:
         self.dP = (xf[self.fi] - xc[self.P]).T  # (2, nfi)
         self.dN = (xf[self.fi] - xc[self.N]).T
         self.db = (xf[self.fb] - xc[self.Pb]).T
-        # least-squares gradient: neighbours through interior faces, boundary face centres
-        d = (xc[self.N] - xc[self.P]).T
-        w = 1.0 / (d[0] ** 2 + d[1] ** 2)
-        wb = 1.0 / (self.db[0] ** 2 + self.db[1] ** 2)
-        self.d, self.w, self.wb = d, w, wb
-        M = np.zeros((3, C))
-        for k, (a, b) in enumerate(((0, 0), (0, 1), (1, 1))):
-            M[k] = (np.bincount(self.P, w * d[a] * d[b], C) + np.bincount(self.N, w * d[a] * d[b], C)
-                    + np.bincount(self.Pb, wb * self.db[a] * self.db[b], C))
-        det = M[0] * M[2] - M[1] ** 2
-        self.Minv = np.stack([M[2], -M[1], M[0]]) / det  # (xx, xr, rr) of the inverse
+        # least-squares gradient (numerics.gradients): neighbours through interior faces, every boundary
+        # face centre as a neighbour carrying the ghost-side face value
+        grad_op = least_squares_gradient(mesh)
+        self.G = grad_op.G
+        self.Gb = tuple(B[:, self.fb].tocsr() for B in grad_op.B)  # (C, boundary faces in fb order)
         # limiter epsilon: (K h / L)^3 in variables scaled by the inlet total state
         p0, T0 = inlet.total_pressure, inlet.total_temperature
         rho0 = p0 / (gas.gas_constant * T0)
@@ -317,17 +312,9 @@ class _Problem:
     # ---- reconstruction ---------------------------------------------------------------------
     def gradients(self, W: np.ndarray, Wb: np.ndarray) -> np.ndarray:
         """(4, 2, C) least-squares gradients; Wb: values at the boundary face centres."""
-        C = self.C
-        dW = W[:, self.N] - W[:, self.P]
-        dWb = Wb - W[:, self.Pb]
-        out = np.empty((4, 2, C))
-        for k in range(4):
-            bx = (np.bincount(self.P, self.w * self.d[0] * dW[k], C) + np.bincount(self.N, self.w * self.d[0] * dW[k], C)
-                  + np.bincount(self.Pb, self.wb * self.db[0] * dWb[k], C))
-            br = (np.bincount(self.P, self.w * self.d[1] * dW[k], C) + np.bincount(self.N, self.w * self.d[1] * dW[k], C)
-                  + np.bincount(self.Pb, self.wb * self.db[1] * dWb[k], C))
-            out[k, 0] = self.Minv[0] * bx + self.Minv[1] * br
-            out[k, 1] = self.Minv[1] * bx + self.Minv[2] * br
+        out = np.empty((4, 2, self.C))
+        for k in range(2):
+            out[:, k] = (self.G[k] @ W.T + self.Gb[k] @ Wb.T).T
         return out
 
     def limiter(self, W: np.ndarray, Wb: np.ndarray, grad: np.ndarray) -> np.ndarray:
