@@ -169,6 +169,7 @@ class CenterbodySpec(_Section):
 
 class ConicalBore(_Section):
     template: Literal["conical"]
+    symmetry: Literal["axisymmetric", "planar"] = "axisymmetric"  # planar: a slot or gate, per unit depth
     inlet_diameter: PosLength
     exit_diameter: PosLength
     half_angle: HalfAngle
@@ -180,6 +181,7 @@ class ConicalBore(_Section):
 
 class ContouredBore(_Section):
     template: Literal["contoured"]
+    symmetry: Literal["axisymmetric", "planar"] = "axisymmetric"  # planar: a slot or gate, per unit depth
     inlet_diameter: PosLength
     exit_diameter: PosLength
     contraction_length: PosLength
@@ -190,6 +192,7 @@ class ContouredBore(_Section):
 
 class ReducerBore(_Section):
     template: Literal["reducer"]
+    symmetry: Literal["axisymmetric", "planar"] = "axisymmetric"  # planar: a slot or gate, per unit depth
     inlet_diameter: PosLength
     outlet_diameter: PosLength
     half_angle: HalfAngle
@@ -201,6 +204,7 @@ class ReducerBore(_Section):
 
 class SpearBore(_Section):
     template: Literal["spear"]
+    symmetry: Literal["axisymmetric", "planar"] = "axisymmetric"  # planar: a slot or gate, per unit depth
     inlet_diameter: PosLength
     orifice_diameter: PosLength
     half_angle: HalfAngle
@@ -214,6 +218,7 @@ class SpearBore(_Section):
 
 class SegmentsBore(_Section):
     template: Literal["segments"]
+    symmetry: Literal["axisymmetric", "planar"] = "axisymmetric"  # planar: a slot or gate, per unit depth
     start: Point
     segment: list[SegmentSpec] = Field(min_length=1)
     centerbody: CenterbodySpec | None = None
@@ -221,6 +226,7 @@ class SegmentsBore(_Section):
 
 class PointsBore(_Section):
     template: Literal["points"]
+    symmetry: Literal["axisymmetric", "planar"] = "axisymmetric"  # planar: a slot or gate, per unit depth
     file: str
     smooth: Annotated[bool, Field(strict=True)] = False
     unit: Literal["m", "mm", "cm", "in"] | None = None  # of the file's x and r (else from its header, else metres)
@@ -407,8 +413,11 @@ class Case:
         if self.solver_kind is None:
             out.append(f'fluid.kind = "{self.fluid.kind}": no solver for {"liquids" if self.fluid.is_liquid else "gases"} '
                        "in this version (the compressible solver is not available yet)")
-        if self.outlet.kind == "free-jet":
-            out.append('outlet.kind = "free-jet": the free-jet boundary is not available yet')
+        if self.outlet.kind == "free-jet" and not self.fluid.is_liquid:
+            out.append('outlet.kind = "free-jet" with a gas: the free-jet boundary is solved for liquids only '
+                       '(a gas discharging to the surroundings takes "exit-plane")')
+        if self.profile.planar and self.solver_kind == "euler":
+            out.append('bore.symmetry = "planar" with the compressible solver: planar sections are solved for liquids only')
         return out
 
 
@@ -608,7 +617,7 @@ def case_from_dict(data: dict, source: str = "<memory>", base_dir: Path | None =
     solver_kind = m.solver.kind or default_for("liquid" if fluid.is_liquid else "gas")
     # the bore must be a valid profile: built once here, so `check` reports it with the rest
     try:
-        profile = build_profile(m.bore, base_dir or Path.cwd())
+        profile = build_profile(m.bore, base_dir or Path.cwd(), free_jet=m.outlet.kind == "free-jet")
     except ProfileError as exc:
         raise CaseError(source, [(exc.key, exc.message)]) from None
     problems = _joint_checks(m, profile)

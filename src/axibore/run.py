@@ -45,6 +45,7 @@ class RunResult:
     mesh_quality: dict = field(default_factory=dict)
     joints: list[JointLoad] = field(default_factory=list)
     jet_reaction_N: float | None = None
+    jet: "object | None" = None  # solvers.freejet.JetSolution of a free-jet outlet
 
     def summary(self) -> dict:
         from .io.summary import build_summary
@@ -71,16 +72,33 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
         raise RunRefused(refusal(b))
     sec: dict[str, float] = {}
     profile = case.profile
-    t = time.perf_counter()
-    progress("mesh", f"meshing ({case.mesh.cells}, level {case.mesh.level})")
-    build = mesh_profile(profile, case.mesh.size, case.mesh.level, case.mesh.cells, msh_path=msh_path)
-    mesh = build.mesh
-    sec["mesh"] = time.perf_counter() - t
-    progress("mesh", f"{mesh.n_cells:,} cells, {build.method}, {sec['mesh']:.2f} s")
-    t = time.perf_counter()
-    solver = SOLVERS[case.solver_kind].load()
-    flow = solver(case, profile, mesh, progress)
-    sec["solve"] = time.perf_counter() - t
+    jet = None
+    if case.outlet.kind == "free-jet":
+        from .solvers.freejet import solve_free_jet
+
+        def mesher(prof, h, path=None):
+            return mesh_profile(prof, case.mesh.size, case.mesh.level, case.mesh.cells, msh_path=path, h=h)
+
+        t = time.perf_counter()
+        progress("solve", "free jet: moving the jet boundary until it is a free streamline (remeshing as it moves)")
+        jet, profile, build, flow = solve_free_jet(case, profile, mesher, progress, msh_path=msh_path)
+        mesh = build.mesh
+        sec["mesh"] = sum(b for b in jet.mesh_seconds)
+        sec["solve"] = time.perf_counter() - t - sec["mesh"]
+        progress("solve", f"free jet settled in {len(jet.history)} iterations: contraction coefficient "
+                 f"{jet.contraction_coefficient:.4f}, speed on the jet boundary within {jet.speed_mismatch:.2%} of the jet "
+                 f"speed (rms {jet.speed_mismatch_rms:.2%}); {mesh.n_cells:,} cells, {build.method}")
+    else:
+        t = time.perf_counter()
+        progress("mesh", f"meshing ({case.mesh.cells}, level {case.mesh.level})")
+        build = mesh_profile(profile, case.mesh.size, case.mesh.level, case.mesh.cells, msh_path=msh_path)
+        mesh = build.mesh
+        sec["mesh"] = time.perf_counter() - t
+        progress("mesh", f"{mesh.n_cells:,} cells, {build.method}, {sec['mesh']:.2f} s")
+        t = time.perf_counter()
+        solver = SOLVERS[case.solver_kind].load()
+        flow = solver(case, profile, mesh, progress)
+        sec["solve"] = time.perf_counter() - t
     if not (np.all(np.isfinite(flow.pressure)) and np.all(np.isfinite(flow.velocity)) and np.isfinite(flow.mass_flow)):
         from .solvers.base import FlowError
 
@@ -101,7 +119,7 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
     chk = checks(case, profile, flow, tables, frc, od)
     quality = mesh.quality()
     sec["post"] = time.perf_counter() - t
-    return RunResult(case, profile, mesh, build, flow, tables, frc, od, chk, sec, quality, joints, jet_reaction(case, flow))
+    return RunResult(case, profile, mesh, build, flow, tables, frc, od, chk, sec, quality, joints, jet_reaction(case, flow), jet)
 
 
 def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, report: bool = True,

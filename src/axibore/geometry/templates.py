@@ -14,7 +14,7 @@ from pathlib import Path
 import numpy as np
 
 from .profile import GEOMETRY_TOL, Profile, ProfileError, Segment
-from .validate import validate
+from .validate import validate, validate_free_jet
 
 # Contraction curve of the "contoured" template: the fifth-order polynomial
 #   r(xi) = R_in - (R_in - R_ex) (10 xi^3 - 15 xi^4 + 6 xi^5),  xi = (x - x0) / L,
@@ -197,8 +197,10 @@ def _read_points(path: Path, key: str, unit: str | None = None) -> np.ndarray:
     return pts
 
 
-def build_profile(bore, base_dir: Path | None = None) -> Profile:
-    """The validated meridional profile of a bore section (``base_dir``: where a points file is looked for)."""
+def build_profile(bore, base_dir: Path | None = None, free_jet: bool = False) -> Profile:
+    """The validated meridional profile of a bore section (``base_dir``: where a points file is looked for).
+
+    ``free_jet``: the wall ends at a lip from which a free jet leaves (a centre body may reach past it)."""
     b = bore
     t = b.template
     cb_chain: list[Segment] = []
@@ -261,7 +263,7 @@ def build_profile(bore, base_dir: Path | None = None) -> Profile:
                   Segment((x_base, rn), (x_tip, 0.0), key="bore.needle_half_angle")]
         if x_base <= 0:
             needle = needle[1:]
-        cb_chain = _clip_x(needle, 0.0, x_out)
+        cb_chain = _clip_x(needle, 0.0, math.inf if free_jet else x_out)
         gap = _gap(wall, cb_chain)
         if gap <= 1e-6 * ri:
             raise ProfileError("bore.stroke", "the needle touches the nozzle: the stroke must open a gap (at stroke 0 the needle seats on the orifice edge)")
@@ -286,7 +288,10 @@ def build_profile(bore, base_dir: Path | None = None) -> Profile:
     scale = max(abs(x_out - x_in), max(max(s.start[1], s.end[1]) for s in wall))
     if cb_chain:
         cb_chain = _orient_centerbody(cb_chain, x_in, x_out, GEOMETRY_TOL * scale)
-    profile = Profile(tuple(wall), tuple(cb_chain), name=t, notes=tuple(notes))
+    planar = getattr(b, "symmetry", "axisymmetric") == "planar"
+    profile = Profile(tuple(wall), tuple(cb_chain), name=t, notes=tuple(notes), planar=planar)
+    if free_jet:
+        return validate_free_jet(profile)
     return validate(profile)
 
 

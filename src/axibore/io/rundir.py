@@ -73,11 +73,31 @@ def write_run(res, out: Path) -> None:
         write_csv(out / f"{name}.csv", cols, WALL_HEADER)
         tables[name] = cols
     write_wall_load(out, tables)
+    if res.jet is not None:
+        write_jet_table(res, out)
     hist = np.asarray(flow.record.residual_history, float)
     write_csv(out / "solver_history.csv", {"iteration": np.arange(1, hist.size + 1), "residual": hist},
               f"axibore {flow.record.solver} solve: residual after each iteration ({flow.record.method}); {flow.record.criterion}")
     res.seconds["write"] = time.perf_counter() - t0
     atomic_write_text(out / "summary.json", dumps(res.summary()))
+
+
+JET_HEADER = ("axibore free-jet boundary: faces of the settled jet boundary from the lip downstream; "
+              "p_gauge_Pa should be 0 (ambient) and speed_mismatch = speed / jet speed - 1 should be 0 on a free streamline")
+
+
+def write_jet_table(res, out: Path) -> None:
+    """jet.csv: the jet boundary faces with their pressure and the remaining speed mismatch."""
+    import math
+
+    from ..names import Boundary
+    from ..post.loads import wall_table
+
+    t = wall_table(res.flow, res.profile, Boundary.JET)
+    V = math.sqrt(2.0 * max(res.flow.total_pressure, 0.0) / res.flow.inlet_density)
+    cols = {"x_m": t.x, "r_m": t.r, "s_m": t.s, "p_gauge_Pa": t.pressure, "speed_m_s": t.speed,
+            "speed_mismatch": t.speed / V - 1.0, "n_x": t.nx, "n_r": t.nr, "face_length_m": t.length}
+    write_csv(out / "jet.csv", cols, JET_HEADER)
 
 
 def write_report(run_dir: Path, shown_dir: Path | None = None, unit: str = "bar") -> str | None:

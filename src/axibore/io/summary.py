@@ -30,6 +30,12 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("solver", "method", lambda r: r.flow.record.method),
     ("solver", "fallback", lambda r: r.flow.record.fallback),
     ("solver", "settings", lambda r: r.flow.record.settings),
+    ("solver", "free_jet_iterations", lambda r: len(r.jet.history) if r.jet else None),
+    ("solver", "free_jet_settled", lambda r: r.jet.settled if r.jet else None),
+    ("solver", "free_jet_speed_mismatch_max", lambda r: r.jet.speed_mismatch if r.jet else None),
+    ("solver", "free_jet_speed_mismatch_rms", lambda r: r.jet.speed_mismatch_rms if r.jet else None),
+    ("solver", "free_jet_last_move_lip_radii", lambda r: r.jet.history[-1].movement if r.jet else None),
+    ("solver", "free_jet_rule", lambda r: FREE_JET_RULE if r.jet else None),
     # mesh
     ("mesh", "cells", lambda r: r.mesh.n_cells),
     ("mesh", "level", lambda r: r.mesh_build.level),
@@ -47,6 +53,10 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("flow", "max_speed_m_s", lambda r: r.flow.max_speed),
     ("flow", "discharge_coefficient", lambda r: r.onedim.discharge_coefficient),
     ("flow", "discharge_coefficient_note", lambda r: r.onedim.discharge_coefficient_note),
+    ("flow", "contraction_coefficient", lambda r: r.jet.contraction_coefficient if r.jet else None),
+    ("flow", "jet_radius_m", lambda r: r.jet.jet_radius if r.jet else None),
+    ("flow", "vena_contracta_x_m", lambda r: r.jet.vena_contracta_x() if r.jet else None),
+    ("flow", "exit_area_m2", lambda r: r.jet.exit_area if r.jet else None),
     ("flow", "density_kg_m3", lambda r: r.flow.inlet_density),
     ("flow", "total_pressure_gauge_Pa", lambda r: r.flow.total_pressure),
     ("flow", "compressible", lambda r: r.flow.compressible),
@@ -95,12 +105,19 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("onedim", "meaningful", lambda r: r.onedim.meaningful),
 ]
 
+FREE_JET_RULE = ("trial free boundary: phi = s (jet speed) imposed on the trial jet, each element turned by the "
+                 "angle at which the flow crosses it (Gaussian-smoothed), far-jet radius from the axial momentum balance, "
+                 "remeshed each iteration; the reported flow is solved with the settled jet as a streamline")
+
 NOTES = (
     "forces are exerted by the fluid on the part, +x downstream, from gauge pressure",
     "joints: load = wall force on the part beyond the joint + gauge pressure on the gasket annulus pi (G^2 - D^2) / 4 "
     "(positive: bolts in tension); end_force_N = pi G^2 p / 4, the hydrostatic end force of flange rules; "
     "per_bolt_N in forces is that of the first joint",
-    "jet_reaction_N = mdot V_out + p_out A_out: the force of the jet on the holder, upstream",
+    "jet_reaction_N = mdot V_out + p_out A_out: the force of the jet on the holder, upstream (free jet: at the far, "
+    "parallel jet, where p_out = 0)",
+    "free jet: contraction_coefficient = far-jet area / flow area at the lip plane (planar: per unit depth); "
+    "vena_contracta_x_m: where the jet radius is within 1 % of its whole contraction from the far value",
     "cavitation_index = (p_outlet,abs - p_vapour) / (rho V_outlet^2 / 2); inception_index = -Cp_min "
     "(common practice; cf. ISA-RP75.23-1995 for valves)",
 )

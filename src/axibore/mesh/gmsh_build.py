@@ -183,18 +183,33 @@ def _min_curvature_radius(seg) -> float:
     return float(np.min(radius)) if radius.size else math.inf
 
 
-def _threshold(gmsh, distance_field: int, size_min: float, h: float) -> int:
+def _threshold(gmsh, distance_field: int, size_min: float, h: float, size_max: float | None = None) -> int:
     thr = gmsh.model.mesh.field.add("Threshold")
     gmsh.model.mesh.field.setNumber(thr, "InField", distance_field)
     gmsh.model.mesh.field.setNumber(thr, "SizeMin", size_min)
-    gmsh.model.mesh.field.setNumber(thr, "SizeMax", h)
+    gmsh.model.mesh.field.setNumber(thr, "SizeMax", h if size_max is None else size_max)
     gmsh.model.mesh.field.setNumber(thr, "DistMin", size_min)
     gmsh.model.mesh.field.setNumber(thr, "DistMax", h * CORNER_REACH)
     return thr
 
 
-def _add_size_fields(gmsh, corners, h: float, curves) -> None:
+def _add_size_fields(gmsh, corners, h: float, curves, grow=None) -> None:
+    """Size fields: curvature of arcs and splines, convex corners, and (``grow`` = (curve tags,
+    reach, far size)) cells growing from h within ``reach`` of those curves to the far size."""
     fields = []
+    hmax = h if grow is None else grow[2]
+    if grow is not None:
+        tags, reach, far = grow
+        dist = gmsh.model.mesh.field.add("Distance")
+        gmsh.model.mesh.field.setNumbers(dist, "CurvesList", list(tags))
+        gmsh.model.mesh.field.setNumber(dist, "Sampling", 200)
+        thr = gmsh.model.mesh.field.add("Threshold")
+        gmsh.model.mesh.field.setNumber(thr, "InField", dist)
+        gmsh.model.mesh.field.setNumber(thr, "SizeMin", h)
+        gmsh.model.mesh.field.setNumber(thr, "SizeMax", far)
+        gmsh.model.mesh.field.setNumber(thr, "DistMin", reach)
+        gmsh.model.mesh.field.setNumber(thr, "DistMax", reach + 4.0 * far)
+        fields.append(thr)
     for tag, seg in curves:  # curvature: CURVATURE_ELEMENTS faces per full turn
         if seg.kind == "line":
             continue
@@ -203,13 +218,13 @@ def _add_size_fields(gmsh, corners, h: float, curves) -> None:
             dist = gmsh.model.mesh.field.add("Distance")
             gmsh.model.mesh.field.setNumbers(dist, "CurvesList", [tag])
             gmsh.model.mesh.field.setNumber(dist, "Sampling", int(min(2000, max(20, 4 * seg.length / hc))))
-            fields.append(_threshold(gmsh, dist, hc, h))
+            fields.append(_threshold(gmsh, dist, hc, h, hmax))
     if corners:
         occ_pts = [gmsh.model.geo.addPoint(x, r, 0.0, h * CORNER_FACTOR) for x, r in corners]
         gmsh.model.geo.synchronize()
         dist = gmsh.model.mesh.field.add("Distance")
         gmsh.model.mesh.field.setNumbers(dist, "PointsList", occ_pts)
-        fields.append(_threshold(gmsh, dist, h * CORNER_FACTOR, h))
+        fields.append(_threshold(gmsh, dist, h * CORNER_FACTOR, h, hmax))
     if fields:
         mn = gmsh.model.mesh.field.add("Min")
         gmsh.model.mesh.field.setNumbers(mn, "FieldsList", fields)
@@ -268,10 +283,12 @@ def read_model(gmsh, planar: bool = False) -> FVMesh:
 
 
 def mesh_loop(loop_segments, h: float, cells: str = "triangles", corners=(), msh_path: str | Path | None = None,
-              tol: float = 1e-12, mapped: bool = False, planar: bool = False) -> FVMesh:
+              tol: float = 1e-12, mapped: bool = False, planar: bool = False, grow=None) -> FVMesh:
     """Mesh the region inside a closed counter-clockwise loop of (group name, Segment).
 
-    ``corners``: (x, r) points refined to CORNER_FACTOR * h. ``mapped``: a loop of four
+    ``corners``: (x, r) points refined to CORNER_FACTOR * h. ``grow``: (group names, reach, far size):
+    cells of size h within ``reach`` of the curves of those groups, growing to the far size beyond.
+    ``mapped``: a loop of four
     segments meshed transfinitely with quads (opposite sides get the larger count of cells of
     size h). Used for bores and for the verification geometries of exact solutions.
     """
@@ -286,27 +303,61 @@ def mesh_loop(loop_segments, h: float, cells: str = "triangles", corners=(), msh
             gmsh.model.mesh.setTransfiniteSurface(1)
             gmsh.model.mesh.setRecombine(2, 1)
         else:
-            _add_size_fields(gmsh, list(corners), h, curves)
-            _set_options(gmsh, h, cells)
+            g = None
+            if grow is not None:
+                names, reach, far = grow
+                g = ([t for name in names for t in groups.get(name, [])], reach, far)
+            _add_size_fields(gmsh, list(corners), h, curves, g)
+            _set_options(gmsh, h if g is None else max(h, g[2]), cells)
         return generate(gmsh, groups, [1], msh_path, planar=planar)
 
 
 def mesh_profile(profile: Profile, size: float = 0.05, level: int = 0, cells: str = "triangles",
-                 msh_path: str | Path | None = None) -> MeshBuild:
-    """Mesh the fluid region of ``profile``; optionally write the Gmsh .msh file."""
+                 msh_path: str | Path | None = None, h: float | None = None) -> MeshBuild:
+    """Mesh the fluid region of ``profile``; optionally write the Gmsh .msh file.
+
+    ``h``: the target cell size, instead of the one from ``size`` and ``level`` (the free-jet
+    iteration keeps one size while the jet moves). A profile with a jet is meshed unstructured,
+    refined at the lip as at a convex corner."""
     from .mapped import NotMappable, mesh_mapped
 
-    h = target_size(profile, size, level)
+    h = target_size(profile, size, level) if h is None else h
     t0 = time.perf_counter()
-    if cells == "quads":
+    if cells == "quads" and not profile.jet:
         try:
             fv = mesh_mapped(profile, h, msh_path)
             return MeshBuild(fv, h, time.perf_counter() - t0, level, cells, "mapped quads")
         except NotMappable:
             pass
     corners = [(c.x, c.r) for c in profile.corners() if c.convex]
-    fv = mesh_loop(profile.loop(), h, cells, corners, msh_path, tol=0.1 * profile.tol, planar=profile.planar)
+    grow = None
+    if profile.jet:
+        # a moving jet boundary of many short pieces: triangles (full-quad recombination needs an even
+        # count of boundary edges, which a trial jet does not keep)
+        cells = "triangles"
+        corners.append(profile.jet[0].start)
+        grow = jet_grading(profile, h)
+    fv = mesh_loop(profile.loop(), h, cells, corners, msh_path, tol=0.1 * profile.tol, planar=profile.planar, grow=grow)
     return MeshBuild(fv, h, time.perf_counter() - t0, level, cells, f"unstructured {cells}")
+
+
+JET_REACH = 1.5  # free jets: cells of the target size within this many lip radii of the jet ...
+JET_FAR_SIZE = 0.25  # ... growing to this fraction of the widest radius (a reservoir far from the opening)
+
+
+RESERVOIR = 4.0  # a bore wider than this many lip radii is a reservoir upstream of an opening
+
+
+def jet_grading(profile: Profile, h: float):
+    """Size grading of a mesh with a free jet: where the bore upstream is a reservoir (wider than
+    RESERVOIR lip radii), cells of the target size along the jet and near the lip, coarser out in
+    the reservoir; a nozzle discharging a jet keeps the target size throughout (None)."""
+    r_lip = profile.jet[0].start[1]
+    r_wide = float(profile.wall_points[:, 1].max())
+    if r_wide < RESERVOIR * r_lip:
+        return None
+    far = max(h, JET_FAR_SIZE * min(r_wide, float(np.ptp(profile.outline[:, 0]))))
+    return (("jet", "wall", "centerbody"), JET_REACH * r_lip, far)
 
 
 # an unstructured mesh estimated by meshing it at most this fine and scaling by the size ratio squared

@@ -69,6 +69,9 @@ class Checks:
     warnings: list[str]
 
 
+SHARP_LIP_DEG = 5.0  # an exit where the wall meets it at more than this to the axis is a sharp lip
+
+
 def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
     q_out = flow.outlet_dynamic_pressure
     p_amb = case.ambient_pressure
@@ -114,10 +117,32 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
     if not onedim.meaningful:
         warnings.append("the wall runs backwards in x: the 1D model along x is not meaningful for this bore")
     if case.outlet.kind == "exit-plane" and not flow.compressible:
-        warnings.append(
-            "exit-plane outlet: the jet is taken to leave normal to the exit plane at ambient mean pressure; "
-            "the contraction of a free jet beyond the exit is not modelled"
-        )
+        from ..geometry.jet import estimated_contraction, lip_angle
+
+        a = lip_angle(profile)
+        if a < -math.radians(SHARP_LIP_DEG):
+            cc = estimated_contraction(a)
+            warnings.append(
+                f"exit-plane outlet on a sharp lip: the wall meets the exit plane at {-math.degrees(a):.3g} deg to the axis, so "
+                f"the jet goes on contracting past it. A planar jet between walls at that angle contracts to about {cc:.2f} of "
+                f"the exit area (von Mises 1917, from memory): the flow rate and discharge coefficient here may be up to "
+                f"{1 - cc:.0%} too high and the lip pressure too low; set outlet.kind = \"free-jet\" to solve the jet"
+            )
+        else:
+            warnings.append(
+                "exit-plane outlet: the jet is taken to leave normal to the exit plane at ambient mean pressure; "
+                "the contraction of a free jet beyond the exit is not modelled (outlet.kind = \"free-jet\" solves it)"
+            )
+    if case.outlet.kind == "free-jet" and profile.jet:
+        jb = flow.boundary.get("jet")
+        if jb is not None and flow.total_pressure:
+            q = 0.5 * flow.inlet_density * (2.0 * flow.total_pressure / flow.inlet_density)
+            worst = float(np.max(np.abs(jb.pressure))) / q
+            if worst > 0.02:
+                warnings.append(
+                    f"free jet: the pressure on the settled jet boundary is within {worst:.1%} of the jet's dynamic pressure "
+                    f"of ambient (largest next to the lip, where the flow round a sharp edge is singular); refine the mesh "
+                    f"(mesh.level) or run gridstudy for the converged contraction coefficient")
     return Checks(
         min_wall_gauge_Pa=p_min,
         min_wall_x_m=float(t.x[k]),

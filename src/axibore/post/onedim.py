@@ -112,11 +112,17 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
     beta = float(np.sum(ux**2 * a) / (A * V_out**2))
     alpha = float(np.sum(ux * q2 * a) / (A * V_out**3))
 
-    ratio = flow.outlet_area / flow.inlet_area
+    free_jet = outlet_kind == "free-jet" and profile.jet
+    a_exit = flow.outlet_area
+    if free_jet:
+        from ..geometry.jet import exit_area
+
+        a_exit = exit_area(profile)  # m2 (planar: m2 per m of depth)
+    ratio = a_exit / flow.inlet_area
     dp = flow.inlet_pressure - flow.outlet_pressure
     ratio_1d = None
     if dp > 0 and ratio < 1 - 1e-9 and not flow.compressible:
-        Q1 = flow.outlet_area * np.sqrt(2 * dp / (rho * (1 - ratio**2)))
+        Q1 = a_exit * np.sqrt(2 * dp / (rho * (1 - ratio**2)))
         ratio_1d = float(Q / Q1)
     # An inviscid flow leaving through a plane at a given pressure has no losses and no jet
     # contraction: its discharge coefficient is 1 by construction of the model.
@@ -136,6 +142,15 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
         gas = {"ideal_mass_flow_kg_s": model.mass_flow, "choked": model.regime != "subsonic", "regime": model.regime,
                "throat_x_m": float(model.x[it]), "throat_area_m2": float(model.area[it]),
                "shock_x_m": model.x_shock, "onedim_exit_mach": float(model.mach[-1])}
+    elif free_jet:
+        cd = float(Q / (a_exit * np.sqrt(2 * dp / rho))) if dp > 0 else None
+        cd_note = ("Q / (A_exit sqrt(2 (p_inlet - p_ambient) / rho)), A_exit the flow area at the lip plane, p_inlet the "
+                   "static inlet pressure, no velocity-of-approach factor (with the factor 1/sqrt(1 - (A_exit/A_inlet)^2) it is "
+                   "flow_ratio_to_1d; on the total head it equals the contraction coefficient of an inviscid jet)")
+        # the exit-plane hand formula: the jet leaves the lip plane uniformly at the ambient pressure
+        V1 = flow.inlet_velocity
+        force_1d = flow.inlet_pressure * flow.inlet_area + flow.mass_flow * (V1 - Q / a_exit)
+        force_1d_gas = force_1d
     elif outlet_kind == "pipe":
         cd_note = "none for a pipe outlet (inviscid flow between two planes has no losses)"
     else:
