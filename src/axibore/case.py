@@ -302,6 +302,7 @@ class ViscousSpec(_Section):
     displacement: Literal["none", "one-pass", "iterate"] = "none"
     displacement_tolerance: Annotated[float, Field(gt=0.0, le=0.1)] = 1e-3
     taps: tuple[Length, Length] | None = None  # wall pressure tappings (x) of the discharge coefficient
+    coupling: Literal["blockage", "none"] = "blockage"  # edge speed raised by the section's displacement blockage
 
 
 class OneDimSpec(_Section):

@@ -80,12 +80,13 @@ class ViscousSettings:
     displacement: str = "none"
     displacement_tolerance: float = 1e-3
     taps: tuple[float, float] | None = None
+    coupling: str = "blockage"
 
     @classmethod
     def from_case(cls, case) -> "ViscousSettings":
         v = case.viscous
         return cls(v.start, v.start_momentum_thickness, v.upstream_length, v.transition, v.separation_shape_factor,
-                   v.displacement, v.displacement_tolerance, v.taps)
+                   v.displacement, v.displacement_tolerance, v.taps, v.coupling)
 
     def resolve(self, reynolds: float, d_h: float) -> "ViscousSettings":
         """The settings with the defaults that depend on the flow filled in: a start turbulent above the
@@ -104,7 +105,7 @@ class ViscousSettings:
                 "transition": self.transition if isinstance(self.transition, str) else f"forced at x = {self.transition:.6g} m",
                 "separation_shape_factor": self.separation_shape_factor, "displacement": self.displacement,
                 "displacement_tolerance": self.displacement_tolerance,
-                "taps_x_m": list(self.taps) if self.taps else None,
+                "taps_x_m": list(self.taps) if self.taps else None, "coupling": self.coupling,
                 "restart_corner_deg": RESTART_CORNER_DEG, "smoothing_faces": SMOOTH_FACES,
                 "turbulent_start_shape_factor": L.TURBULENT_START_H}
 
@@ -179,6 +180,7 @@ class ViscousResult:
     max_shape_factor_x_m: float | None
     warnings: list[str]
     seconds: float
+    coupling_note: str = ""
     displacement: object | None = None  # displacement.DisplacementResult when the pass ran
     notes: list[str] = field(default_factory=list)
 
@@ -289,8 +291,14 @@ def _energy_thickness(theta, H):
 
 
 def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, settings: ViscousSettings, profile,
-                planar: bool) -> ChainLayer:
+                planar: bool, speed: np.ndarray | None = None, width: np.ndarray | None = None
+                ) -> tuple[ChainLayer, np.ndarray]:
+    """The layer on one chain from the wall speed ``speed`` (default the table's), smoothed over
+    ``width`` faces per face (default: a first march at the face scale, then over its layer
+    thickness). Returns the layer and the smoothing width its thickness calls for."""
     n = table.s.size
+    speed = table.speed if speed is None else speed
+    width_next = np.full(n, SMOOTH_FACES)
     s_all, x_all, r_all = table.s, table.x, table.r
     perim = np.ones(n) if planar else 2.0 * math.pi * r_all
     tx = _tangent_x(table)
@@ -323,10 +331,11 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, settings: Vis
             runs.append((xb, "inlet plane" if not stagnation else "stagnation point on the axis"))
         else:
             runs.append((xb, "stagnation point in a concave corner"))
-        floor = 1e-9 * max(float(table.speed.max()), 1e-30)
-        width = SMOOTH_FACES
-        for _ in range(2):  # smoothed at the face scale, then again over the layer thickness of the first march
-            u = np.maximum(smooth_speed(table.speed[sel], width), floor)
+        floor = 1e-9 * max(float(speed.max()), 1e-30)
+        passes = 2 if width is None else 1
+        w_run = SMOOTH_FACES if width is None else width[sel]
+        for _ in range(passes):  # smoothed at the face scale, then again over the layer thickness of the first march
+            u = np.maximum(smooth_speed(speed[sel], w_run), floor)
             # a station at the start of the run: the stagnation point, or the leading edge at the inlet plane
             s_run = np.r_[0.0, s_all[sel] - sb]
             ue_run = np.r_[0.0 if stagnation else u[0], u]
@@ -358,9 +367,10 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, settings: Vis
             th = np.interp(np.arange(th.size), np.flatnonzero(fin), th[fin])  # held past separation
             h_face = np.maximum(table.length[face_in_run], 1e-300)
             width_run = np.maximum(SMOOTH_FACES, SMOOTH_THETAS * th / h_face)
+            width_next[face_in_run] = width_run
             if face_in_run.size != sel.size:
                 break
-            width = width_run
+            w_run = width_run
         ue_all[sel] = u
         i = slice(1, None)
         theta[face_in_run], dstar[face_in_run], H[face_in_run] = w.theta[i], w.delta_star[i], w.H[i]
@@ -391,10 +401,72 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, settings: Vis
             end_def = (0.5 * rho[j] * perim[j] * ue_all[j] ** 3 * float(_energy_thickness(theta[j], H[j]))
                        if state[j] != L.SEPARATED else float("nan"))
     return ChainLayer(name, table.faces, x_all, r_all, s_all, ue_all, theta, dstar, H, cf, tau, state, re_th, tx, area,
-                      rho, perim, tuple(runs), tuple(transitions), tuple(separations), mom_fx, start_def, end_def)
+                      rho, perim, tuple(runs), tuple(transitions), tuple(separations), mom_fx, start_def, end_def), width_next
 
 
 # --- the stage -----------------------------------------------------------------------------------
+
+COUPLING_MAX_ITERATIONS = 60
+COUPLING_RELAXATION = 0.5
+COUPLING_TOLERANCE = 1e-3  # on the blockage B at every face
+MAX_BLOCKAGE = 0.5
+
+
+def face_blockage(chains: dict[str, ChainLayer], profile, planar: bool) -> dict[str, np.ndarray]:
+    """B = sum over the chains of P delta* / A at the x of every face (separated values held from the
+    last attached face; chains counted where they span the face's x)."""
+    parts = []
+    for c in chains.values():
+        ds = c.delta_star
+        fin = np.isfinite(ds)
+        if not fin.any():
+            continue
+        ds = np.interp(np.arange(ds.size), np.flatnonzero(fin), ds[fin])
+        order = np.argsort(c.x)
+        parts.append((c.x[order], (c.perimeter * ds)[order]))
+    out = {}
+    for name, c in chains.items():
+        A = _flow_area(profile, c.x, planar)
+        total = np.zeros(c.x.size)
+        for xs, pd in parts:
+            inside = (c.x >= xs[0] - 1e-9) & (c.x <= xs[-1] + 1e-9)
+            total += np.where(inside, np.interp(c.x, xs, pd), 0.0)
+        out[name] = np.clip(total / np.maximum(A, 1e-300), 0.0, MAX_BLOCKAGE)
+    return out
+
+
+def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile, planar: bool
+                   ) -> tuple[dict[str, ChainLayer], str]:
+    """The layers of all chains. With ``coupling = "blockage"`` the edge speed is the inviscid wall
+    speed over (1 - B), B the displacement blockage of the section (continuity in the core: a
+    quasi-1D interaction), found by under-relaxed fixed-point iteration."""
+    first = {n: march_chain(n, t, *props[n], settings, profile, planar) for n, t in tables.items()}
+    chains = {n: v[0] for n, v in first.items()}
+    widths = {n: v[1] for n, v in first.items()}
+    if settings.coupling != "blockage":
+        return chains, "none: the layer is marched on the inviscid wall speed"
+    if not profile.monotone:
+        return chains, "none: the wall runs backwards in x, so a section's blockage is not defined"
+    B = {n: np.zeros(t.s.size) for n, t in tables.items()}
+    change, last, omega = float("inf"), float("inf"), COUPLING_RELAXATION
+    for it in range(1, COUPLING_MAX_ITERATIONS + 1):
+        Bn = face_blockage(chains, profile, planar)
+        change = max(float(np.max(np.abs(Bn[n] - B[n]))) if B[n].size else 0.0 for n in B)
+        if change < COUPLING_TOLERANCE:
+            break
+        if change > last:  # a separation point that jumps between iterations: relax harder
+            omega = max(0.5 * omega, 0.05)
+        last = change
+        B = {n: B[n] + omega * (Bn[n] - B[n]) for n in B}
+        res = {n: march_chain(n, t, *props[n], settings, profile, planar, t.speed / (1.0 - B[n]), widths[n])
+               for n, t in tables.items()}
+        chains = {n: v[0] for n, v in res.items()}
+        widths = {n: v[1] for n, v in res.items()}
+    state = f"converged in {it} iterations" if change < COUPLING_TOLERANCE else \
+        f"NOT converged in {COUPLING_MAX_ITERATIONS} iterations (last change of B {change:.2g})"
+    Bmax = max(float(b.max()) for b in B.values()) if B else 0.0
+    return chains, (f"blockage: edge speed = inviscid wall speed / (1 - B), B = sum P delta* / A (continuity in the core), "
+                    f"{state} to {COUPLING_TOLERANCE:g} in B; largest B {Bmax:.3g}")
 
 
 def _flow_area(profile, x, planar: bool):
@@ -471,7 +543,7 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
     basis = ("rho V d_h / mu on the inlet plane: mean velocity, hydraulic diameter 4 A / P (the bore diameter of a "
              "round pipe), viscosity at the inlet")
     settings = settings.resolve(re, d_h)
-    chains: dict[str, ChainLayer] = {}
+    props = {}
     for name, table in tables.items():
         bv = flow.boundary[name]
         rho = bv.density[_face_index(bv.faces, table.faces)]
@@ -480,7 +552,8 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
             nu = _gas_mu(case, T) / rho
         else:
             nu = np.full(table.s.size, mu_in / rho_in)
-        chains[name] = march_chain(name, table, rho, nu, settings, profile, planar)
+        props[name] = (rho, nu)
+    chains, coupling_note = coupled_layers(tables, props, settings, profile, planar)
 
     friction = sum(c.friction_x_N for c in chains.values())
     mom_friction = sum(c.momentum_friction_x_N for c in chains.values())
@@ -532,11 +605,16 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
 
     warnings = []
     for c in chains.values():
+        restarts = [x for x, how in c.runs if how.endswith("concave corner")]
         for a, b, kind in c.separations:
+            nxt = [x for x in restarts if x > a]
+            where = (f"from x = {a * 1e3:.4g} to {b * 1e3:.4g} mm, into the concave corner at x = {nxt[0] * 1e3:.4g} mm "
+                     "where a new layer starts" if nxt else f"from x = {a * 1e3:.4g} mm to the end of the {c.name} "
+                     f"(x = {b * 1e3:.4g} mm)")
             warnings.append(
-                f"the {kind} wall layer on the {c.name} separates at x = {a * 1e3:.4g} mm (separated from x = {a * 1e3:.4g} "
-                f"to {b * 1e3:.4g} mm): the inviscid wall pressure and force downstream of x = {a * 1e3:.4g} mm are not "
-                f"reliable. {CAUTION}")
+                f"the {kind} wall layer on the {c.name} separates at x = {a * 1e3:.4g} mm (separated {where}): the "
+                f"inviscid wall pressure and force {'in that range' if nxt else f'downstream of x = {a * 1e3:.4g} mm'} "
+                f"are not reliable. {CAUTION}")
         h_loc = np.maximum(c.r if not planar else np.abs(c.r), 1e-300)
         thick = np.isfinite(c.delta_star) & (c.delta_star > THICK_LAYER * h_loc)
         if np.any(thick) and not planar:
@@ -557,5 +635,77 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
         loss_coefficient=K, loss_coefficient_note=k_note, total_pressure_loss_Pa=dp0, head_loss_m=head,
         transition_x_m=transitions, separation_x_ranges_m=seps, separation_kind=kinds,
         max_shape_factor=hmax[0], max_shape_factor_x_m=hmax[1], warnings=warnings,
-        seconds=time.perf_counter() - t0, notes=notes,
+        seconds=time.perf_counter() - t0, notes=notes, coupling_note=coupling_note,
     )
+
+
+# --- the stage as a run uses it, and its part of summary.json ---------------------------------------
+
+
+def viscous_stage(case, profile, mesh, flow, tables, onedim, progress=None, mesh_build=None) -> ViscousResult:
+    """The wall layer of a run, and the displacement pass when the case asks for it."""
+    from dataclasses import replace
+
+    res = wall_layers(case, profile, flow, tables, onedim)
+    if progress:
+        sep = "; separated: " + ", ".join(f"{a * 1e3:.4g}-{b * 1e3:.4g} mm" for a, b in res.separation_x_ranges_m) \
+            if res.separated else ""
+        progress("viscous", f"wall layer: Re {res.reynolds_number:.3g}, friction {res.friction_x_N:.4g} N{sep}, "
+                 f"{res.seconds:.2f} s")
+    if res.settings.displacement != "none":
+        from .displacement import displacement_pass
+
+        t = time.perf_counter()
+        disp = displacement_pass(case, profile, mesh, flow, tables, onedim, res, progress)
+        res = replace(res, displacement=disp, warnings=res.warnings + list(disp.warnings))
+        if progress:
+            progress("viscous", f"displacement pass ({disp.passes} re-solves): flow {disp.flow_change_rel:+.3%}, wall force "
+                     f"{disp.force_change_N:+.4g} N, {time.perf_counter() - t:.2f} s")
+    return res
+
+
+def summary_section(res) -> dict:
+    """The ``viscous`` section of summary.json (the model in use, and its results)."""
+    v = getattr(res, "viscous", None)
+    if v is None:
+        return {"model": "none", "note": 'no wall layer (viscous.model = "none", or the fluid\'s viscosity is unknown)'}
+    f = res.forces
+    total = f.total_x_N + v.friction_x_N
+    mom = f.momentum_x_N + v.momentum_friction_x_N
+    out = {
+        "model": v.model,
+        "settings": v.settings.as_dict(),
+        "viscosity_Pa_s": v.viscosity_Pa_s, "kinematic_viscosity_m2_s": v.kinematic_viscosity_m2_s,
+        "viscosity_source": v.viscosity_source,
+        "reynolds_number": v.reynolds_number, "reynolds_length_m": v.reynolds_length_m, "reynolds_basis": v.reynolds_basis,
+        "friction_x_N": v.friction_x_N,
+        "friction_wall_x_N": v.chains[Boundary.WALL].friction_x_N if Boundary.WALL in v.chains else 0.0,
+        "friction_centerbody_x_N": v.chains[Boundary.CENTERBODY].friction_x_N if Boundary.CENTERBODY in v.chains else 0.0,
+        "total_with_friction_x_N": total,
+        "momentum_with_friction_x_N": mom,
+        "friction_reconciliation_rel": (total - mom) / max(abs(mom), 1e-300),
+        "friction_momentum_integral_x_N": v.momentum_friction_x_N,
+        "discharge_coefficient": v.discharge_coefficient,
+        "discharge_coefficient_inviscid": v.discharge_coefficient_inviscid,
+        "discharge_coefficient_note": v.discharge_coefficient_note,
+        "loss_coefficient": v.loss_coefficient, "loss_coefficient_note": v.loss_coefficient_note,
+        "total_pressure_loss_Pa": v.total_pressure_loss_Pa, "head_loss_m": v.head_loss_m,
+        "transition_x_m": v.transition_x_m,
+        "separated": v.separated, "separation_x_ranges_m": v.separation_x_ranges_m, "separation_kind": v.separation_kind,
+        "max_shape_factor": v.max_shape_factor, "max_shape_factor_x_m": v.max_shape_factor_x_m,
+        "coupling": v.coupling_note,
+        "layers": {n: {"runs": [{"x_m": x, "start": how} for x, how in c.runs], "transition_x_m": list(c.transitions_x),
+                       "separations": [{"from_x_m": a, "to_x_m": b, "kind": k} for a, b, k in c.separations],
+                       "friction_x_N": c.friction_x_N} for n, c in v.chains.items()},
+        "seconds": v.seconds,
+        "notes": list(v.notes) + [
+            "total_with_friction_x_N = forces.total_x_N (wall pressure) + friction_x_N; momentum_with_friction_x_N = "
+            "forces.momentum_x_N (the planes) + the friction from the momentum integral of the layer (von Karman, "
+            "derived); friction_reconciliation_rel compares the two",
+        ],
+        "caution": CAUTION,
+    }
+    d = v.displacement
+    if d is not None:
+        out["displacement"] = d.as_dict()
+    return out
