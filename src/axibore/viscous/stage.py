@@ -536,7 +536,7 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
     rho_in = flow.inlet_density
     # Reynolds number on the inlet plane: mean velocity and hydraulic diameter 4 A / P (wetted perimeter)
     P_in = sum((1.0 if planar else 2.0 * math.pi * float(t.r[0])) for t in tables.values() if t.x.size
-               and abs(t.x[0] - profile.x_inlet) <= 1e-3 * profile.length_scale)
+               and abs(t.x[0] - profile.x_inlet) <= t.length[0])
     A_in = flow.inlet_area
     d_h = 4.0 * A_in / P_in if P_in > 0 else 2.0 * profile.r_inlet
     re = rho_in * flow.inlet_velocity * d_h / mu_in
