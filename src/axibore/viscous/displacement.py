@@ -28,6 +28,7 @@ from ..names import Boundary
 CLIP_FRACTION = 0.2  # delta* applied at most this share of the local channel height
 BLEND_CELLS = 3.0  # the displacement fades to zero over this many cells from the wall (at least)
 MAX_PASSES = 8
+NEIGHBOURS = 16  # wall nodes whose displacement an interior node takes (inverse-distance weighted)
 RELAXATION = 0.7  # of delta* between passes when iterating
 
 
@@ -121,9 +122,15 @@ def displaced_mesh(mesh, delta: dict[str, tuple[np.ndarray, np.ndarray]], channe
     wall_ids = np.flatnonzero(on_wall)
     if wall_ids.size and dmax > 0.0:
         free = ~on_wall
-        dist, j = cKDTree(nodes[wall_ids]).query(nodes[free])
-        w = np.clip(1.0 - dist / blend, 0.0, 1.0)
-        disp[free] = w[:, None] * disp[wall_ids[j]]
+        # the wall's displacement averaged over its nearest wall nodes (inverse-distance weights): a smooth
+        # field also where the wall turns (a concave corner), faded linearly to zero over the blend distance
+        k = min(NEIGHBOURS, wall_ids.size)
+        dist, j = cKDTree(nodes[wall_ids]).query(nodes[free], k=k)
+        dist, j = dist.reshape(-1, k), j.reshape(-1, k)
+        wk = 1.0 / (dist + 1e-3 * h) ** 2
+        avg = np.einsum("nk,nkc->nc", wk, disp[wall_ids[j]]) / wk.sum(1)[:, None]
+        w = np.clip(1.0 - dist[:, 0] / blend, 0.0, 1.0)
+        disp[free] = w[:, None] * avg
         plane = np.zeros(N, bool)
         for name in (Boundary.INLET, Boundary.OUTLET):
             if name in mesh.boundary:
@@ -131,8 +138,11 @@ def displaced_mesh(mesh, delta: dict[str, tuple[np.ndarray, np.ndarray]], channe
         disp[plane, 0] = 0.0
     disp[axis] = 0.0
     new = replace(mesh, nodes=nodes + disp)
-    if np.any(new.cell_area <= 0.0):
-        raise ValueError("the displaced wall folds cells of the mesh (displacement too large for the cells)")
+    bad = new.cell_area <= 0.0
+    if np.any(bad):
+        c = mesh.cell_centroid[bad]
+        raise ValueError(f"the displaced wall folds {int(bad.sum())} cells of the mesh, near x = {c[:, 0].min() * 1e3:.4g} to "
+                         f"{c[:, 0].max() * 1e3:.4g} mm, r = {c[:, 1].min() * 1e3:.4g} to {c[:, 1].max() * 1e3:.4g} mm")
     return new, dmax, clipped
 
 
