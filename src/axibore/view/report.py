@@ -149,7 +149,7 @@ def viscous_section(s: dict, unit: str = "bar") -> list[str]:
 def _num_nested(summary: dict, key: str, text: str) -> str:
     section, name = key.split(".")
     v = summary.get(section, {}).get(name)
-    raw = "" if v is None else repr(v)
+    raw = repr(v) if isinstance(v, (int, float)) and not isinstance(v, bool) else ""  # numbers only
     return f'<td class="num" data-key="{key}" data-value="{html.escape(raw)}">{html.escape(text)}</td>'
 
 

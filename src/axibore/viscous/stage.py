@@ -348,7 +348,7 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, settings: Vis
             keep = np.r_[True, np.diff(s_run) > 0]
             s_run, ue_run, r_run, nu_run, rho_run = s_run[keep], ue_run[keep], r_run[keep], nu_run[keep], rho_run[keep]
             face_in_run = sel[keep[1:]]
-            if how == "start":
+            if how == "start" and not stagnation:
                 th0 = _start_theta(settings, float(ue_run[0]), float(nu_run[0]), float(r_run[0]), planar)
             tr = settings.transition
             if isinstance(tr, float):
