@@ -457,7 +457,7 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
         change = max(float(np.max(np.abs(Bn[n] - B[n]))) if B[n].size else 0.0 for n in B)
         if change < COUPLING_TOLERANCE:
             break
-        if change > last:  # a separation point that jumps between iterations: relax harder
+        if change > last or abs(change - last) < 0.02 * last:  # growing, or stuck in a cycle: relax harder
             omega = max(0.5 * omega, 0.05)
         last = change
         B = {n: B[n] + omega * (Bn[n] - B[n]) for n in B}
@@ -466,7 +466,7 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
         chains = {n: v[0] for n, v in res.items()}
         widths = {n: v[1] for n, v in res.items()}
     state = f"converged in {it} iterations" if change < COUPLING_TOLERANCE else \
-        f"NOT converged in {COUPLING_MAX_ITERATIONS} iterations (last change of B {change:.2g})"
+        f"NOT converged in {COUPLING_MAX_ITERATIONS} iterations (B still changes by {change:.2g} between iterations)"
     Bmax = max(float(b.max()) for b in B.values()) if B else 0.0
     return chains, (f"blockage: edge speed = inviscid wall speed / (1 - B), B = sum P delta* / A (continuity in the core), "
                     f"{state} to {COUPLING_TOLERANCE:g} in B; largest B {Bmax:.3g}")
@@ -607,9 +607,10 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
                   "includes the friction of the straight lengths of the bore")
 
     warnings = []
-    if "NOT converged" in coupling_note:
-        warnings.append(f"wall layer: the blockage coupling did not settle ({coupling_note.split('(', 2)[-1].split(')')[0]}): "
-                        "the layer near its separation or a thick-layer region is uncertain")
+    still = coupling_note.split("B still changes by ")[-1].split(" ")[0] if "NOT converged" in coupling_note else "0"
+    if float(still) > 10 * COUPLING_TOLERANCE:
+        warnings.append(f"wall layer: the blockage coupling did not settle (the blockage B still changes by {still} between "
+                        "iterations): the layer near its separation or in a thick-layer region is uncertain")
     for c in chains.values():
         restarts = [x for x, how in c.runs if how.endswith("concave corner")]
         for a, b, kind in c.separations:
