@@ -12,6 +12,7 @@ the run with one pass under 2.2 x the run without the layer.
 
 from __future__ import annotations
 
+import os
 import platform
 import tempfile
 import time
@@ -38,7 +39,8 @@ def timed_run(case) -> tuple[float, object]:
 
 def main() -> None:
     lines = [f"axibore viscous-stage benchmark, {time.strftime('%Y-%m-%d %H:%M')}, {platform.processor() or platform.machine()}, "
-             f"python {platform.python_version()}", ""]
+             f"python {platform.python_version()}, load average {os.getloadavg()[0]:.2f} (a shared machine: compare the ratios "
+             "within one case, not times across runs)", ""]
     for name, size in CASES:
         base = load_case(ROOT / "cases" / f"{name}.toml").with_updates({"mesh.size": size})
         t_none, r0 = timed_run(base.with_updates({"viscous.model": "none"}))
