@@ -151,7 +151,11 @@ def test_turbulent_flat_plate_skin_friction_against_coles_fernholz():
 
 @pytest.mark.xfail(
     strict=True,
-    reason="Head + Ludwieg-Tillmann cf is 7 % (Re_x 1e6) to 18 % (1e8) below Schlichting's formula",
+    reason="Head + Ludwieg-Tillmann cf is 7 % (Re_x 1e6), 9 % (1e7) and 18 % (1e8) below Schlichting's formula. "
+    "Not the start: H = 1.4 is forgotten by Re_x 1e6 (H 1.42, 1.34, 1.29 at 1e6, 1e7, 1e8). The method follows "
+    "Coles-Fernholz in Re_theta (+0.4 % at Re_theta 2e3, -1.7 % at 1.4e4), and Coles-Fernholz integrated is "
+    "itself about 6 % below Schlichting at Re_x 1e6; beyond Re_theta about 2e4 the power law Re_theta^-0.268 of "
+    "Ludwieg-Tillmann falls below the logarithmic law (-6 % at Re_theta 3.5e4, -12 % at 9e4).",
 )
 def test_turbulent_flat_plate_skin_friction_against_schlichting():
     # Schlichting (Boundary-Layer Theory): cf = (2 log10 Re_x - 0.65)^-2.3, 1e6 <= Re_x <= 1e8, 5 %

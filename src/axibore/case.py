@@ -119,6 +119,7 @@ Temperature = Annotated[float, _quantity("temperature"), AfterValidator(_positiv
 Density = Annotated[float, _quantity("density"), AfterValidator(_positive)]
 HalfAngle = Annotated[float, _quantity("angle"), AfterValidator(_half_angle)]
 GasConstant = Annotated[float, _quantity("specific_gas_constant"), AfterValidator(_positive)]
+Viscosity = Annotated[float, _quantity("dynamic_viscosity"), AfterValidator(_positive)]
 
 
 def _flow_rate(value: Any) -> tuple[str, float]:
@@ -155,6 +156,7 @@ class FluidSpec(_Section):
     gas: Literal["air", "nitrogen"] | None = None
     gas_constant: GasConstant | None = None
     gamma: Annotated[float, _quantity("dimensionless")] | None = None
+    viscosity: Viscosity | None = None  # dynamic, of a given liquid (the wall layer of [viscous])
 
 
 class SegmentSpec(_Section):
@@ -284,6 +286,31 @@ class SolverSpec(_Section):
     max_steps: Annotated[int, Field(ge=1, le=10_000, strict=True)] = 150
 
 
+def _transition(value: Any) -> Any:
+    if isinstance(value, str) and value.strip().lower() in ("michel", "none"):
+        return value.strip().lower()
+    try:
+        return to_si(value, "length")
+    except UnitError as exc:
+        raise PydanticCustomError("quantity", f'expected "michel", "none" or an axial position x where transition is '
+                                  f'forced (a length): {exc}') from None
+
+
+class ViscousSpec(_Section):
+    """The wall layer (viscous/stage.py): integral boundary layer on every wall chain."""
+
+    model: Literal["integral", "none"] | None = None  # None: "integral" where the fluid's viscosity is known
+    start: Literal["laminar", "turbulent"] | None = None  # None: turbulent above the pipe-flow Reynolds number 2300
+    start_momentum_thickness: PosLength | None = None
+    upstream_length: NonNegLength | None = None
+    transition: Annotated[Union[str, float], BeforeValidator(_transition)] = "michel"
+    separation_shape_factor: Annotated[float, Field(gt=1.6, le=4.0)] = 2.4
+    displacement: Literal["none", "one-pass", "iterate"] = "none"
+    displacement_tolerance: Annotated[float, Field(gt=0.0, le=0.1)] = 1e-3
+    taps: tuple[Length, Length] | None = None  # wall pressure tappings (x) of the discharge coefficient
+    coupling: Literal["blockage", "none"] = "blockage"  # edge speed raised by the section's displacement blockage
+
+
 class OneDimSpec(_Section):
     threshold: Annotated[float, Field(gt=0.0, lt=1.0)] = 0.02
 
@@ -331,6 +358,7 @@ class CaseModel(_Section):
     mesh: MeshSpec = MeshSpec()
     solver: SolverSpec = SolverSpec()
     onedim: OneDimSpec = OneDimSpec()
+    viscous: ViscousSpec = ViscousSpec()
     flange: FlangeSpec = FlangeSpec()
     joint: list[JointSpec] = Field(default_factory=list)
     sweep: SweepSpec | None = None  # read by `axibore sweep`; not part of a run
@@ -365,6 +393,15 @@ class Case:
     solver = property(lambda self: self.model.solver)
     onedim = property(lambda self: self.model.onedim)
     flange = property(lambda self: self.model.flange)
+    viscous = property(lambda self: self.model.viscous)
+
+    @property
+    def viscous_model(self) -> str:
+        """The wall-layer model that runs: the one given, else "integral" where the viscosity is known."""
+        from .viscous.viscosity import viscosity_known
+
+        given = self.model.viscous.model
+        return given if given is not None else ("integral" if viscosity_known(self.fluid) else "none")
 
     @property
     def joints(self) -> list[JointSpec]:
@@ -498,10 +535,10 @@ def _cross_checks(m: CaseModel) -> list[tuple[str, str]]:
     allowed = {
         "water": {"temperature"},
         "seawater": {"temperature", "density"},
-        "liquid": {"density", "vapour_pressure", "temperature"},
+        "liquid": {"density", "vapour_pressure", "temperature", "viscosity"},
         "ideal-gas": {"gas", "gas_constant", "gamma"},
     }[f.kind]
-    for key in ("temperature", "density", "vapour_pressure", "gas", "gas_constant", "gamma"):
+    for key in ("temperature", "density", "vapour_pressure", "gas", "gas_constant", "gamma", "viscosity"):
         if getattr(f, key) is not None and key not in allowed:
             problems.append((f"fluid.{key}", f'not used with fluid.kind = "{f.kind}" (keys for it: {", ".join(sorted(allowed))})'))
     if f.kind in ("water", "seawater") and f.temperature is None:
@@ -560,8 +597,40 @@ def _cross_checks(m: CaseModel) -> list[tuple[str, str]]:
             others = [k for k, e in SOLVERS.items() if cls in e.fluids]
             problems.append(("solver.kind", f'"{m.solver.kind}" is for {" and ".join({"liquid": "liquids", "gas": "gases"}[e] for e in entry.fluids)}; '
                              f"a {'gas' if cls == 'gas' else 'liquid'} takes " + (" or ".join(f'"{k}"' for k in others) or "no solver of this version")))
+    problems += _viscous_checks(m)
     if m.bore.template == "spear" and getattr(m.bore, "centerbody", None) is not None:
         problems.append(("bore.centerbody", "the spear template builds its own needle"))
+    return problems
+
+
+def _viscous_checks(m: CaseModel) -> list[tuple[str, str]]:
+    from .viscous.viscosity import SUTHERLAND
+
+    v, f = m.viscous, m.fluid
+    problems = []
+    if v.model == "integral":
+        if f.kind == "liquid" and f.viscosity is None:
+            problems.append(("fluid.viscosity", 'missing: viscous.model = "integral" needs the viscosity of a given liquid '
+                             '(dynamic, e.g. "1.2 mPa*s")'))
+        if f.kind == "ideal-gas" and f.gas not in SUTHERLAND:
+            problems.append(("viscous.model", f'"integral" needs the viscosity of the gas: Sutherland constants are built in '
+                             f'for {", ".join(SUTHERLAND)} (fluid.gas); for another gas set viscous.model = "none"'))
+    if v.start_momentum_thickness is not None and v.upstream_length is not None:
+        problems.append(("viscous.upstream_length", "give start_momentum_thickness or upstream_length, not both"))
+    if v.taps is not None and not v.taps[0] < v.taps[1]:
+        problems.append(("viscous.taps", f"expected [upstream x, downstream x] with the first smaller, got "
+                         f"{v.taps[0]:.6g} m and {v.taps[1]:.6g} m"))
+    return problems
+
+
+def _viscous_position_checks(m: CaseModel, profile) -> list[tuple[str, str]]:
+    v, problems = m.viscous, []
+    lo, hi = profile.x_inlet - profile.tol, profile.x_outlet + profile.tol
+    for key, xs in (("viscous.taps", v.taps or ()), ("viscous.transition", [v.transition] if isinstance(v.transition, float) else [])):
+        for x in xs:
+            if not lo <= x <= hi:
+                problems.append((key, f"expected a position on the bore, from x = {profile.x_inlet:.6g} m to "
+                                 f"{profile.x_outlet:.6g} m, got {x:.6g} m"))
     return problems
 
 
@@ -591,7 +660,7 @@ def _resolve_fluid(spec: FluidSpec, ambient: float) -> fluids.Fluid:
         return fluids.resolve_seawater(spec.temperature, spec.density)
     if spec.kind == "liquid":
         return fluids.Fluid(kind="liquid", name="liquid", density=spec.density, vapour_pressure=spec.vapour_pressure,
-                            temperature=spec.temperature, source="given")
+                            temperature=spec.temperature, source="given", viscosity=spec.viscosity)
     if spec.gas is not None:
         r, g = fluids.GASES[spec.gas]
         return fluids.Fluid(kind="ideal-gas", name=spec.gas, gas_constant=r, gamma=g, source="built-in constants")
@@ -620,7 +689,7 @@ def case_from_dict(data: dict, source: str = "<memory>", base_dir: Path | None =
         profile = build_profile(m.bore, base_dir or Path.cwd(), free_jet=m.outlet.kind == "free-jet")
     except ProfileError as exc:
         raise CaseError(source, [(exc.key, exc.message)]) from None
-    problems = _joint_checks(m, profile)
+    problems = _joint_checks(m, profile) + _viscous_position_checks(m, profile)
     if problems:
         raise CaseError(source, problems)
     return Case(data=copy.deepcopy(data), model=m, fluid=fluid, profile=profile, solver_kind=solver_kind, source=source,

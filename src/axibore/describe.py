@@ -66,6 +66,17 @@ def describe(case: Case) -> list[str]:
     if not b.within:
         lines.append(f"note      {refusal(b)}; `run` will refuse this case")
     lines.append(f"solver    {case.solver_kind} (tolerance {case.solver.tolerance:g}); 1D breakdown threshold {case.onedim.threshold:.3g} of the outlet dynamic pressure")
+    v = case.viscous
+    if case.viscous_model == "integral":
+        start = v.start or "turbulent above Re 2300, else laminar"
+        grown = (f", start momentum thickness {show(v.start_momentum_thickness, 'length')}" if v.start_momentum_thickness
+                 else f", grown over {show(v.upstream_length, 'length')} upstream" if v.upstream_length is not None else "")
+        tr = v.transition if isinstance(v.transition, str) else f"forced at x = {show(v.transition, 'length')}"
+        lines.append(f"viscous   wall layer (integral): start {start}{grown}; transition {tr}; turbulent separation at "
+                     f"H = {v.separation_shape_factor:g}; coupling {v.coupling}; displacement pass {v.displacement}")
+    else:
+        lines.append("viscous   none (no wall layer: " + ("viscous.model = \"none\")" if v.model == "none"
+                                                         else "the fluid's viscosity is not known; give fluid.viscosity)"))
     for j in case.joints:
         at = j.at if isinstance(j.at, str) else f"x = {show(j.at, 'length')}"
         g = f", gasket reaction diameter {show(j.gasket_diameter, 'length')}" if j.gasket_diameter else ", no gasket diameter"

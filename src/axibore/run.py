@@ -45,6 +45,7 @@ class RunResult:
     mesh_quality: dict = field(default_factory=dict)
     joints: list[JointLoad] = field(default_factory=list)
     jet_reaction_N: float | None = None
+    viscous: object | None = None  # viscous.stage.ViscousResult when the wall layer ran
     jet: "object | None" = None  # solvers.freejet.JetSolution of a free-jet outlet
 
     def summary(self) -> dict:
@@ -119,7 +120,16 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
     chk = checks(case, profile, flow, tables, frc, od)
     quality = mesh.quality()
     sec["post"] = time.perf_counter() - t
-    return RunResult(case, profile, mesh, build, flow, tables, frc, od, chk, sec, quality, joints, jet_reaction(case, flow), jet)
+    viscous = None
+    if case.viscous_model == "integral":  # the wall-layer stage: adds results, changes no inviscid number
+        from .viscous.stage import viscous_stage
+
+        t = time.perf_counter()
+        viscous = viscous_stage(case, profile, mesh, flow, tables, od, progress, build)
+        chk.warnings.extend(viscous.warnings)
+        sec["viscous"] = time.perf_counter() - t
+    return RunResult(case, profile, mesh, build, flow, tables, frc, od, chk, sec, quality, joints, jet_reaction(case, flow),
+                     viscous, jet)
 
 
 def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, report: bool = True,

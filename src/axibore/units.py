@@ -31,6 +31,8 @@ _Q = {"m3/s": 1.0, "m3/min": 1 / 60, "m3/h": 1 / 3600, "L/s": 1e-3, "l/s": 1e-3,
       "gal/min": _US_GALLON / 60}
 _M = {"kg/s": 1.0, "kg/min": 1 / 60, "kg/h": 1 / 3600, "t/h": 1000 / 3600, "g/s": 1e-3, "lb/s": 0.45359237,
       "lb/min": 0.45359237 / 60, "lb/h": 0.45359237 / 3600}
+_MU = {"Pa*s": 1.0, "Pas": 1.0, "Pa.s": 1.0, "N*s/m2": 1.0, "mPa*s": 1e-3, "mPas": 1e-3, "mPa.s": 1e-3, "cP": 1e-3,
+       "P": 0.1, "uPa*s": 1e-6, "uPas": 1e-6}  # poise: 0.1 Pa s (CGS definition)
 _R = {"J/(kg*K)": 1.0, "J/(kgK)": 1.0, "J/kg/K": 1.0, "J/(kg.K)": 1.0, "m2/(s2*K)": 1.0, "kJ/(kg*K)": 1e3, "kJ/kg/K": 1e3}
 
 
@@ -48,6 +50,7 @@ DIMENSIONS: dict[str, tuple[str, dict[str, tuple[float, float]], str]] = {
     "volume_flow": ("a volume flow rate", _linear(_Q), "m^3/s, m^3/h, L/s, L/min, gpm (US)"),
     "mass_flow": ("a mass flow rate", _linear(_M), "kg/s, kg/h, t/h, lb/s"),
     "specific_gas_constant": ("a gas constant", _linear(_R), "J/(kg*K)"),
+    "dynamic_viscosity": ("a dynamic viscosity", _linear(_MU), "Pa*s, mPa*s, cP"),
     "dimensionless": ("a plain number", {"": (1.0, 0.0)}, "no unit"),
 }
 _NUMBER = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d{1,3})?)\s*(.{0,40}?)\s*$")

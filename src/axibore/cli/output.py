@@ -59,6 +59,7 @@ def headline(summary: dict, unit: str = "bar") -> list[str]:
          ", ".join(f"x {a * 1e3:.4g} to {b * 1e3:.4g} mm" for a, b in o["breakdown_x_ranges_m"]) or "nowhere"),
         ("outlet beta / alpha", f"{o['outlet_momentum_factor']:.5f} / {o['outlet_energy_factor']:.5f}"),
     ]
+    rows += viscous_rows(summary)
     sv = summary["solver"]
     method = "superlu (direct)" if sv["method"] == "superlu" else sv["method"]
     solve = f"{summary['mesh']['cells']:,} cells ({summary['mesh']['method']}), {method}, residual {sv['residual']:.1e}, " \
@@ -67,6 +68,34 @@ def headline(summary: dict, unit: str = "bar") -> list[str]:
         solve += "  NOT CONVERGED"
     rows.append(("mesh / solve", solve))
     return table(rows)
+
+
+def viscous_rows(summary: dict) -> list[tuple[str, str]]:
+    """The wall-layer lines of the headline (none when no layer ran)."""
+    v = summary.get("viscous") or {}
+    if v.get("model") != "integral":
+        return []
+    f = summary["forces"]
+    rows = [("wall layer", f"Re {v['reynolds_number']:.4g} (on {show(v['reynolds_length_m'], 'length')}), start "
+                           f"{v['settings']['start']}, " + (", ".join(f"transition x = {show(x, 'length')}" for x in v["transition_x_m"])
+                                                          or "no transition")),
+            ("friction force x", f"{show(f['friction_x_N'], 'force')}; with the wall pressure {show(f['total_with_friction_x_N'], 'force')}")]
+    cd = v["discharge_coefficient"]
+    rows.append(("viscous discharge coeff", f"{cd:.5f} (inviscid {v['discharge_coefficient_inviscid']:.5f})" if cd is not None
+                 else v["discharge_coefficient_note"]))
+    if v["loss_coefficient"] is not None:
+        rows.append(("loss coefficient K", f"{v['loss_coefficient']:.4g} (head loss {v['head_loss_m']:.4g} m, "
+                                           f"{show(v['total_pressure_loss_Pa'], 'pressure')})"))
+    else:
+        rows.append(("loss coefficient K", v["loss_coefficient_note"]))
+    sep = ", ".join(f"x {a * 1e3:.4g} to {b * 1e3:.4g} mm" for a, b in v["separation_x_ranges_m"])
+    rows.append(("layer separated", sep or f"nowhere (largest shape factor {v['max_shape_factor']:.3g})"))
+    d = v.get("displacement")
+    if d:
+        rows.append(("displacement pass", f"{d['mode']}, {d['passes']} re-solve(s): wall force {d['force_change_N']:+.4g} N "
+                                          f"({d['force_change_rel']:+.3%}), flow {d['flow_change_rel']:+.3%}, inlet pressure "
+                                          f"{d['inlet_pressure_change_Pa']:+.4g} Pa"))
+    return rows
 
 
 def mesh_lines(build, level: int) -> list[str]:

@@ -65,6 +65,8 @@ def run(args) -> int:
         from ..post.joints import CAUTION as JOINT_CAUTION
 
         out(f"Joints: {JOINT_CAUTION}")
+    if (s.get("viscous") or {}).get("caution"):
+        out(f"Wall layer: {s['viscous']['caution']}")
     written = ["report.html"] if (outdir / "report.html").exists() else []
     written += ["summary.json", "wall.csv", "wall_load.vtu", "fields.vtu", "mesh.msh", "case.toml"]
     out(f"wrote {outdir}/ ({', '.join(written)})")

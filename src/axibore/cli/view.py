@@ -13,7 +13,8 @@ HELP = "show a run in 3D (PyVista window, or PNG off-screen)"
 
 def add_args(p) -> None:
     p.add_argument("run_dir", help="run directory written by `axibore run`")
-    p.add_argument("--field", choices=["pressure", "speed", "cp", "mach"], default="pressure", help="field on the cut planes")
+    p.add_argument("--field", choices=["pressure", "speed", "cp", "mach", "shear"], default="pressure",
+                   help="field on the cut planes (shear: the wall coloured by the wall shear of its wall layer)")
     p.add_argument("--angle", type=float, default=270.0, help="revolution angle in degrees (default 270: a cut-away)")
     p.add_argument("--png", help="render off-screen to this PNG file instead of opening a window (required without a display)")
     p.add_argument("--meridional", action="store_true", help="flat meridional view with streamlines and axes")
@@ -39,6 +40,9 @@ def run(args) -> int:
     from ..view.scene import ViewOptions, render
 
     run = run_dir(args.run_dir, need_fields=True)
+    if args.field == "shear" and args.meridional:
+        err("--field shear: the wall shear is shown on the wall of the 3D view; leave out --meridional")
+        return 2
     if args.field == "mach" and not json.loads((run / "summary.json").read_text())["flow"].get("compressible"):
         err("--field mach: this run is of a liquid (no Mach number); use pressure, speed or cp")
         return 2
@@ -63,6 +67,6 @@ def run(args) -> int:
         return 2
     lo, hi = info.field_range
     if png is not None:
-        unit = {"pressure": f" {args.units} gauge", "speed": " m/s", "mach": "", "cp": ""}[args.field]
+        unit = {"pressure": f" {args.units} gauge", "speed": " m/s", "mach": "", "cp": "", "shear": " Pa wall shear"}[args.field]
         out(f"wrote {png} ({args.field} {lo:.4g} to {hi:.4g}{unit})")
     return 0

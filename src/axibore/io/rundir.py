@@ -35,7 +35,10 @@ def resolved_case_text(case) -> str:
 WALL_HEADER = (
     "axibore wall table: faces in order of arc length s from the inlet; p_gauge relative to ambient; "
     "n = unit normal out of the fluid; cumulative_force_x_N = axial force on the part from the inlet to this face; "
-    "onedim_dev = (p_2D - p_1D) / (outlet dynamic pressure)"
+    "onedim_dev = (p_2D - p_1D) / (outlet dynamic pressure); with the wall layer (viscous.model = \"integral\"): "
+    "tau_w_Pa wall shear along the flow, cf, theta_m momentum and delta_star_m displacement thickness, shape_factor, "
+    "re_theta, layer_state (0 laminar, 1 turbulent, 2 separated), edge_speed_m_s the smoothed speed the layer was "
+    "marched with, cumulative_friction_x_N; NaN where separated"
 )
 
 
@@ -70,6 +73,11 @@ def write_run(res, out: Path) -> None:
         dev = res.onedim.deviation.get(name)
         if dev is not None:
             cols["onedim_dev"] = dev
+        if getattr(res, "viscous", None) is not None and name in res.viscous.chains:
+            cols.update(res.viscous.chains[name].columns())
+            disp = res.viscous.displacement
+            if disp is not None and name in disp.wall_pressure:
+                cols["p_displaced_gauge_Pa"] = disp.wall_pressure[name]
         write_csv(out / f"{name}.csv", cols, WALL_HEADER)
         tables[name] = cols
     write_wall_load(out, tables)

@@ -90,6 +90,8 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("forces", "per_bolt_N", lambda r: r.joints[0].per_bolt_N if r.joints else None),
     ("forces", "bolts", lambda r: r.joints[0].bolts if r.joints else None),
     ("forces", "jet_reaction_N", lambda r: r.jet_reaction_N),
+    ("forces", "friction_x_N", lambda r: r.viscous.friction_x_N if r.viscous is not None else None),
+    ("forces", "total_with_friction_x_N", lambda r: r.forces.total_x_N + r.viscous.friction_x_N if r.viscous is not None else None),
     # 1D comparison
     ("onedim", "force_dev_rel", lambda r: r.onedim.force_dev_rel),
     ("onedim", "wall_pressure_max_dev", lambda r: r.onedim.wall_pressure_max_dev),
@@ -150,10 +152,14 @@ def build_summary(res) -> dict:
         {"x_m": k.x, "r_m": k.r, "turn_deg": math.degrees(k.turn), "convex": k.convex, "boundary": str(k.boundary), "key": k.key}
         for k in res.profile.corners()
     ]
+    from ..viscous.stage import CAUTION as VISCOUS_CAUTION, summary_section
+
+    out["viscous"] = summary_section(res)
     out["joints"] = [j.as_dict() for j in res.joints]
     out["seconds"] = dict(res.seconds)
     out["warnings"] = list(res.checks.warnings)
-    out["cautions"] = list(CAUTIONS) + ([JOINT_CAUTION] if res.joints else [])
+    out["cautions"] = list(CAUTIONS) + ([JOINT_CAUTION] if res.joints else []) + \
+        ([VISCOUS_CAUTION] if getattr(res, "viscous", None) is not None else [])
     out["notes"] = list(NOTES)
     return finite(out)
 

@@ -222,11 +222,48 @@ def speed_plot(run, path=None, lines: int = 12) -> Path:
     return save(fig, Path(path or run["dir"] / "plot_speed.png"))
 
 
+def wall_layer_plot(run, path=None) -> Path:
+    """Wall shear and shape factor of the wall layer along x, separated ranges shaded."""
+    run = _as_run(run)
+    s = run["summary"]
+    v = s.get("viscous") or {}
+    fig, (ax1, ax2) = figure(7.2, 5.0, nrows=2, ncols=1, sharex=True)
+    for a, b in v.get("separation_x_ranges_m", []):
+        for ax in (ax1, ax2):
+            ax.axvspan(a * 1e3, b * 1e3, color="#e8a09a", alpha=0.45, lw=0)
+    for name, t in run["tables"].items():
+        if "tau_w_Pa" not in t:
+            continue
+        ax1.plot(t["x_m"] * 1e3, t["tau_w_Pa"], color=COLOURS[name], lw=1.4, label=name)
+        ax2.plot(t["x_m"] * 1e3, t["shape_factor"], color=COLOURS[name], lw=1.4, label=name)
+    for x in v.get("transition_x_m", []):
+        for ax in (ax1, ax2):
+            ax.axvline(x * 1e3, color=COLOURS["onedim"], ls=":", lw=1)
+    h_sep = (v.get("settings") or {}).get("separation_shape_factor")
+    if h_sep:
+        ax2.axhline(h_sep, color="#c0392b", ls="--", lw=0.9, label=f"turbulent separation H = {h_sep:g}")
+    ax1.set_ylabel("wall shear [Pa]")
+    ax2.set_ylabel("shape factor H = δ*/θ")
+    ax2.set_xlabel("x [mm]")
+    for ax in (ax1, ax2):
+        _plain_ticks(ax)
+        ax.grid(alpha=0.3)
+    shaded = "; shaded: separated (indicative only)" if v.get("separation_x_ranges_m") else ""
+    trans = "; dotted: transition" if v.get("transition_x_m") else ""
+    ax1.set_title(f"Wall layer (Re {v.get('reynolds_number', float('nan')):.3g}){shaded}{trans}", fontsize=9)
+    ax1.legend(fontsize=7.5, loc="best")
+    ax2.legend(fontsize=7.5, loc="best")
+    fig.tight_layout()
+    return save(fig, Path(path or run["dir"] / "plot_wall_layer.png"))
+
+
 def all_plots(run_dir, unit: str = "bar") -> dict[str, Path]:
     """Every plot of a run; the field plots only where fields.vtu was kept (a grid study keeps it
     for its finest level unless asked)."""
     run = load_run(run_dir)  # read once for all plots
     out = {"wall_pressure": wall_pressure_plot(run, unit=unit), "axial_force": axial_force_plot(run)}
+    if any("tau_w_Pa" in t for t in run["tables"].values()):
+        out["wall_layer"] = wall_layer_plot(run)
     if (Path(run_dir) / "fields.vtu").exists():
         out["mesh"] = mesh_plot(run)
         out["speed"] = speed_plot(run)

@@ -103,6 +103,56 @@ def headline_rows(s: dict, unit: str = "bar") -> list[tuple[str, str, str]]:
     return rows
 
 
+def viscous_section(s: dict, unit: str = "bar") -> list[str]:
+    """The wall-layer table of the report (nothing when no layer ran)."""
+    v = s.get("viscous") or {}
+    if v.get("model") != "integral":
+        return []
+    e = html.escape
+    k = 1.0 / PRESSURE_UNITS[unit]
+    f = s["forces"]
+    rows = [
+        ("Reynolds number (" + v["reynolds_basis"].split(":")[0] + f", on {v['reynolds_length_m'] * 1e3:.4g} mm)",
+         "viscous.reynolds_number", _fmt(v["reynolds_number"], "", 4)),
+        ("Viscosity", "viscous.viscosity_Pa_s", _fmt(v["viscosity_Pa_s"], "Pa s", 5)),
+        ("Friction force (wall shear, on the part, +x downstream)", "forces.friction_x_N", _fmt(f["friction_x_N"], "N", 5)),
+        ("Total axial force with friction", "forces.total_with_friction_x_N", _fmt(f["total_with_friction_x_N"], "N", 6)),
+        ("Momentum balance with the layer's momentum integral", "viscous.momentum_with_friction_x_N",
+         _fmt(v["momentum_with_friction_x_N"], "N", 6)),
+        ("Viscous discharge coefficient", "viscous.discharge_coefficient",
+         _fmt(v["discharge_coefficient"], "", 6) if v["discharge_coefficient"] is not None else v["discharge_coefficient_note"]),
+        ("Loss coefficient K", "viscous.loss_coefficient",
+         _fmt(v["loss_coefficient"], "", 4) if v["loss_coefficient"] is not None else v["loss_coefficient_note"]),
+        ("Head loss", "viscous.head_loss_m", _fmt(v["head_loss_m"], "m", 4)),
+        ("Total-pressure loss", "viscous.total_pressure_loss_Pa", _fmt(v["total_pressure_loss_Pa"], unit, 4, k)),
+        ("Transition at x", "viscous.transition_x_m", ", ".join(_fmt(x, "mm", 4, 1e3) for x in v["transition_x_m"]) or "none"),
+        ("Separated ranges", "viscous.separation_x_ranges_m",
+         ", ".join(f"{a * 1e3:.4g} to {b * 1e3:.4g} mm" for a, b in v["separation_x_ranges_m"]) or "none"),
+        ("Largest shape factor", "viscous.max_shape_factor", _fmt(v["max_shape_factor"], "", 4)),
+    ]
+    d = v.get("displacement")
+    out = ["<h2>Wall layer</h2><table><tr><th>quantity</th><th>value</th></tr>"]
+    for label, key, text in rows:
+        out.append(f"<tr><td>{e(label)}</td>{_num_nested(s, key, text)}</tr>")
+    if d:
+        out.append(f"<tr><td>Displacement pass ({e(d['mode'])}, {d['passes']} re-solves): change of the wall force</td>"
+                   f"<td class='num'>{e(_fmt(d['force_change_N'], 'N', 5))} ({d['force_change_rel']:+.3%})</td></tr>")
+        out.append(f"<tr><td>  change of the flow / inlet pressure</td><td class='num'>{d['flow_change_rel']:+.3%} / "
+                   f"{e(_fmt(d['inlet_pressure_change_Pa'], unit, 4, k))}</td></tr>")
+    out.append("</table>")
+    out.append(f"<p class='meta'>{e(v['discharge_coefficient_note'])}. {e(v['loss_coefficient_note'])}. Coupling: "
+               f"{e(v['coupling'])}.</p>")
+    out.append(f"<div class='caution'><strong>Wall layer.</strong> {e(v['caution'])}</div>")
+    return out
+
+
+def _num_nested(summary: dict, key: str, text: str) -> str:
+    section, name = key.split(".")
+    v = summary.get(section, {}).get(name)
+    raw = repr(v) if isinstance(v, (int, float)) and not isinstance(v, bool) else ""  # numbers only
+    return f'<td class="num" data-key="{key}" data-value="{html.escape(raw)}">{html.escape(text)}</td>'
+
+
 def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | Path | None = None, unit: str = "bar") -> Path:
     """Write run_dir/report.html (the plots are drawn afresh from the run directory).
 
@@ -153,6 +203,7 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     parts.append(f"<tr><td>x ranges where the wall pressure departs from 1D by more than "
                  f"{s['onedim']['breakdown_threshold']:.3g} of the outlet dynamic pressure</td><td class='num'>{e(rtext)}</td></tr>")
     parts.append("</table>")
+    parts += viscous_section(s, unit)
     if s.get("joints"):
         parts.append("<h2>Joint loads (hydrodynamic part)</h2><table><tr><th>joint</th><th>x</th><th>bore D / gasket G</th>"
                      "<th>gauge pressure</th><th>force on the part beyond</th><th>gasket annulus</th><th>load</th><th>per bolt</th></tr>")
@@ -176,11 +227,13 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
         "wall_pressure": "Wall gauge pressure along the axis: the 2D result and the 1D model (Bernoulli and continuity with the local flow area).",
         "axial_force": "Cumulative axial force on the part from the inlet; its end value is the wall force.",
         "speed": "Speed in the meridional plane with streamlines.",
+        "wall_layer": "Wall layer: wall shear along the flow and shape factor; shaded: separated ranges, where the inviscid "
+                      "wall pressure is not reliable; dotted: transition.",
         "mesh": "The mesh, with a zoom at the minimum wall pressure.",
         "gridstudy": "Grid convergence of the grid study this run belongs to.",
     }
     parts.append("<h2>Plots</h2>")
-    for key in ("view3d", "wall_pressure", "axial_force", "speed", "mesh", "gridstudy"):
+    for key in ("view3d", "wall_pressure", "axial_force", "wall_layer", "speed", "mesh", "gridstudy"):
         if key in figs:
             parts.append(f"<figure><img alt='{e(key)}' src='{_img(Path(figs[key]))}'><figcaption>{e(captions[key])}</figcaption></figure>")
     parts.append("<h2>The case as understood (SI with units)</h2><pre>" + e("\n".join(understood)) + "</pre>")

@@ -19,6 +19,7 @@ FIELDS = {
     "speed": ("speed_m_s", "speed [m/s]"),
     "mach": ("mach", "Mach number"),
     "cp": ("cp", "Cp = (p - p_out) / q_out"),
+    "shear": ("speed_m_s", "wall shear [Pa]"),  # the wall coloured by its shear (the cut planes show the speed)
 }
 
 
@@ -146,8 +147,12 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
            "fmt": "%.4g", "title_font_size": 16, "label_font_size": 13, "color": "black"}
     planes = [grid] if angle_deg >= 360 else [grid, _rotated(grid, np.radians(angle_deg))]
     for k, g in enumerate(planes):
+        if field == "shear":
+            break
         plotter.add_mesh(g, scalars=name, cmap="viridis", clim=frange, show_scalar_bar=(k == 0), scalar_bar_args=bar)
 
+    if field == "shear":
+        return _shear_cutaway(plotter, run_dir, grid, angle_deg, opts, surfaces, planes, bar)
     wall_ranges = [(float(w.point_data[WALL_P].min()), float(w.point_data[WALL_P].max())) for w in surfaces]
     wr = (min(a for a, _ in wall_ranges), max(b for _, b in wall_ranges)) if wall_ranges else frange
     for surf in surfaces:
@@ -177,6 +182,61 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
     plotter.reset_camera()
     plotter.camera.Zoom(1.15)
     return SceneInfo(b, field, frange, (float(wr[0]), float(wr[1])))
+
+
+WALL_TAU = "wall shear [Pa]"
+
+
+def _shear_cutaway(plotter, run_dir: Path, grid, angle_deg, opts, surfaces, planes, bar) -> SceneInfo:
+    """The cut-away with the wall coloured by the wall shear of the wall layer (grey cut planes)."""
+    import pyvista as pv
+
+    tau_surfaces = []
+    for part in ("wall", "centerbody"):
+        src = run_dir / f"{part}.csv"
+        if not src.exists():
+            continue
+        cols = read_csv(src)
+        if "tau_w_Pa" not in cols:
+            raise ValueError("this run has no wall layer (viscous.model = \"none\"): no wall shear to show")
+        tau = np.where(np.isfinite(cols["tau_w_Pa"]), cols["tau_w_Pa"], 0.0)  # separated: no shear
+        segments = max(8, int(round(angle_deg / 360 * SEGMENTS)))
+        pts, quads, node_t, _ = revolve({**cols, "p_gauge_Pa": tau}, segments=segments, angle_deg=angle_deg)
+        surf = pv.PolyData(pts, np.hstack([np.full((len(quads), 1), 4), quads]).ravel())
+        surf.point_data[WALL_TAU] = node_t
+        if opts.x_range is not None:
+            surf = surf.clip_box((opts.x_range[0], opts.x_range[1], -1e9, 1e9, -1e9, 1e9), invert=False)
+        if surf.n_points:
+            tau_surfaces.append(surf)
+    if not tau_surfaces:
+        raise ValueError("no wall of this run lies in the view")
+    lo = min(float(sf.point_data[WALL_TAU].min()) for sf in tau_surfaces)
+    hi = max(float(sf.point_data[WALL_TAU].max()) for sf in tau_surfaces)
+    frange = opts.colour_range or (lo, hi)
+    for g in planes:
+        plotter.add_mesh(g, color="#c8ced4", opacity=0.5, show_scalar_bar=False)
+    for k, sf in enumerate(tau_surfaces):
+        plotter.add_mesh(sf, scalars=WALL_TAU, cmap="plasma", clim=frange, show_scalar_bar=(k == 0),
+                         scalar_bar_args={**bar, "title": WALL_TAU})
+    gb = grid.bounds
+    b = revolved_bounds(gb[0], gb[1], gb[3], angle_deg)
+    x0, x1 = b[0], b[1]
+    rmax = max(abs(v) for v in b[2:])
+    plotter.add_mesh(pv.Line((x0, 0, 0), (x1, 0, 0)), color="black", line_width=2)
+    plotter.add_text("flow in +x; wall coloured by the wall shear (separated: 0)", position="upper_left", font_size=10,
+                     color="black")
+    plotter.set_background("white")
+    tm = np.radians(angle_deg + 0.5 * (360.0 - angle_deg)) if angle_deg < 360 else np.radians(-45.0)
+    dist = 2.5 * rmax + 1.25 * (x1 - x0)
+    xc = 0.5 * (x0 + x1)
+    plotter.camera_position = [(xc - 0.45 * (x1 - x0), dist * np.cos(tm), dist * np.sin(tm)), (xc, 0, 0),
+                               (0, np.sin(tm), -np.cos(tm))]
+    plotter.camera.Azimuth(-28.0)
+    plotter.camera.Elevation(18.0)
+    plotter.camera.OrthogonalizeViewUp()
+    plotter.reset_camera()
+    plotter.camera.Zoom(1.15)
+    return SceneInfo(b, "shear", frange, frange)
 
 
 def build_meridional(plotter, run_dir: str | Path, field: str = "speed", lines: int = 12,

@@ -100,3 +100,12 @@ def viscosity(
             raise ValueError(f"no Sutherland constants for gas {fluid.name!r} (known: {', '.join(SUTHERLAND)})")
         return sutherland(t, *SUTHERLAND[key])
     raise ValueError(f"unknown fluid kind {fluid.kind!r}")
+
+
+def viscosity_known(fluid: Fluid) -> bool:
+    """True when ``viscosity`` can give this fluid's viscosity without more input."""
+    if fluid.kind in ("water", "seawater"):
+        return True
+    if fluid.kind == "liquid":
+        return getattr(fluid, "viscosity", None) is not None
+    return fluid.name.lower() in SUTHERLAND

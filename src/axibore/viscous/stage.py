@@ -1,0 +1,718 @@
+"""The viscous stage: an integral wall layer on every wall chain of a solved flow (not a solver).
+
+``wall_layers(case, profile, flow, tables, onedim)`` takes the inviscid result and returns a
+``ViscousResult``: per wall face the momentum and displacement thickness, shape factor, skin
+friction, wall shear and state (laminar / turbulent / separated), and for the run the friction
+force, Reynolds number, viscous discharge coefficient, loss coefficient and head loss, the
+transition and separation positions and the warnings a separated layer calls for.
+
+How a chain is marched (the methods are in ``layer.py``)
+--------------------------------------------------------
+- Edge speed: the inviscid wall speed of the faces, smoothed by a local linear fit over a few
+  faces (Gaussian weights, width ``SMOOTH_FACES`` faces). A wall layer responds to the pressure
+  over many layer thicknesses; cell-to-cell noise of the reconstructed wall speed and the
+  near-singular speed of a mild corner, both at the scale of one cell, would otherwise show as
+  strong local pressure gradients and spurious separation. Linear trends are kept exactly, also
+  at the chain ends (no end bias, no outlet-plane artefact).
+- Runs: a layer starts at the upstream end of the chain: a leading edge at the inlet plane (with
+  the momentum thickness given or grown over ``upstream_length``), or a stagnation point where a
+  chain starts on the axis. A new layer starts at every concave corner turning by
+  ``RESTART_CORNER_DEG`` or more (the inviscid flow stagnates in such a corner, e.g. the inlet
+  face of a flow nozzle in its pipe): the layer arriving there decelerates to zero speed and
+  separates (a corner vortex), and a new laminar layer grows from the stagnation point.
+- Separation ends a run: the faces up to the next restart (or the end of the chain) are marked
+  separated, their values NaN, and counted with no wall shear.
+
+Derived quantities
+------------------
+- Friction force: F_f = sum over faces tau_w t_x dA (t the unit tangent in the direction of the
+  flow, dA the full face area), by the fluid on the part, +x downstream.
+- The momentum integral of the layer, sum int t_x [d(rho P ue^2 theta)/ds + rho P delta* ue
+  due/ds] ds (P the perimeter 2 pi r, 1 per unit depth when planar), is the same force from the
+  von Karman momentum equation (derived); it reconciles the wall-shear integral with the layer's
+  momentum balance.
+- Discharge coefficient: Q = C E A_m sqrt(2 dp / rho), E = 1/sqrt(1 - (A_m/A_1)^2), A_m the
+  smallest flow area normal to the axis between the two stations, A_1 the area at the upstream
+  one, dp the static pressure difference between them: the wall pressures at ``viscous.taps``
+  (ISO 5167 style wall tappings), else the mean pressures of the inlet and outlet planes. With the
+  layer, the core speed at a station rises by 1/(1 - B), B = sum P delta* / A the blockage
+  (continuity), and its pressure falls accordingly (Bernoulli in the inviscid core; the pressure
+  is carried unchanged through a thin layer). Gases: the quasi-1D discharge coefficient times
+  (1 - B) at the narrowest section.
+- Loss coefficient: K = dp_0 / (rho V^2 / 2), dp_0 the mass-averaged total-pressure loss from
+  inlet to outlet = the growth of the layers' kinetic-energy deficit sum (rho/2) P ue^3 delta_3 /
+  Q (kinetic-energy integral equation: its growth is the dissipation in the layer; derived), V
+  the larger of the mean inlet and outlet velocities (common practice); energy thickness
+  delta_3 = theta 4H/(3H - 1), exact for power-law velocity profiles (derived; Blasius 1.572
+  against 1.53 from it). Head loss dp_0 / (rho g), g = 9.80665 m/s^2 (standard gravity).
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..names import Boundary
+from . import layer as L
+
+PIPE_TRANSITION_RE = 2300.0  # pipe flow is turbulent above about this Reynolds number (common practice)
+DEFAULT_UPSTREAM_DIAMETERS = 10.0  # a turbulent start's layer grown over this many inlet diameters (a setting)
+RESTART_CORNER_DEG = 30.0  # concave corners turning at least this much restart the layer (stagnation)
+SMOOTH_FACES = 2.0  # least width (in faces) of the local linear smoothing of the wall speed
+SMOOTH_THETAS = 10.0  # ... and over the layer's own thickness, about 10 momentum thicknesses (delta_99)
+G_STANDARD = 9.80665  # m/s^2, standard gravity (3rd CGPM, 1901)
+THICK_LAYER = 0.1  # delta* above this fraction of the local channel height: the thin-layer view is stretched
+CAUTION = ("A boundary-layer estimate is not a turbulence-resolving simulation; beyond separation the results are "
+           "indicative only.")
+STATE_CODES = "layer_state: 0 laminar, 1 turbulent, 2 separated, -1 no layer"
+
+
+@dataclass(frozen=True)
+class ViscousSettings:
+    start: str | None = None  # None: by the inlet Reynolds number (resolve)
+    start_momentum_thickness: float | None = None
+    upstream_length: float | None = None
+    transition: str | float = "michel"  # "michel" | "none" | x [m] where it is forced
+    separation_shape_factor: float = 2.4
+    displacement: str = "none"
+    displacement_tolerance: float = 1e-3
+    taps: tuple[float, float] | None = None
+    coupling: str = "blockage"
+
+    @classmethod
+    def from_case(cls, case) -> "ViscousSettings":
+        v = case.viscous
+        return cls(v.start, v.start_momentum_thickness, v.upstream_length, v.transition, v.separation_shape_factor,
+                   v.displacement, v.displacement_tolerance, v.taps, v.coupling)
+
+    def resolve(self, reynolds: float, d_h: float) -> "ViscousSettings":
+        """The settings with the defaults that depend on the flow filled in: a start turbulent above the
+        pipe-flow Reynolds number, with the layer grown over 10 inlet diameters of straight pipe."""
+        from dataclasses import replace
+
+        start = self.start or ("turbulent" if reynolds >= PIPE_TRANSITION_RE else "laminar")
+        upstream = self.upstream_length
+        if start == "turbulent" and upstream is None and self.start_momentum_thickness is None:
+            upstream = DEFAULT_UPSTREAM_DIAMETERS * d_h
+        return replace(self, start=start, upstream_length=upstream)
+
+    def as_dict(self) -> dict:
+        return {"start": self.start, "start_momentum_thickness_m": self.start_momentum_thickness,
+                "upstream_length_m": self.upstream_length,
+                "transition": self.transition if isinstance(self.transition, str) else f"forced at x = {self.transition:.6g} m",
+                "separation_shape_factor": self.separation_shape_factor, "displacement": self.displacement,
+                "displacement_tolerance": self.displacement_tolerance,
+                "taps_x_m": list(self.taps) if self.taps else None, "coupling": self.coupling,
+                "restart_corner_deg": RESTART_CORNER_DEG, "smoothing_faces": SMOOTH_FACES,
+                "turbulent_start_shape_factor": L.TURBULENT_START_H}
+
+
+@dataclass(frozen=True, eq=False)
+class ChainLayer:
+    """The wall layer on one chain, per face in the order of its WallTable (arc length)."""
+
+    name: str
+    faces: np.ndarray
+    x: np.ndarray
+    r: np.ndarray
+    s: np.ndarray
+    ue: np.ndarray  # the smoothed inviscid edge speed the layer was marched with [m/s]
+    theta: np.ndarray
+    delta_star: np.ndarray
+    H: np.ndarray
+    cf: np.ndarray
+    tau_w: np.ndarray  # [Pa], along the flow direction on the wall
+    state: np.ndarray  # 0 laminar, 1 turbulent, 2 separated
+    re_theta: np.ndarray
+    tx: np.ndarray  # x component of the unit tangent in the flow direction
+    area: np.ndarray  # full face area [m^2] (per unit depth when planar)
+    rho: np.ndarray
+    perimeter: np.ndarray  # 2 pi r (1 when planar)
+    runs: tuple[tuple[float, str], ...]  # (x where a layer starts, how)
+    transitions_x: tuple[float, ...]
+    separations: tuple[tuple[float, float, str], ...]  # (x from, x to, "laminar" | "turbulent")
+    momentum_friction_x_N: float  # the same force from the momentum integral of the layer
+    start_deficit_W: float  # kinetic-energy deficit flux (rho/2) P ue^3 delta_3 entering at the inlet plane [W]
+    end_deficit_W: float  # ... leaving at the downstream end (NaN when separated there)
+
+    @property
+    def shear_x(self) -> np.ndarray:
+        """Axial friction force per face [N] (0 on separated faces)."""
+        return np.where(np.isfinite(self.tau_w), self.tau_w, 0.0) * self.tx * self.area
+
+    @property
+    def friction_x_N(self) -> float:
+        return float(self.shear_x.sum())
+
+    def columns(self) -> dict[str, np.ndarray]:
+        return {"tau_w_Pa": self.tau_w, "cf": self.cf, "theta_m": self.theta, "delta_star_m": self.delta_star,
+                "shape_factor": self.H, "re_theta": self.re_theta, "layer_state": self.state.astype(float),
+                "edge_speed_m_s": self.ue, "cumulative_friction_x_N": np.cumsum(self.shear_x)}
+
+
+@dataclass(frozen=True, eq=False)
+class ViscousResult:
+    model: str
+    settings: ViscousSettings
+    viscosity_Pa_s: float  # at the inlet
+    kinematic_viscosity_m2_s: float
+    viscosity_source: str
+    chains: dict[str, ChainLayer]
+    reynolds_number: float
+    reynolds_length_m: float
+    reynolds_basis: str
+    friction_x_N: float
+    momentum_friction_x_N: float
+    discharge_coefficient: float | None
+    discharge_coefficient_inviscid: float | None
+    discharge_coefficient_note: str
+    loss_coefficient: float | None
+    loss_coefficient_note: str
+    total_pressure_loss_Pa: float | None
+    head_loss_m: float | None
+    transition_x_m: list[float]
+    separation_x_ranges_m: list[list[float]]
+    separation_kind: list[str]
+    max_shape_factor: float | None
+    max_shape_factor_x_m: float | None
+    warnings: list[str]
+    seconds: float
+    coupling_note: str = ""
+    displacement: object | None = None  # displacement.DisplacementResult when the pass ran
+    notes: list[str] = field(default_factory=list)
+
+    @property
+    def separated(self) -> bool:
+        return bool(self.separation_x_ranges_m)
+
+
+# --- helpers -------------------------------------------------------------------------------------
+
+
+def smooth_speed(u: np.ndarray, width=SMOOTH_FACES) -> np.ndarray:
+    """Local linear fit of ``u`` at every station over the stations within sqrt(3) ``width`` of it
+    (a window of the same variance as a Gaussian of standard deviation ``width`` stations; a
+    number or one per station, shrunk at the ends): noise at the scale of a station is removed,
+    linear trends are kept exactly, at the ends too. O(n) by cumulative sums, whatever the width."""
+    n = u.size
+    w_i = np.broadcast_to(np.asarray(width, float), u.shape)
+    if n < 3 or not np.any(w_i > 0):
+        return u.copy()
+    i = np.arange(n)
+    k = np.maximum(np.ceil(np.sqrt(3.0) * w_i).astype(np.int64), 1)
+    lo, hi = np.maximum(i - k, 0), np.minimum(i + k, n - 1) + 1  # window [lo, hi)
+    t = i.astype(float)
+
+    def window_sum(a):
+        c = np.r_[0.0, np.cumsum(a)]
+        return c[hi] - c[lo]
+
+    # sums about each station's own index (t - i), from the cumulative sums of 1, t, t^2, u, t u
+    s0 = (hi - lo).astype(float)
+    s1 = window_sum(t) - i * s0
+    s2 = window_sum(t * t) - 2.0 * i * window_sum(t) + i * i * s0
+    sy = window_sum(u)
+    sty = window_sum(t * u) - i * sy
+    det = s0 * s2 - s1 * s1
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where(det > 1e-9 * s0 * s0, (s2 * sy - s1 * sty) / det, sy / s0)
+
+
+def _face_index(bv_faces: np.ndarray, faces: np.ndarray) -> np.ndarray:
+    pos = np.argsort(bv_faces)
+    return pos[np.searchsorted(bv_faces[pos], faces)]
+
+
+def _viscosity(case, flow) -> tuple[float, str]:
+    from .viscosity import viscosity
+
+    f = case.fluid
+    p_abs = flow.inlet_pressure + case.ambient_pressure
+    if f.kind == "water":
+        return viscosity(f, None, p_abs), "IAPWS 2008 (Huber et al. 2009), at the fluid temperature and inlet pressure"
+    if f.kind == "seawater":
+        return viscosity(f, None, p_abs), ("pure water (IAPWS 2008) times the salinity factor of Sharqawy et al. 2010, "
+                                           "35 g/kg (common practice)")
+    if f.kind == "liquid":
+        return viscosity(f, None, p_abs), "given (fluid.viscosity)"
+    t_in = float(np.mean((flow.inlet.pressure + case.ambient_pressure) / (flow.inlet.density * f.gas_constant)))
+    return viscosity(f, t_in, p_abs), "Sutherland's law (White, Viscous Fluid Flow, table 1-2), at the wall temperature"
+
+
+def _gas_mu(case, T: np.ndarray) -> np.ndarray:
+    from .viscosity import SUTHERLAND
+
+    mu0, t0, s = SUTHERLAND[case.fluid.name.lower()]
+    return mu0 * (T / t0) ** 1.5 * (t0 + s) / (T + s)
+
+
+def _tangent_x(table) -> np.ndarray:
+    """x component of the unit tangent of each face, in the direction of increasing arc length."""
+    nx, nr = table.nx, table.nr
+    if table.s.size < 2:
+        return -nr
+    gx, gr = np.gradient(table.x, table.s), np.gradient(table.r, table.s)
+    sign = np.sign(gx * nr - gr * nx)  # t = +-(n_r, -n_x), oriented along the chain
+    sign = np.where(sign == 0, 1.0, sign)
+    return sign * nr
+
+
+def _restarts(profile, name: str, s_faces: np.ndarray) -> list[tuple[float, float, float]]:
+    """(s, x, r) of the concave corners of a chain that restart the layer."""
+    from ..post.loads import arc_length
+
+    out = []
+    poly = profile.chain_points(name)
+    for c in profile.corners():
+        if str(c.boundary) == name and not c.convex and abs(math.degrees(c.turn)) >= RESTART_CORNER_DEG:
+            sc = float(arc_length(np.array([[c.x, c.r]]), poly)[0])
+            if s_faces[0] < sc < s_faces[-1]:
+                out.append((sc, c.x, c.r))
+    return sorted(out)
+
+
+def _start_theta(settings: ViscousSettings, ue0: float, nu0: float, r0: float, planar: bool) -> float | None:
+    if settings.start_momentum_thickness is not None:
+        return settings.start_momentum_thickness
+    Lu = settings.upstream_length
+    if not Lu:
+        return None
+    if settings.start == "laminar":
+        return math.sqrt(0.45 * nu0 * Lu / ue0)  # Thwaites' flat plate (the method's own value)
+    theta = 0.036 * Lu * (ue0 * Lu / nu0) ** -0.2  # one-seventh law, theta = (7/72) delta, delta = 0.37 x Re_x^-0.2
+    return theta if planar else min(theta, 7.0 / 72.0 * r0)  # at most a fully developed pipe layer (delta = r)
+
+
+def _energy_thickness(theta, H):
+    return theta * 4.0 * H / (3.0 * H - 1.0)
+
+
+# --- one chain -----------------------------------------------------------------------------------
+
+
+def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, settings: ViscousSettings, profile,
+                planar: bool, speed: np.ndarray | None = None, width: np.ndarray | None = None
+                ) -> tuple[ChainLayer, np.ndarray]:
+    """The layer on one chain from the wall speed ``speed`` (default the table's), smoothed over
+    ``width`` faces per face (default: a first march at the face scale, then over its layer
+    thickness). Returns the layer and the smoothing width its thickness calls for."""
+    n = table.s.size
+    speed = table.speed if speed is None else speed
+    width_next = np.full(n, SMOOTH_FACES)
+    s_all, x_all, r_all = table.s, table.x, table.r
+    perim = np.ones(n) if planar else 2.0 * math.pi * r_all
+    tx = _tangent_x(table)
+    area = table.length if planar else 2.0 * math.pi * r_all * table.length
+    theta = np.full(n, np.nan)
+    dstar = np.full(n, np.nan)
+    H = np.full(n, np.nan)
+    cf = np.full(n, np.nan)
+    tau = np.full(n, np.nan)
+    re_th = np.full(n, np.nan)
+    state = np.full(n, L.SEPARATED, np.int8)
+    ue_all = np.zeros(n)
+    runs, transitions, separations = [], [], []
+    mom_fx = 0.0
+    start_def, end_def = 0.0, float("nan")
+
+    chain0 = profile.chain_points(name)[0]
+    bounds = [(float(0.0), float(chain0[0]), float(chain0[1]), "start")]
+    bounds += [(sc, xc, rc, "corner") for sc, xc, rc in _restarts(profile, name, s_all)]
+    edges = [np.searchsorted(s_all, b[0]) for b in bounds] + [n]
+    for k, (sb, xb, rb, how) in enumerate(bounds):
+        sel = np.arange(edges[k], edges[k + 1])
+        if sel.size < 2:
+            continue
+        stagnation = how == "corner" or (rb <= profile.tol and not planar)
+        th0 = None
+        start = "laminar"
+        if how == "start":
+            start = settings.start if not stagnation else "laminar"
+            runs.append((xb, "inlet plane" if not stagnation else "stagnation point on the axis"))
+        else:
+            runs.append((xb, "stagnation point in a concave corner"))
+        floor = 1e-9 * max(float(speed.max()), 1e-30)
+        passes = 2 if width is None else 1
+        w_run = SMOOTH_FACES if width is None else width[sel]
+        for _ in range(passes):  # smoothed at the face scale, then again over the layer thickness of the first march
+            u = np.maximum(smooth_speed(speed[sel], w_run), floor)
+            # a station at the start of the run: the stagnation point, or the leading edge at the inlet plane
+            s_run = np.r_[0.0, s_all[sel] - sb]
+            ue_run = np.r_[0.0 if stagnation else u[0], u]
+            r_run = np.r_[rb, r_all[sel]] if not planar else np.ones(sel.size + 1)
+            nu_run = np.r_[nu[sel[0]], nu[sel]]
+            rho_run = np.r_[rho[sel[0]], rho[sel]]
+            keep = np.r_[True, np.diff(s_run) > 0]
+            s_run, ue_run, r_run, nu_run, rho_run = s_run[keep], ue_run[keep], r_run[keep], nu_run[keep], rho_run[keep]
+            face_in_run = sel[keep[1:]]
+            if how == "start" and not stagnation:
+                th0 = _start_theta(settings, float(ue_run[0]), float(nu_run[0]), float(r_run[0]), planar)
+            tr = settings.transition
+            if isinstance(tr, float):
+                xs = x_all[face_in_run]
+                hit = np.flatnonzero(xs >= tr)
+                if not hit.size:
+                    tr = "none"
+                else:
+                    s_tr = float(s_run[1 + hit[0]]) if hit[0] > 0 else 0.0
+                    if s_tr <= 0.0 and not stagnation and not th0:
+                        s_tr = float(s_run[1])  # a sharp leading edge has no layer to trip at its very edge
+                    tr = s_tr
+            w = L.march(s_run, r_run, ue_run, nu_run, planar=planar, start=start, theta0=th0, transition=tr,
+                        turbulent_separation_H=settings.separation_shape_factor, rho=rho_run)
+            th = w.theta[1:]
+            fin = np.isfinite(th)
+            if not fin.any():
+                break
+            th = np.interp(np.arange(th.size), np.flatnonzero(fin), th[fin])  # held past separation
+            h_face = np.maximum(table.length[face_in_run], 1e-300)
+            width_run = np.maximum(SMOOTH_FACES, SMOOTH_THETAS * th / h_face)
+            width_next[face_in_run] = width_run
+            if face_in_run.size != sel.size:
+                break
+            w_run = width_run
+        ue_all[sel] = u
+        i = slice(1, None)
+        theta[face_in_run], dstar[face_in_run], H[face_in_run] = w.theta[i], w.delta_star[i], w.H[i]
+        cf[face_in_run], tau[face_in_run], re_th[face_in_run] = w.cf[i], w.tau_w[i], w.Re_theta[i]
+        state[face_in_run] = w.state[i]
+        if w.transition_s is not None:
+            transitions.append(float(np.interp(w.transition_s, s_run[1:], x_all[face_in_run])))
+        if w.separation_s is not None:
+            x_sep = float(np.interp(w.separation_s, s_run[1:], x_all[face_in_run]))
+            separations.append((x_sep, float(x_all[sel[-1]]), str(w.separation_kind)))
+        # the momentum integral of the attached part: int t_x [d(rho P ue^2 theta) + rho P delta* ue due]
+        att = np.flatnonzero(w.state != L.SEPARATED)
+        if att.size >= 2:
+            P_run = np.ones(s_run.size) if planar else 2.0 * math.pi * r_run
+            tx_run = np.r_[tx[face_in_run[0]], tx[face_in_run]]
+            th_a = np.where(np.isfinite(w.theta), w.theta, 0.0)[att]
+            M = rho_run[att] * P_run[att] * ue_run[att] ** 2 * th_a
+            D = rho_run[att] * P_run[att] * w.delta_star[att] * ue_run[att]
+            du = np.diff(ue_run[att])
+            txm = 0.5 * (tx_run[att][1:] + tx_run[att][:-1])
+            mom_fx += float(np.sum(txm * (np.diff(M) + 0.5 * (D[1:] + D[:-1]) * du)))
+        P0 = 1.0 if planar else 2.0 * math.pi * r_run[0]
+        if how == "start" and th0:
+            H0 = w.H[0] if np.isfinite(w.H[0]) else L.TURBULENT_START_H
+            start_def = 0.5 * rho_run[0] * P0 * ue_run[0] ** 3 * float(_energy_thickness(th0, H0))
+        if k == len(bounds) - 1:
+            j = face_in_run[-1]
+            end_def = (0.5 * rho[j] * perim[j] * ue_all[j] ** 3 * float(_energy_thickness(theta[j], H[j]))
+                       if state[j] != L.SEPARATED else float("nan"))
+    return ChainLayer(name, table.faces, x_all, r_all, s_all, ue_all, theta, dstar, H, cf, tau, state, re_th, tx, area,
+                      rho, perim, tuple(runs), tuple(transitions), tuple(separations), mom_fx, start_def, end_def), width_next
+
+
+# --- the stage -----------------------------------------------------------------------------------
+
+COUPLING_MAX_ITERATIONS = 25
+COUPLING_RELAXATION = 0.5
+COUPLING_TOLERANCE = 1e-3  # on the blockage B at every face
+MAX_BLOCKAGE = 0.5
+
+
+def face_blockage(chains: dict[str, ChainLayer], profile, planar: bool) -> dict[str, np.ndarray]:
+    """B = sum over the chains of P delta* / A at the x of every face (separated values held from the
+    last attached face; chains counted where they span the face's x)."""
+    parts = []
+    for c in chains.values():
+        ds = c.delta_star
+        fin = np.isfinite(ds)
+        if not fin.any():
+            continue
+        ds = np.interp(np.arange(ds.size), np.flatnonzero(fin), ds[fin])
+        order = np.argsort(c.x)
+        parts.append((c.x[order], (c.perimeter * ds)[order]))
+    out = {}
+    for name, c in chains.items():
+        A = _flow_area(profile, c.x, planar)
+        total = np.zeros(c.x.size)
+        for xs, pd in parts:
+            inside = (c.x >= xs[0] - 1e-9) & (c.x <= xs[-1] + 1e-9)
+            total += np.where(inside, np.interp(c.x, xs, pd), 0.0)
+        out[name] = np.clip(total / np.maximum(A, 1e-300), 0.0, MAX_BLOCKAGE)
+    return out
+
+
+def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile, planar: bool
+                   ) -> tuple[dict[str, ChainLayer], str]:
+    """The layers of all chains. With ``coupling = "blockage"`` the edge speed is the inviscid wall
+    speed over (1 - B), B the displacement blockage of the section (continuity in the core: a
+    quasi-1D interaction), found by under-relaxed fixed-point iteration."""
+    first = {n: march_chain(n, t, *props[n], settings, profile, planar) for n, t in tables.items()}
+    chains = {n: v[0] for n, v in first.items()}
+    widths = {n: v[1] for n, v in first.items()}
+    if settings.coupling != "blockage":
+        return chains, "none: the layer is marched on the inviscid wall speed"
+    if not profile.monotone:
+        return chains, "none: the wall runs backwards in x, so a section's blockage is not defined"
+    B = {n: np.zeros(t.s.size) for n, t in tables.items()}
+    change, last, omega = float("inf"), float("inf"), COUPLING_RELAXATION
+    for it in range(1, COUPLING_MAX_ITERATIONS + 1):
+        Bn = face_blockage(chains, profile, planar)
+        change = max(float(np.max(np.abs(Bn[n] - B[n]))) if B[n].size else 0.0 for n in B)
+        if change < COUPLING_TOLERANCE:
+            break
+        if change > last or abs(change - last) < 0.02 * last:  # growing, or stuck in a cycle: relax harder
+            omega = max(0.5 * omega, 0.05)
+        last = change
+        B = {n: B[n] + omega * (Bn[n] - B[n]) for n in B}
+        res = {n: march_chain(n, t, *props[n], settings, profile, planar, t.speed / (1.0 - B[n]), widths[n])
+               for n, t in tables.items()}
+        chains = {n: v[0] for n, v in res.items()}
+        widths = {n: v[1] for n, v in res.items()}
+    state = f"converged in {it} iterations" if change < COUPLING_TOLERANCE else \
+        f"NOT converged in {COUPLING_MAX_ITERATIONS} iterations (B still changes by {change:.2g} between iterations)"
+    Bmax = max(float(b.max()) for b in B.values()) if B else 0.0
+    return chains, (f"blockage: edge speed = inviscid wall speed / (1 - B), B = sum P delta* / A (continuity in the core), "
+                    f"{state} to {COUPLING_TOLERANCE:g} in B; largest B {Bmax:.3g}")
+
+
+def _flow_area(profile, x, planar: bool):
+    rw = profile.wall_radius(np.atleast_1d(np.asarray(x, float)))
+    rb = profile.centerbody_radius(np.atleast_1d(np.asarray(x, float)))
+    return (rw - rb) if planar else math.pi * (rw**2 - rb**2)
+
+
+def blockage(chains: dict[str, ChainLayer], profile, x: float, planar: bool) -> float:
+    """sum P delta* / A at axial station x (chains that cross it; NaN where a layer there is separated)."""
+    A = float(_flow_area(profile, x, planar)[0])
+    total = 0.0
+    for c in chains.values():
+        margin = float(c.s[-1] - c.s[0]) / max(c.x.size - 1, 1)  # the planes lie half a face beyond the end faces
+        if c.x.size < 2 or not (min(c.x[0], c.x[-1]) - margin <= x <= max(c.x[0], c.x[-1]) + margin):
+            continue
+        j = int(np.argmin(np.abs(c.x - x)))
+        total += c.perimeter[j] * c.delta_star[j]
+    return total / A
+
+
+def _station_pressures(flow, tables, taps):
+    """Inviscid (p, core speed) at the two stations: wall taps, or the inlet and outlet plane means."""
+    if taps is None:
+        return [(flow.inlet_pressure, flow.inlet_velocity), (flow.outlet_pressure, flow.outlet_velocity)]
+    t = tables[Boundary.WALL]
+    return [(float(np.interp(x, t.x, t.pressure)), float(np.interp(x, t.x, t.speed))) for x in taps]
+
+
+def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False) -> tuple[float | None, str]:
+    """C = Q / (E A_m sqrt(2 dp / rho)) between two stations (see the module text); with ``chains``
+    the pressures carry the first-order displacement of the layer (core speed / (1 - B))."""
+    x1, x2 = taps if taps is not None else (profile.x_inlet, profile.x_outlet)
+    xs = np.linspace(x1, x2, 801)
+    A = _flow_area(profile, xs, planar)
+    A_m, A_1 = float(A.min()), float(A[0])
+    rho = flow.inlet_density
+    (p1, u1), (p2, u2) = _station_pressures(flow, tables, taps)
+    if chains is not None:
+        for k, (x, u) in enumerate(((x1, u1), (x2, u2))):
+            B = blockage(chains, profile, x, planar)
+            if not np.isfinite(B):
+                return None, f"the layer is separated at x = {x * 1e3:.4g} mm (a station of the discharge coefficient)"
+            dp = 0.5 * rho * u * u * (1.0 / (1.0 - B) ** 2 - 1.0)
+            if k == 0:
+                p1 -= dp
+            else:
+                p2 -= dp
+    where = (f"wall taps at x = {x1 * 1e3:.4g} mm and {x2 * 1e3:.4g} mm" if taps is not None
+             else "mean pressures of the inlet and outlet planes")
+    if not p1 - p2 > 0:
+        return None, f"none: no pressure drop between the stations ({where}); see the loss coefficient"
+    E = 1.0 / math.sqrt(1.0 - (A_m / A_1) ** 2) if A_m < A_1 else float("inf")
+    if not math.isfinite(E):
+        return None, f"none: the narrowest section is the upstream station ({where})"
+    C = flow.volume_flow / (E * A_m * math.sqrt(2.0 * (p1 - p2) / rho))
+    return float(C), (f"Q / (E A_m sqrt(2 dp / rho)), E = 1/sqrt(1 - (A_m/A_1)^2), A_m = {A_m * 1e6:.6g} mm^2 the "
+                      f"narrowest flow area, dp between the {where}")
+
+
+def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult:
+    """The wall layer of every wall chain of a solved flow (the stage; see the module text)."""
+    t0 = time.perf_counter()
+    settings = ViscousSettings.from_case(case)
+    planar = bool(getattr(profile, "planar", False))
+    mu_in, source = _viscosity(case, flow)
+    rho_in = flow.inlet_density
+    # Reynolds number on the inlet plane: mean velocity and hydraulic diameter 4 A / P (wetted perimeter)
+    P_in = sum((1.0 if planar else 2.0 * math.pi * float(t.r[0])) for t in tables.values() if t.x.size
+               and abs(t.x[0] - profile.x_inlet) <= t.length[0])
+    A_in = flow.inlet_area
+    d_h = 4.0 * A_in / P_in if P_in > 0 else 2.0 * profile.r_inlet
+    re = rho_in * flow.inlet_velocity * d_h / mu_in
+    basis = ("rho V d_h / mu on the inlet plane: mean velocity, hydraulic diameter 4 A / P (the bore diameter of a "
+             "round pipe), viscosity at the inlet")
+    settings = settings.resolve(re, d_h)
+    props = {}
+    for name, table in tables.items():
+        bv = flow.boundary[name]
+        rho = bv.density[_face_index(bv.faces, table.faces)]
+        if flow.compressible:
+            T = (table.pressure + case.ambient_pressure) / (rho * case.fluid.gas_constant)
+            nu = _gas_mu(case, T) / rho
+        else:
+            nu = np.full(table.s.size, mu_in / rho_in)
+        props[name] = (rho, nu)
+    chains, coupling_note = coupled_layers(tables, props, settings, profile, planar)
+
+    friction = sum(c.friction_x_N for c in chains.values())
+    mom_friction = sum(c.momentum_friction_x_N for c in chains.values())
+    seps, kinds = [], []
+    for c in chains.values():
+        for a, b, kind in c.separations:
+            seps.append([min(a, b), max(a, b)])
+            kinds.append(f"{c.name}: {kind}")
+    transitions = sorted(x for c in chains.values() for x in c.transitions_x)
+    allH = [(float(np.nanmax(c.H)), float(c.x[int(np.nanargmax(c.H))])) for c in chains.values()
+            if np.any(np.isfinite(c.H))]
+    hmax = max(allH) if allH else (None, None)
+
+    # discharge coefficient
+    if flow.compressible:
+        cd_inv = onedim.discharge_coefficient if onedim is not None else None
+        xs = np.linspace(profile.x_inlet, profile.x_outlet, 801)
+        x_t = float(xs[int(np.argmin(_flow_area(profile, xs, planar)))])
+        B = blockage(chains, profile, x_t, planar)
+        if cd_inv is None or not np.isfinite(B):
+            cd, cd_note = None, "none: the layer is separated at the narrowest section"
+        else:
+            cd = float(cd_inv * (1.0 - B))
+            cd_note = (f"the inviscid discharge coefficient (against quasi-1D isentropic flow) times (1 - B), B = "
+                       f"{B:.4g} the displacement blockage sum P delta* / A at the narrowest section x = {x_t * 1e3:.4g} mm")
+    else:
+        cd_inv, _ = discharge_coefficient(flow, profile, tables, settings.taps, None, planar)
+        cd, cd_note = discharge_coefficient(flow, profile, tables, settings.taps, chains, planar)
+        if cd is not None:
+            cd_note += "; the layer's displacement raises the core speed at each station by 1/(1 - B), B = sum P delta* / A"
+
+    # loss coefficient
+    K = dp0 = head = None
+    if flow.compressible:
+        k_note = "computed for liquids only in this version"
+    elif seps:
+        k_note = "not computed: the layer separates (a separated flow's loss is beyond a boundary-layer estimate)"
+    else:
+        end = sum(c.end_deficit_W for c in chains.values())
+        start = sum(c.start_deficit_W for c in chains.values())
+        dp0 = float((end - start) / flow.volume_flow)
+        V = max(flow.inlet_velocity, flow.outlet_velocity)
+        K = float(dp0 / (0.5 * rho_in * V * V))
+        head = float(dp0 / (rho_in * G_STANDARD))
+        k_note = ("K = dp_0 / (rho V^2 / 2), dp_0 the mass-averaged total-pressure loss from the inlet to the outlet "
+                  "plane (the growth of the layers' kinetic-energy deficit), V = "
+                  f"{'outlet' if flow.outlet_velocity >= flow.inlet_velocity else 'inlet'} mean velocity (the larger); "
+                  "includes the friction of the straight lengths of the bore")
+
+    warnings = []
+    still = coupling_note.split("B still changes by ")[-1].split(" ")[0] if "NOT converged" in coupling_note else "0"
+    if float(still) > 10 * COUPLING_TOLERANCE:
+        warnings.append(f"wall layer: the blockage coupling did not settle (the blockage B still changes by {still} between "
+                        "iterations): the layer near its separation or in a thick-layer region is uncertain")
+    for c in chains.values():
+        restarts = [x for x, how in c.runs if how.endswith("concave corner")]
+        for a, b, kind in c.separations:
+            nxt = [x for x in restarts if x > a]
+            where = (f"from x = {a * 1e3:.4g} to {b * 1e3:.4g} mm, into the concave corner at x = {nxt[0] * 1e3:.4g} mm "
+                     "where a new layer starts" if nxt else f"from x = {a * 1e3:.4g} mm to the end of the {c.name} "
+                     f"(x = {b * 1e3:.4g} mm)")
+            warnings.append(
+                f"the {kind} wall layer on the {c.name} separates at x = {a * 1e3:.4g} mm (separated {where}): the "
+                f"inviscid wall pressure and force {'in that range' if nxt else f'downstream of x = {a * 1e3:.4g} mm'} "
+                f"are not reliable. {CAUTION}")
+        h_loc = np.maximum(c.r if not planar else np.abs(c.r), 1e-300)
+        thick = np.isfinite(c.delta_star) & (c.delta_star > THICK_LAYER * h_loc)
+        if np.any(thick) and not planar:
+            warnings.append(f"the wall layer on the {c.name} is thick (displacement thickness above {THICK_LAYER:.0%} of "
+                            f"the radius from x = {c.x[thick].min() * 1e3:.4g} to {c.x[thick].max() * 1e3:.4g} mm): "
+                            "the thin-layer estimate is stretched there")
+    notes = [
+        "wall layer: Thwaites (laminar, axisymmetric form of Rott & Crabtree), Michel's transition, Head's entrainment "
+        "method with the Ludwieg-Tillmann skin friction (turbulent), marched on the smoothed inviscid wall speed",
+        "friction_x_N: wall shear integrated over the wall, by the fluid on the part, +x downstream; separated faces "
+        "count with no shear",
+    ]
+    return ViscousResult(
+        model="integral", settings=settings, viscosity_Pa_s=float(mu_in), kinematic_viscosity_m2_s=float(mu_in / rho_in),
+        viscosity_source=source, chains=chains, reynolds_number=float(re), reynolds_length_m=float(d_h),
+        reynolds_basis=basis, friction_x_N=float(friction), momentum_friction_x_N=float(mom_friction),
+        discharge_coefficient=cd, discharge_coefficient_inviscid=cd_inv, discharge_coefficient_note=cd_note,
+        loss_coefficient=K, loss_coefficient_note=k_note, total_pressure_loss_Pa=dp0, head_loss_m=head,
+        transition_x_m=transitions, separation_x_ranges_m=seps, separation_kind=kinds,
+        max_shape_factor=hmax[0], max_shape_factor_x_m=hmax[1], warnings=warnings,
+        seconds=time.perf_counter() - t0, notes=notes, coupling_note=coupling_note,
+    )
+
+
+# --- the stage as a run uses it, and its part of summary.json ---------------------------------------
+
+
+def viscous_stage(case, profile, mesh, flow, tables, onedim, progress=None, mesh_build=None) -> ViscousResult:
+    """The wall layer of a run, and the displacement pass when the case asks for it."""
+    from dataclasses import replace
+
+    res = wall_layers(case, profile, flow, tables, onedim)
+    if progress:
+        sep = "; separated: " + ", ".join(f"{a * 1e3:.4g}-{b * 1e3:.4g} mm" for a, b in res.separation_x_ranges_m) \
+            if res.separated else ""
+        progress("viscous", f"wall layer: Re {res.reynolds_number:.3g}, friction {res.friction_x_N:.4g} N{sep}, "
+                 f"{res.seconds:.2f} s")
+    if res.settings.displacement != "none":
+        from .displacement import displacement_pass
+
+        t = time.perf_counter()
+        disp = displacement_pass(case, profile, mesh, flow, tables, onedim, res, progress)
+        res = replace(res, displacement=disp, warnings=res.warnings + list(disp.warnings))
+        if progress:
+            progress("viscous", f"displacement pass ({disp.passes} re-solves): flow {disp.flow_change_rel:+.3%}, wall force "
+                     f"{disp.force_change_N:+.4g} N, {time.perf_counter() - t:.2f} s")
+    return res
+
+
+def summary_section(res) -> dict:
+    """The ``viscous`` section of summary.json (the model in use, and its results)."""
+    v = getattr(res, "viscous", None)
+    if v is None:
+        return {"model": "none", "note": 'no wall layer (viscous.model = "none", or the fluid\'s viscosity is unknown)'}
+    f = res.forces
+    total = f.total_x_N + v.friction_x_N
+    mom = f.momentum_x_N + v.momentum_friction_x_N
+    out = {
+        "model": v.model,
+        "settings": v.settings.as_dict(),
+        "viscosity_Pa_s": v.viscosity_Pa_s, "kinematic_viscosity_m2_s": v.kinematic_viscosity_m2_s,
+        "viscosity_source": v.viscosity_source,
+        "reynolds_number": v.reynolds_number, "reynolds_length_m": v.reynolds_length_m, "reynolds_basis": v.reynolds_basis,
+        "friction_x_N": v.friction_x_N,
+        "friction_wall_x_N": v.chains[Boundary.WALL].friction_x_N if Boundary.WALL in v.chains else 0.0,
+        "friction_centerbody_x_N": v.chains[Boundary.CENTERBODY].friction_x_N if Boundary.CENTERBODY in v.chains else 0.0,
+        "total_with_friction_x_N": total,
+        "momentum_with_friction_x_N": mom,
+        "friction_reconciliation_rel": (total - mom) / max(abs(mom), 1e-300),
+        "friction_momentum_integral_x_N": v.momentum_friction_x_N,
+        "discharge_coefficient": v.discharge_coefficient,
+        "discharge_coefficient_inviscid": v.discharge_coefficient_inviscid,
+        "discharge_coefficient_note": v.discharge_coefficient_note,
+        "loss_coefficient": v.loss_coefficient, "loss_coefficient_note": v.loss_coefficient_note,
+        "total_pressure_loss_Pa": v.total_pressure_loss_Pa, "head_loss_m": v.head_loss_m,
+        "transition_x_m": v.transition_x_m,
+        "separated": v.separated, "separation_x_ranges_m": v.separation_x_ranges_m, "separation_kind": v.separation_kind,
+        "max_shape_factor": v.max_shape_factor, "max_shape_factor_x_m": v.max_shape_factor_x_m,
+        "coupling": v.coupling_note,
+        "layers": {n: {"runs": [{"x_m": x, "start": how} for x, how in c.runs], "transition_x_m": list(c.transitions_x),
+                       "separations": [{"from_x_m": a, "to_x_m": b, "kind": k} for a, b, k in c.separations],
+                       "friction_x_N": c.friction_x_N} for n, c in v.chains.items()},
+        "seconds": v.seconds,
+        "notes": list(v.notes) + [
+            "total_with_friction_x_N = forces.total_x_N (wall pressure) + friction_x_N; momentum_with_friction_x_N = "
+            "forces.momentum_x_N (the planes) + the friction from the momentum integral of the layer (von Karman, "
+            "derived); friction_reconciliation_rel compares the two",
+        ],
+        "caution": CAUTION,
+    }
+    d = v.displacement
+    if d is not None:
+        out["displacement"] = d.as_dict()
+    return out
