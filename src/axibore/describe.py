@@ -25,11 +25,21 @@ def describe(case: Case) -> list[str]:
     b = case.bore
     params = []
     for key, value in b.model_dump(exclude_none=True).items():
-        if key in ("template", "centerbody", "segment", "start", "file", "smooth"):
+        if key in ("template", "centerbody", "segment", "start", "file", "smooth", "symmetry", "unit"):
             continue
         dim = "angle" if "angle" in key else "length"
         params.append(f"{key} {show(value, dim)}")
     lines.append(f"bore      template {b.template}" + (": " + ", ".join(params) if params else ""))
+    if b.symmetry == "planar":
+        lines.append("symmetry  planar section: the axis is a symmetry plane; areas, flow rates and forces are per metre of "
+                     "depth for the half above it")
+    if case.outlet.kind == "free-jet":
+        from .geometry.jet import estimated_contraction, lip_angle
+
+        a = lip_angle(case.profile)
+        lines.append(f"free jet  from the lip at x = {show(case.profile.wall[-1].end[0], 'length')}, r = "
+                     f"{show(case.profile.wall[-1].end[1], 'length')}; the wall meets it at {-math.degrees(a):.3g} deg to the "
+                     f"axis (first trial contraction {estimated_contraction(a):.2f})")
     p = case.profile
     lines.append(
         f"profile   x {show(p.x_inlet, 'length')} to {show(p.x_outlet, 'length')}, inlet radius {show(p.r_inlet, 'length')}, "
