@@ -211,7 +211,7 @@ class SpearBore(_Section):
     orifice_diameter: PosLength
     half_angle: HalfAngle
     inlet_length: PosLength
-    tip_length: PosLength
+    tip_length: NonNegLength  # 0: the orifice edge is the exit (the lip of a free jet)
     needle_diameter: PosLength
     needle_half_angle: HalfAngle
     stroke: NonNegLength

@@ -47,6 +47,7 @@ class RunResult:
     jet_reaction_N: float | None = None
     viscous: object | None = None  # viscous.stage.ViscousResult when the wall layer ran
     jet: "object | None" = None  # solvers.freejet.JetSolution of a free-jet outlet
+    exit_plane: dict | None = None  # free jet: the exit-plane model of the same bore, for comparison
 
     def summary(self) -> dict:
         from .io.summary import build_summary
@@ -128,8 +129,33 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
         viscous = viscous_stage(case, profile, mesh, flow, tables, od, progress, build)
         chk.warnings.extend(viscous.warnings)
         sec["viscous"] = time.perf_counter() - t
+    exit_plane = _exit_plane_model(case, frc, flow, progress) if jet is not None else None
     return RunResult(case, profile, mesh, build, flow, tables, frc, od, chk, sec, quality, joints, jet_reaction(case, flow),
-                     viscous, jet)
+                     viscous, jet, exit_plane)
+
+
+def _exit_plane_model(case: Case, frc: Forces, flow: FlowResult, progress: Progress) -> dict:
+    """The simpler model beside a free-jet run: the same bore and operating point with the jet taken to
+    leave the lip plane uniformly (outlet.kind = "exit-plane"), solved at the same mesh settings."""
+    from .case import CaseError
+    from .geometry import ProfileError
+    from .solvers.base import FlowError
+
+    try:
+        ep_case = case.with_updates({"outlet.kind": "exit-plane", "viscous.model": "none"})
+        progress("solve", "exit-plane model of the same bore, for comparison")
+        ep = solve_case(ep_case)
+    except (CaseError, ProfileError, FlowError, RunRefused) as exc:
+        return {"note": f"the exit-plane model could not be solved for this outline: {exc}"}
+    return {
+        "volume_flow_m3_s": ep.flow.volume_flow,
+        "total_x_N": ep.forces.total_x_N,
+        "min_wall_gauge_Pa": ep.checks.min_wall_gauge_Pa,
+        "flow_rel_diff": ep.flow.volume_flow / flow.volume_flow - 1.0,
+        "force_rel_diff": ep.forces.total_x_N / frc.total_x_N - 1.0 if frc.total_x_N else None,
+        "note": "the same bore with outlet.kind = \"exit-plane\" (jet leaving the lip plane uniformly at ambient "
+                "pressure); *_rel_diff = exit-plane / free-jet - 1",
+    }
 
 
 def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, report: bool = True,

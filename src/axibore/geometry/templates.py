@@ -252,8 +252,14 @@ def build_profile(bore, base_dir: Path | None = None, free_jet: bool = False) ->
         xo = b.inlet_length + lc
         x_out = xo + b.tip_length
         v = [(0, ri), (b.inlet_length, ri), (xo, ro), (x_out, ro)]
-        wall = fillet_chain(v, [0.0, b.lip_radius], ["bore.inlet_length", "bore.half_angle", "bore.tip_length"],
-                            ["bore.inlet_length", "bore.lip_radius"])
+        if b.tip_length == 0.0:  # the orifice edge is the exit
+            if b.lip_radius > 0:
+                raise ProfileError("bore.lip_radius", "a lip rounding needs a straight tip after the orifice cone: give "
+                                   "tip_length > 0 or lip_radius = 0")
+            wall = fillet_chain(v[:3], [0.0], ["bore.inlet_length", "bore.half_angle"], ["bore.inlet_length"])
+        else:
+            wall = fillet_chain(v, [0.0, b.lip_radius], ["bore.inlet_length", "bore.half_angle", "bore.tip_length"],
+                                ["bore.inlet_length", "bore.lip_radius"])
         tn = math.tan(b.needle_half_angle)
         x_tip = xo + ro / tn - b.stroke  # at stroke 0 the needle cone seats on the orifice edge
         if x_tip <= 0:

@@ -155,6 +155,14 @@ def build_summary(res) -> dict:
     from ..viscous.stage import CAUTION as VISCOUS_CAUTION, summary_section
 
     out["viscous"] = summary_section(res)
+    if getattr(res, "jet", None) is not None:
+        out["free_jet"] = {
+            "iterations": [{"iteration": h.iteration, "cells": h.cells, "crossing_angle_deg": math.degrees(h.crossing_angle),
+                            "movement_lip_radii": h.movement, "jet_radius_m": h.jet_radius, "seconds": h.seconds}
+                           for h in res.jet.history],
+            "lip_x_m": res.jet.lip[0], "lip_r_m": res.jet.lip[1],
+        }
+        out["exit_plane_model"] = res.exit_plane
     out["joints"] = [j.as_dict() for j in res.joints]
     out["seconds"] = dict(res.seconds)
     out["warnings"] = list(res.checks.warnings)

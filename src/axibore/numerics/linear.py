@@ -60,10 +60,14 @@ class LinearResult:
     attempts: list[str] = field(default_factory=list)  # what was tried, in order, with its outcome
 
 
-def _direct(K: sp.spmatrix, b: np.ndarray):
+def _direct(K: sp.spmatrix, b: np.ndarray, cache: dict | None = None):
     import scipy.sparse.linalg as spla
 
-    return spla.spsolve(K.tocsc(), b)
+    if cache is None:
+        return spla.spsolve(K.tocsc(), b)
+    if "lu" not in cache:
+        cache["lu"] = spla.splu(K.tocsc())
+    return cache["lu"].solve(b)
 
 
 def _amg(P: sp.spmatrix, settings: LinearSettings):
@@ -75,8 +79,12 @@ def _amg(P: sp.spmatrix, settings: LinearSettings):
 
 
 def solve_linear(K: sp.spmatrix, b: np.ndarray, settings: LinearSettings = LinearSettings(),
-                 preconditioner: sp.spmatrix | None = None, say: Callable[[str], None] | None = None) -> LinearResult:
-    """Solve K x = b; ``say`` receives a line for every fall-back (the progress line of a run)."""
+                 preconditioner: sp.spmatrix | None = None, say: Callable[[str], None] | None = None,
+                 cache: dict | None = None) -> LinearResult:
+    """Solve K x = b; ``say`` receives a line for every fall-back (the progress line of a run).
+
+    ``cache``: a dict kept by the caller across solves with the same K; the LU factors or the AMG
+    hierarchy are built once and reused (several right-hand sides)."""
     import scipy.sparse.linalg as spla
 
     t0 = time.perf_counter()
@@ -90,12 +98,17 @@ def solve_linear(K: sp.spmatrix, b: np.ndarray, settings: LinearSettings = Linea
     if method == "auto":
         method = "direct" if n <= settings.direct_max_cells else "iterative"
     if method == "direct":
-        x = _direct(K, b)
+        x = _direct(K, b, cache)
         r = resid(x)
         return LinearResult(x, "superlu", 1, r, (r,), None, time.perf_counter() - t0, r < 10 * settings.tolerance or r < 1e-8,
                             [f"superlu: residual {r:.1e}"])
 
-    ml = _amg(K if preconditioner is None else preconditioner, settings)
+    if cache is not None and "ml" in cache:
+        ml = cache["ml"]
+    else:
+        ml = _amg(K if preconditioner is None else preconditioner, settings)
+        if cache is not None:
+            cache["ml"] = ml
     history: list[float] = []
     attempts: list[str] = []
     x = np.zeros_like(b)

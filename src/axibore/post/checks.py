@@ -25,6 +25,8 @@ POLYGON_MIN_TURN_DEG = 0.05
 def polygon_warnings(profile) -> list[str]:
     out = []
     for name, chain in profile.chains.items():
+        if name == "jet":  # the solved jet boundary is a polyline by construction, not an input
+            continue
         lines = [s for s in chain if s.kind == "line"]
         if len(lines) < POLYGON_GENTLE_VERTICES + 1:
             continue

@@ -157,10 +157,11 @@ def solve_potential_many(mesh: FVMesh, bc_sets: list[dict[str, BoundaryCondition
     ops = assemble(mesh, is_value)
     t1 = time.perf_counter()
     out = []
+    cache: dict = {}  # one factorisation or AMG hierarchy for every right-hand side
     for _, data in kinds:
         ts = time.perf_counter()
         b = ops.R @ data
-        lin = solve_linear(ops.K, b, linear, preconditioner=ops.K_orth, say=say)
+        lin = solve_linear(ops.K, b, linear, preconditioner=ops.K_orth, say=say, cache=cache if len(kinds) > 1 else None)
         phi = lin.x
         t2 = time.perf_counter()
         grad = np.vstack([ops.G[k] @ phi + ops.B[k] @ data for k in range(2)])

@@ -21,6 +21,7 @@ QUANTITIES = (
     ("total_x_N", "forces", "total_x_N"),
     ("volume_flow_m3_s", "flow", "volume_flow_m3_s"),
     ("discharge_coefficient", "flow", "discharge_coefficient"),
+    ("contraction_coefficient", "flow", "contraction_coefficient"),
     ("min_wall_gauge_Pa", "pressure", "min_wall_gauge_Pa"),
     ("max_speed_m_s", "flow", "max_speed_m_s"),
 )
@@ -32,6 +33,7 @@ LABELS = {
     "total_x_N": ("total axial force", "N", 1.0),
     "volume_flow_m3_s": ("volume flow", "L/min", 6e4),
     "discharge_coefficient": ("discharge coefficient", "-", 1.0),
+    "contraction_coefficient": ("contraction coefficient", "-", 1.0),
     "min_wall_gauge_Pa": ("minimum wall pressure (gauge)", "kPa", 1e-3),
     "max_speed_m_s": ("maximum speed", "m/s", 1.0),
 }

@@ -209,6 +209,11 @@ def speed_plot(run, path=None, lines: int = 12) -> Path:
         psi_cell = psi[allc].mean(axis=1)
         grid_psi = np.ma.masked_where(~inside, psi_cell[idx].reshape(X.shape))
         ax.contour(xc, rc, grid_psi, levels=levels, colors="white", linewidths=0.6)
+    jet_csv = run["dir"] / "jet.csv"
+    if jet_csv.exists():
+        j = read_csv(jet_csv)
+        ax.plot(j["x_m"] * 1e3, j["r_m"] * 1e3, color="#ff8c1a", lw=1.2, ls="--", label="free-jet boundary")
+        ax.legend(fontsize=7.5, loc="upper right")
     ax.set_xlim(nodes[:, 0].min(), nodes[:, 0].max())
     ax.set_ylim(0, nodes[:, 1].max() * 1.02)
     ax.set_aspect("equal")
@@ -257,6 +262,39 @@ def wall_layer_plot(run, path=None) -> Path:
     return save(fig, Path(path or run["dir"] / "plot_wall_layer.png"))
 
 
+def jet_plot(run, path=None) -> Path:
+    """The free-jet boundary from the lip (r against x, with the far radius and the vena contracta)
+    and the remaining speed mismatch along it."""
+    run = _as_run(run)
+    j = read_csv(run["dir"] / "jet.csv")
+    flow = run["summary"].get("flow", {})
+    fig, (ax, ax2) = figure(7.0, 4.6, nrows=2, sharex=True)
+    x, r = j["x_m"] * 1e3, j["r_m"] * 1e3
+    ax.plot(x, r, color="#1f5fa8", lw=1.5, label="jet boundary")
+    for name, t in run["tables"].items():
+        ax.plot(t["x_m"] * 1e3, t["r_m"] * 1e3, color="0.35", lw=1.0, label=name)
+    if flow.get("jet_radius_m"):
+        ax.axhline(flow["jet_radius_m"] * 1e3, color="0.5", ls=":", lw=0.9,
+                   label=f"far jet, contraction coefficient {flow.get('contraction_coefficient', float('nan')):.4f}")
+    if flow.get("vena_contracta_x_m") is not None:
+        ax.axvline(flow["vena_contracta_x_m"] * 1e3, color="#c0392b", ls="--", lw=0.9, label="vena contracta (1 % of the contraction left)")
+    ax.set_ylim(0, None)
+    ax.set_ylabel("r [mm]")
+    ax.set_aspect("auto")
+    ax.legend(fontsize=7, loc="best")
+    ax.set_title("Free jet past the lip", fontsize=9)
+    ax2.plot(x, j["speed_mismatch"] * 100, color="#ff8c1a", lw=1.0)
+    ax2.axhline(0.0, color="0.5", lw=0.6)
+    lim = max(1.0, float(np.percentile(np.abs(j["speed_mismatch"]), 95)) * 100 * 1.5)
+    ax2.set_ylim(-lim, lim)
+    ax2.set_ylabel("speed / jet speed - 1 [%]")
+    ax2.set_xlabel("x [mm]")
+    for a in (ax, ax2):
+        _plain_ticks(a)
+    fig.tight_layout()
+    return save(fig, Path(path or run["dir"] / "plot_jet.png"))
+
+
 def all_plots(run_dir, unit: str = "bar") -> dict[str, Path]:
     """Every plot of a run; the field plots only where fields.vtu was kept (a grid study keeps it
     for its finest level unless asked)."""
@@ -264,6 +302,8 @@ def all_plots(run_dir, unit: str = "bar") -> dict[str, Path]:
     out = {"wall_pressure": wall_pressure_plot(run, unit=unit), "axial_force": axial_force_plot(run)}
     if any("tau_w_Pa" in t for t in run["tables"].values()):
         out["wall_layer"] = wall_layer_plot(run)
+    if (Path(run_dir) / "jet.csv").exists():
+        out["jet"] = jet_plot(run)
     if (Path(run_dir) / "fields.vtu").exists():
         out["mesh"] = mesh_plot(run)
         out["speed"] = speed_plot(run)

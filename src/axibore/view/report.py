@@ -87,6 +87,23 @@ def headline_rows(s: dict, unit: str = "bar") -> list[tuple[str, str, str]]:
     if f.get("jet_reaction_N") is not None:
         rows.append(("Jet reaction on the holder (upstream): mdot V + p A at the exit", "forces.jet_reaction_N",
                      _fmt(f["jet_reaction_N"], "N", 6)))
+    if fl.get("contraction_coefficient") is not None:
+        rows += [
+            ("Free jet: contraction coefficient (far-jet area / lip-plane area)", "flow.contraction_coefficient",
+             _fmt(fl["contraction_coefficient"], "", 5)),
+            ("Free jet: far-jet radius", "flow.jet_radius_m", _fmt(fl["jet_radius_m"], "mm", 5, 1e3)),
+            ("Free jet: vena contracta at x", "flow.vena_contracta_x_m", _fmt(fl["vena_contracta_x_m"], "mm", 5, 1e3)),
+        ]
+        ep = s.get("exit_plane_model") or {}
+        if ep.get("volume_flow_m3_s"):
+            rows += [
+                ("Exit-plane model: volume flow (off by)", "exit_plane_model.flow_rel_diff",
+                 f"{_fmt(ep['volume_flow_m3_s'], 'm³/s')} ({ep['flow_rel_diff']:+.2%})"),
+                ("Exit-plane model: wall + centre-body force (off by)", "exit_plane_model.force_rel_diff",
+                 f"{_fmt(ep['total_x_N'], 'N', 6)} ({ep['force_rel_diff']:+.2%})"),
+                ("Exit-plane model: minimum wall pressure (gauge)", "exit_plane_model.min_wall_gauge_Pa",
+                 _fmt(ep["min_wall_gauge_Pa"], unit, 6, k)),
+            ]
     if f.get("per_bolt_N") is not None:
         rows.append((f"Per bolt, first joint ({f.get('bolts')} bolts; hydrodynamic part)", "forces.per_bolt_N", _fmt(f["per_bolt_N"], "N", 5)))
     rows += [
@@ -230,10 +247,12 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
         "wall_layer": "Wall layer: wall shear along the flow and shape factor; shaded: separated ranges, where the inviscid "
                       "wall pressure is not reliable; dotted: transition.",
         "mesh": "The mesh, with a zoom at the minimum wall pressure.",
+        "jet": "Free jet: the settled jet boundary from the lip, the far-jet radius and the vena contracta; below, the "
+               "remaining speed mismatch along it (zero on an exact free streamline).",
         "gridstudy": "Grid convergence of the grid study this run belongs to.",
     }
     parts.append("<h2>Plots</h2>")
-    for key in ("view3d", "wall_pressure", "axial_force", "wall_layer", "speed", "mesh", "gridstudy"):
+    for key in ("view3d", "wall_pressure", "axial_force", "jet", "wall_layer", "speed", "mesh", "gridstudy"):
         if key in figs:
             parts.append(f"<figure><img alt='{e(key)}' src='{_img(Path(figs[key]))}'><figcaption>{e(captions[key])}</figcaption></figure>")
     parts.append("<h2>The case as understood (SI with units)</h2><pre>" + e("\n".join(understood)) + "</pre>")
