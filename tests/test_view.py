@@ -22,7 +22,13 @@ def run_dir(tmp_path_factory):
     out = tmp_path_factory.mktemp("view") / "spear"
     from pathlib import Path
 
-    case = Path(__file__).parents[1] / "cases" / "spear_nozzle.toml"
+    # the spear demo as an exit-plane nozzle with a rounded 5 mm tip (its suction peak at the orifice
+    # tests the colour range); the free-jet demo has its own view test below
+    text = (Path(__file__).parents[1] / "cases" / "spear_nozzle.toml").read_text()
+    text = (text.replace('tip_length = "0 mm"', 'tip_length = "5 mm"').replace('lip_radius = "0 mm"', 'lip_radius = "5 mm"')
+            .replace('kind = "free-jet"', 'kind = "exit-plane"'))
+    case = out.parent / "spear_exit_plane.toml"
+    case.write_text(text)
     assert main(["run", str(case), "--out", str(out), "--level", "0"]) == 0
     return out
 
@@ -229,3 +235,24 @@ def test_load_files_read_with_ordinary_readers(run_dir):
     key = np.round(np.asarray(m.points) / 1e-9)
     assert len(np.unique(key, axis=0)) == m.n_points
     assert "normal" in m.point_data
+
+
+def test_free_jet_views(tmp_path):
+    """A free-jet run: jet.csv, the jet plot, and the translucent jet surface in the 3D view."""
+    from axibore.view.scene import build_cutaway
+
+    out = tmp_path / "borda"
+    case = tmp_path / "borda.toml"
+    case.write_text('[fluid]\nkind = "water"\ntemperature = "15 degC"\n[bore]\ntemplate = "segments"\n'
+                    'start = ["-30 mm", "15 mm"]\nsegment = [ { to = ["0 mm", "15 mm"] }, { to = ["0 mm", "2 mm"] } ]\n'
+                    '[inlet]\npressure = "1 bar"\n[outlet]\nkind = "free-jet"\n[mesh]\nsize = 0.2\n')
+    assert main(["run", str(case), "--out", str(out)]) == 0
+    assert (out / "jet.csv").exists() and (out / "plot_jet.png").exists()
+    jet = read_csv(out / "jet.csv")
+    assert np.all(np.diff(jet["s_m"]) > 0)  # ordered from the lip
+    p = pv.Plotter(off_screen=True)
+    n_before = 0
+    build_cutaway(p, out, "pressure", 270.0)
+    translucent = [a for a in p.renderer.actors.values() if getattr(a, "prop", None) is not None
+                   and abs(a.prop.opacity - 0.25) < 1e-9]
+    assert len(translucent) == 1 + n_before

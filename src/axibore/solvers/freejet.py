@@ -135,7 +135,6 @@ def _trial_solve(mesh, points: np.ndarray, linear, say=None, momentum_width: boo
     set1 = {**flux0, Boundary.INLET: BoundaryCondition("flux", -1.0), Boundary.JET: BoundaryCondition("value", 0.0),
             Boundary.OUTLET: BoundaryCondition("value", 0.0)}
     f0, f1 = solve_potential_many(mesh, [set0, set1], linear, say)
-    from ..numerics.reconstruct import boundary_gradients
 
     F0, F1 = f0.face_flux[faces].sum(), f1.face_flux[faces].sum()
     U = -F0 / F1  # no net flow across the trial boundary

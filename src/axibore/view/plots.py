@@ -272,7 +272,8 @@ def jet_plot(run, path=None) -> Path:
     x, r = j["x_m"] * 1e3, j["r_m"] * 1e3
     ax.plot(x, r, color="#1f5fa8", lw=1.5, label="jet boundary")
     for name, t in run["tables"].items():
-        ax.plot(t["x_m"] * 1e3, t["r_m"] * 1e3, color="0.35", lw=1.0, label=name)
+        ax.plot(t["x_m"] * 1e3, t["r_m"] * 1e3, color="0.35" if name == "wall" else "0.6", lw=1.0,
+                label={"wall": "wall", "centerbody": "centre body"}.get(name, name))
     if flow.get("jet_radius_m"):
         ax.axhline(flow["jet_radius_m"] * 1e3, color="0.5", ls=":", lw=0.9,
                    label=f"far jet, contraction coefficient {flow.get('contraction_coefficient', float('nan')):.4f}")

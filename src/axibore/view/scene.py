@@ -117,7 +117,7 @@ def _wall_surfaces(run_dir: Path, angle_deg: float) -> list:
     return out
 
 
-def _add_jet_surface(plotter, run_dir: Path, angle_deg: float) -> None:
+def _add_jet_surface(plotter, run_dir: Path, angle_deg: float, opts=None) -> None:
     """A free jet's boundary (jet.csv) revolved as a translucent surface."""
     import pyvista as pv
 
@@ -127,6 +127,10 @@ def _add_jet_surface(plotter, run_dir: Path, angle_deg: float) -> None:
     segments = max(8, int(round(angle_deg / 360 * SEGMENTS)))
     pts, quads, _, _ = revolve(read_csv(src), segments=segments, angle_deg=angle_deg)
     surf = pv.PolyData(pts, np.hstack([np.full((len(quads), 1), 4), quads]).ravel())
+    if opts is not None and opts.x_range is not None:
+        surf = surf.clip_box((opts.x_range[0], opts.x_range[1], -1e9, 1e9, -1e9, 1e9), invert=False)
+        if not surf.n_points:
+            return
     plotter.add_mesh(surf, color="#5b9bd5", opacity=0.25, show_scalar_bar=False)
 
 
@@ -174,7 +178,7 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
             plotter.add_mesh(surf, scalars=name, cmap="viridis", clim=frange, show_scalar_bar=False, opacity=0.55)
         else:
             plotter.add_mesh(surf, color="#b0b8c0", opacity=0.35, show_scalar_bar=False)
-    _add_jet_surface(plotter, run_dir, angle_deg)
+    _add_jet_surface(plotter, run_dir, angle_deg, opts)
     gb = grid.bounds
     b = revolved_bounds(gb[0], gb[1], gb[3], angle_deg)
     x0, x1 = b[0], b[1]
