@@ -45,6 +45,14 @@ def headline(summary: dict, unit: str = "bar") -> list[str]:
                      f"p {show(j['pressure_gauge_Pa'], 'pressure', unit=unit)} (hydrodynamic part)"))
     if f.get("jet_reaction_N") is not None:
         rows.append(("jet reaction", f"{show(f['jet_reaction_N'], 'force')} on the holder, upstream (mdot V + p A at the exit)"))
+    if fl.get("contraction_coefficient") is not None:
+        rows.append(("free jet", f"contraction coefficient {fl['contraction_coefficient']:.4f}, far-jet radius "
+                                 f"{show(fl['jet_radius_m'], 'length')}, vena contracta at x = {show(fl['vena_contracta_x_m'], 'length')}"))
+        ep = summary.get("exit_plane_model") or {}
+        if ep.get("volume_flow_m3_s"):
+            rows.append(("exit-plane model", f"flow {ep['flow_rel_diff']:+.2%}, force {ep['force_rel_diff']:+.2%}, min wall pressure "
+                                             f"{show(ep['min_wall_gauge_Pa'], 'pressure', unit=unit)} gauge (the same bore with a "
+                                             "uniform exit; off by, against the free jet)"))
     rows += [
         ("min wall pressure", f"{show(p['min_wall_gauge_Pa'], 'pressure', unit=unit)} gauge at x = {show(p['min_wall_x_m'], 'length')} "
          f"({p['min_wall_boundary']})"),
@@ -67,6 +75,8 @@ def headline(summary: dict, unit: str = "bar") -> list[str]:
     if not sv["converged"]:
         solve += "  NOT CONVERGED"
     rows.append(("mesh / solve", solve))
+    if (summary.get("geometry") or {}).get("per_unit_depth"):
+        rows.insert(0, ("planar section", "flows, areas and forces are per metre of depth, for the half above the symmetry plane"))
     return table(rows)
 
 

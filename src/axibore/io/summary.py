@@ -148,6 +148,11 @@ def build_summary(res) -> dict:
     out: dict = {"schema": SCHEMA, "title": res.case.title, "software": {"name": "axibore", "version": __version__}}
     for section, key, get in KEYS:
         out.setdefault(section, {})[key] = get(res)
+    planar = bool(res.profile.planar)
+    out["geometry"] = {"symmetry": "planar" if planar else "axisymmetric", "per_unit_depth": planar,
+                       "note": ("planar section: areas [m2] are per metre of depth, flow rates per metre of depth, forces "
+                                "[N] per metre of depth, for the half above the symmetry plane (r = 0)") if planar else
+                               "axisymmetric: areas, flows and forces of the whole body of revolution"}
     out["corners"] = [
         {"x_m": k.x, "r_m": k.r, "turn_deg": math.degrees(k.turn), "convex": k.convex, "boundary": str(k.boundary), "key": k.key}
         for k in res.profile.corners()
