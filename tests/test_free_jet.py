@@ -39,14 +39,23 @@ SLOT = {"template": "segments", "symmetry": "planar", "start": ["-20 mm", "20 mm
         "segment": [{"to": ["0 mm", "20 mm"]}, {"to": ["0 mm", "1 mm"]}]}
 
 
-@pytest.mark.parametrize("symmetry, tol", [("axisymmetric", 0.006), ("planar", 0.012)])
-def test_borda_mouthpiece_contraction_is_one_half(symmetry, tol):
-    # Borda: Cc = 1/2 (Encyclopaedia Britannica 1911, "Hydraulics" s.37). At this coarse level
-    # (mesh.level 0, 10 cells across the lip radius) the measured values are 0.503 (axisymmetric)
-    # and 0.510 (planar); the 0.005 of a converged answer needs a finer mesh.
+def borda_finite_reservoir(beta: float) -> float:
+    """Borda's momentum argument in a reservoir of finite width (derived): the walls round the tube
+    see the stagnation pressure H, the inlet plane H - rho U^2 / 2 with momentum rho U^2 A_res, so
+    rho V^2 Cc A = H A + rho U^2 A_res / 2 with U = Cc A V / A_res: Cc = (1 + beta Cc^2) / 2,
+    beta = A_exit / A_reservoir, i.e. Cc = (1 - sqrt(1 - beta)) / beta (-> 1/2 as beta -> 0)."""
+    return (1.0 - math.sqrt(1.0 - beta)) / beta
+
+
+@pytest.mark.parametrize("symmetry, beta", [("axisymmetric", (1 / 15) ** 2), ("planar", 1 / 15)])
+def test_borda_mouthpiece_contraction_is_one_half(symmetry, beta):
+    # Borda: Cc = 1/2 from an infinite reservoir (Encyclopaedia Britannica 1911, "Hydraulics" s.37);
+    # in this reservoir 15 lip radii wide the same momentum argument gives 0.50056 (axisymmetric) and
+    # 0.50862 (planar). Measured at mesh level 0: 0.5021 and 0.5099 (the knife-edge chamfer and the
+    # lip region).
     res = solve_case(_case(borda(symmetry)))
     assert res.jet.settled
-    assert res.jet.contraction_coefficient == pytest.approx(0.5, abs=tol)
+    assert res.jet.contraction_coefficient == pytest.approx(borda_finite_reservoir(beta), abs=0.005)
     # the jet boundary is at the ambient pressure: rms speed mismatch on it (final streamline solve)
     assert res.jet.speed_mismatch_rms < 0.05  # measured 0.02 (axisymmetric), 0.04 (planar) at this level
     # wall force equals the momentum balance through the far jet
@@ -55,7 +64,9 @@ def test_borda_mouthpiece_contraction_is_one_half(symmetry, tol):
 
 def test_planar_slot_contraction_kirchhoff():
     # Kirchhoff: pi / (pi + 2) = 0.6110 for a slot in an infinite wall; the 20:1 channel here
-    # raises it by < 0.001 (von Mises' table, from memory). Coarse level: within 0.012.
+    # raises it by < 0.001 (von Mises' table, from memory). Measured: 0.6219 at level 0, 0.6187 at
+    # level 2 (too high: the plate face next to the lip carries the wall force that sets the jet
+    # width, and its pressure there converges slowly). Within 0.012, not the 0.005 aimed at.
     res = solve_case(_case(SLOT))
     assert res.case.profile.planar and res.mesh.planar
     assert res.jet.contraction_coefficient == pytest.approx(math.pi / (math.pi + 2), abs=0.012)
