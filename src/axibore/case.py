@@ -490,6 +490,47 @@ def _set_dotted(data: dict, key: str, value: Any, source: str) -> None:
             node = items[index - 1]
 
 
+def _nearest_key(key: str, where: list, data: dict, template) -> str | None:
+    """The valid key nearest in spelling to a misspelt one, in the same table."""
+    import difflib
+
+    model = CaseModel
+    fields = None
+    try:
+        node = model
+        for item in where:
+            if isinstance(item, int):
+                continue
+            f = node.model_fields.get(str(item))
+            if f is None:
+                return None
+            ann = f.annotation
+            # the bore section: the template's model; lists and optionals: their element model
+            cands = [a for a in getattr(ann, "__args__", ()) if isinstance(a, type) and issubclass(a, BaseModel)]
+            if str(item) == "bore" and template:
+                cands = [c for c in _bore_models() if c.model_fields["template"].annotation.__args__[0] == template] or cands
+            if isinstance(ann, type) and issubclass(ann, BaseModel):
+                cands = [ann]
+            if not cands:
+                args = getattr(ann, "__args__", ())
+                for a in args:
+                    for b in getattr(a, "__args__", ()):
+                        if isinstance(b, type) and issubclass(b, BaseModel):
+                            cands.append(b)
+            if not cands:
+                return None
+            node = cands[0]
+        fields = list(node.model_fields)
+    except Exception:  # a suggestion is a courtesy: never let it hide the real message
+        return None
+    close = difflib.get_close_matches(key, fields, n=1, cutoff=0.7)
+    return close[0] if close else None
+
+
+def _bore_models():
+    return (ConicalBore, ContouredBore, ReducerBore, SpearBore, SegmentsBore, PointsBore)
+
+
 def _format_validation(exc: ValidationError, data: dict) -> list[tuple[str, str]]:
     problems = []
     template = data.get("bore", {}).get("template") if isinstance(data.get("bore"), dict) else None
@@ -509,6 +550,9 @@ def _format_validation(exc: ValidationError, data: dict) -> list[tuple[str, str]
         given = err.get("input")
         if kind == "extra_forbidden":
             msg = f"unknown key (a typo?): {parts[-1]!r} is not a case-file key here"
+            near = _nearest_key(parts[-1], loc[:-1], data, template)
+            if near:
+                msg += f"; did you mean {near!r}?"
         elif kind == "missing":
             msg = "missing: this key is required" + (f' for template "{template}"' if loc[0] == "bore" and template else "")
         elif kind == "union_tag_invalid":
@@ -598,6 +642,10 @@ def _cross_checks(m: CaseModel) -> list[tuple[str, str]]:
             problems.append(("solver.kind", f'"{m.solver.kind}" is for {" and ".join({"liquid": "liquids", "gas": "gases"}[e] for e in entry.fluids)}; '
                              f"a {'gas' if cls == 'gas' else 'liquid'} takes " + (" or ".join(f'"{k}"' for k in others) or "no solver of this version")))
     problems += _viscous_checks(m)
+    if m.bore.symmetry == "planar" and (m.joint or m.flange.gasket_diameter is not None or m.flange.bolts is not None):
+        problems.append(("joint" if m.joint else "flange",
+                         'not with bore.symmetry = "planar": joint loads use round gaskets (pi G^2 / 4) and bolt circles, '
+                         "which a per-metre planar section does not have"))
     if m.bore.template == "spear" and getattr(m.bore, "centerbody", None) is not None:
         problems.append(("bore.centerbody", "the spear template builds its own needle"))
     return problems

@@ -75,6 +75,9 @@ def describe(case: Case) -> list[str]:
     )
     if not b.within:
         lines.append(f"note      {refusal(b)}; `run` will refuse this case")
+    if case.outlet.kind == "free-jet":
+        lines.append("note      free jet: meshed with unstructured triangles (more cells than the count above, which is for "
+                     "the bore alone) and remeshed at every outer iteration, usually 8 to 25 of them")
     lines.append(f"solver    {case.solver_kind} (tolerance {case.solver.tolerance:g}); 1D breakdown threshold {case.onedim.threshold:.3g} of the outlet dynamic pressure")
     v = case.viscous
     if case.viscous_model == "integral":

@@ -5,6 +5,7 @@ solver) -> wall tables, forces, 1D comparison, checks. ``solve_case`` computes i
 
 from __future__ import annotations
 
+import math
 import time
 from dataclasses import dataclass, field, replace
 from pathlib import Path
@@ -147,14 +148,19 @@ def _exit_plane_model(case: Case, frc: Forces, flow: FlowResult, progress: Progr
         ep = solve_case(ep_case)
     except (CaseError, ProfileError, FlowError, RunRefused) as exc:
         return {"note": f"the exit-plane model could not be solved for this outline: {exc}"}
+    from .geometry.jet import lip_angle
+
+    backwards = lip_angle(case.profile) < -math.pi / 2 - 1e-9
     return {
         "volume_flow_m3_s": ep.flow.volume_flow,
         "total_x_N": ep.forces.total_x_N,
         "min_wall_gauge_Pa": ep.checks.min_wall_gauge_Pa,
         "flow_rel_diff": ep.flow.volume_flow / flow.volume_flow - 1.0,
         "force_rel_diff": ep.forces.total_x_N / frc.total_x_N - 1.0 if frc.total_x_N else None,
-        "note": "the same bore with outlet.kind = \"exit-plane\" (jet leaving the lip plane uniformly at ambient "
-                "pressure); *_rel_diff = exit-plane / free-jet - 1",
+        "note": ("the same bore with outlet.kind = \"exit-plane\" (jet leaving the lip plane uniformly at ambient "
+                 "pressure); *_rel_diff = exit-plane / free-jet - 1"
+                 + ("; the wall arrives at the lip running upstream (a re-entrant tube), so the exit plane cuts the flow "
+                    "where it is not a jet: this comparison is not meaningful" if backwards else "")),
     }
 
 

@@ -257,8 +257,11 @@ class Profile:
         return np.where(np.isfinite(out), out, 0.0)
 
     def flow_area(self, x) -> np.ndarray:
-        """Flow area normal to the axis at x: pi (r_wall^2 - r_body^2)."""
+        """Flow area normal to the axis at x: pi (r_wall^2 - r_body^2); planar: r_wall - r_body per
+        unit depth (the half above the symmetry plane)."""
         x = np.asarray(x, float)
+        if self.planar:
+            return self.wall_radius(x) - self.centerbody_radius(x)
         return np.pi * (self.wall_radius(x) ** 2 - self.centerbody_radius(x) ** 2)
 
     @property

@@ -287,8 +287,12 @@ def jet_plot(run, path=None) -> Path:
     ax2.plot(x, j["speed_mismatch"] * 100, color="#ff8c1a", lw=1.0)
     ax2.axhline(0.0, color="0.5", lw=0.6)
     lim = max(1.0, float(np.percentile(np.abs(j["speed_mismatch"]), 95)) * 100 * 1.5)
+    worst = float(np.max(np.abs(j["speed_mismatch"]))) * 100
     ax2.set_ylim(-lim, lim)
     ax2.set_ylabel("speed / jet speed - 1 [%]")
+    if worst > lim:
+        ax2.set_title(f"axis clipped at +-{lim:.2g} %: the largest mismatch, {worst:.3g} %, is next to the lip "
+                      "(the flow round a sharp edge is singular)", fontsize=8)
     ax2.set_xlabel("x [mm]")
     for a in (ax, ax2):
         _plain_ticks(a)

@@ -67,7 +67,11 @@ def headline_rows(s: dict, unit: str = "bar") -> list[tuple[str, str, str]]:
     """(label, key, formatted) of the headline table, in order (pressures in ``unit``)."""
     k = 1.0 / PRESSURE_UNITS[unit]
     f, fl, p, o = s["forces"], s["flow"], s["pressure"], s["onedim"]
-    rows = [
+    rows = []
+    if (s.get("geometry") or {}).get("per_unit_depth"):
+        rows.append(("Planar section", "geometry.per_unit_depth",
+                     "flows, areas and forces per metre of depth, for the half above the symmetry plane"))
+    rows += [
         ("Volume flow", "flow.volume_flow_m3_s", _fmt(fl["volume_flow_m3_s"], "m³/s")),
         ("Mass flow", "flow.mass_flow_kg_s", _fmt(fl["mass_flow_kg_s"], "kg/s")),
         ("Mean velocity, inlet", "flow.inlet_mean_velocity_m_s", _fmt(fl["inlet_mean_velocity_m_s"], "m/s")),
@@ -260,7 +264,10 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     facts = [
         ("solver", f"{sv['kind']}, {sv.get('method', '')}, {sv['iterations']} iterations"),
         ("linear residual", f"{sv['residual']:.3g}"), ("mass imbalance", f"{sv['mass_imbalance']:.3g}"),
-        ("solve time", f"{sv['seconds']:.3g} s"), ("cells", f"{m['cells']:,} ({m.get('method', '')}, level {m['level']})"),
+        ("solve time", f"{sv['seconds']:.3g} s" + (f" (the last solve; the free-jet iteration: {sv['free_jet_iterations']} "
+                                                    f"outer iterations, {s['seconds'].get('mesh', 0) + s['seconds'].get('solve', 0):.3g} s "
+                                                    "with remeshing)" if sv.get("free_jet_iterations") else "")),
+        ("cells", f"{m['cells']:,} ({m.get('method', '')}, level {m['level']})"),
         ("representative cell size h", f"{m['h_m'] * 1e3:.4g} mm"),
         ("max non-orthogonality", f"{m.get('max_non_orthogonality_deg', float('nan')):.3g} deg"),
         ("max aspect ratio", f"{m.get('max_aspect_ratio', float('nan')):.3g}"),

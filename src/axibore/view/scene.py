@@ -300,6 +300,10 @@ def render(run_dir: str | Path, field: str = "pressure", angle_deg: float = 270.
 
     off = png is not None
     plotter = pv.Plotter(off_screen=off, window_size=list(window_size))
+    from ..io.rundir import read_summary
+
+    if (read_summary(run_dir).get("geometry") or {}).get("per_unit_depth"):
+        meridional = True  # a planar section is not a body of revolution: show the section itself
     info = (build_meridional(plotter, run_dir, field, opts=opts) if meridional
             else build_cutaway(plotter, run_dir, field, angle_deg, opts))
     if not off:
