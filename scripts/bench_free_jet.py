@@ -37,7 +37,7 @@ def main() -> None:
                     f"{fj.jet.contraction_coefficient:.4f}  {fj.flow.volume_flow / ep.flow.volume_flow:.4f}")
         print(rows[-1], flush=True)
     out = Path(__file__).parent / "results" / "bench_free_jet.txt"
-    out.write_text("\n".join(rows) + "\n")
+    out.write_text("\n".join(rows) + "\n")  # the header with the date and machine is added by hand
     print("\n".join(rows))
 
 
