@@ -247,8 +247,10 @@ class Profile:
         return float(np.sum((r + r1) * cross) / 6.0)
 
     def wall_radius(self, x: np.ndarray) -> np.ndarray:
-        """Smallest wall radius crossing each x (the bore radius seen by a 1D model)."""
-        return _crossings(self.wall_points, np.asarray(x, float), np.minimum, np.inf)
+        """Smallest wall radius crossing each x (the bore radius seen by a 1D model); past a lip, the
+        free jet's radius where the profile has one."""
+        pts = self.wall_points if not self.jet else np.vstack([self.wall_points, self.chain_points("jet")[1:]])
+        return _crossings(pts, np.asarray(x, float), np.minimum, np.inf)
 
     def centerbody_radius(self, x: np.ndarray) -> np.ndarray:
         if not self.centerbody:
