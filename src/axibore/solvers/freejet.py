@@ -52,6 +52,7 @@ from .base import FlowError, FlowResult
 MAX_OUTER = 40  # outer iterations before the jet is reported as not settled
 MOVE_TOL = 5e-3  # settled: no jet point moves by more than this fraction of the lip radius ...
 SETTLE_WINDOW = 4
+CREEP_TOL = 2e-4  # ... and the far radius still to come from its creep is below this many lip radii
 CC_TOL = 1e-3  # ... and the mean contraction coefficient of the last 4 iterations differs from that of the 4 before
 #                by less than this (relative): a drift test, since each remesh moves the answer by about 2e-3
 RELAXATION = 1.5  # fraction of the crossing angle applied per iteration
@@ -221,6 +222,8 @@ def solve_free_jet(case, profile: Profile, mesher, progress=None, msh_path=None)
     thetas: list[np.ndarray] = []
     prev_turn = None
     last_jump = 0
+    turns: list[np.ndarray] = []
+    r_ends: list[float] = []
     history: list[JetIteration] = []
     settled = False
     s_mid = np.cumsum(ds) - 0.5 * ds
@@ -250,6 +253,22 @@ def solve_free_jet(case, profile: Profile, mesher, progress=None, msh_path=None)
                 new_theta = new_theta + min(lam / (1.0 - lam), EXTRAPOLATE_MAX) * turn
                 last_jump = k
         prev_turn = turn
+        turns.append(turn)
+        r_ends.append(float(integrate(lip, new_theta, ds)[-1, 1]))
+        remaining = math.inf
+        if len(r_ends) >= 6:
+            # The far radius creeps (the slow mode) under the remeshing noise: fit the last five
+            # increments with a steady factor lam (least squares); the creep still to come is
+            # d lam / (1 - lam). Where it has moved the same way throughout, extrapolate it.
+            d = np.diff(r_ends[-6:])
+            lam = float(d[1:] @ d[:-1]) / float(d[:-1] @ d[:-1]) if float(d[:-1] @ d[:-1]) > 0 else 0.0
+            lam_c = min(max(lam, 0.0), 0.97)
+            remaining = abs(d[-1]) * lam_c / (1.0 - lam_c) if lam > 0 else abs(d[-1])
+            if (np.all(d > 0) or np.all(d < 0)) and 0.5 < lam < 0.97 and k - last_jump >= 5:
+                new_theta = new_theta + min(lam / (1.0 - lam), EXTRAPOLATE_MAX) * np.mean(turns[-3:], axis=0)
+                last_jump = k
+                r_ends[-1] = float(integrate(lip, new_theta, ds)[-1, 1])
+                remaining = math.inf
         if use_momentum:
             # the far-jet radius from the axial momentum balance (well conditioned where the walls
             # see little of the jet, as in a reservoir; the crossing angles barely sense the width):
@@ -272,7 +291,7 @@ def solve_free_jet(case, profile: Profile, mesher, progress=None, msh_path=None)
         thetas.append(new_theta)
         w = SETTLE_WINDOW
         drift = abs(np.mean(ccs[-w:]) - np.mean(ccs[-2 * w:-w])) if len(ccs) >= 2 * w else math.inf
-        if move < MOVE_TOL and drift < CC_TOL * ccs[-1]:
+        if move < MOVE_TOL and drift < CC_TOL * ccs[-1] and remaining < CREEP_TOL * r_lip:
             settled = True
             # each remesh moves the discrete answer a little (about 2e-3 in the contraction): the
             # settled jet is the mean of the last SETTLE_WINDOW updates
