@@ -51,7 +51,7 @@ def borda_finite_reservoir(beta: float) -> float:
 def test_borda_mouthpiece_contraction_is_one_half(symmetry, beta):
     # Borda: Cc = 1/2 from an infinite reservoir (Encyclopaedia Britannica 1911, "Hydraulics" s.37);
     # in this reservoir 15 lip radii wide the same momentum argument gives 0.50056 (axisymmetric) and
-    # 0.50862 (planar). Measured at mesh level 0: 0.5021 and 0.5099 (the knife-edge chamfer and the
+    # 0.50862 (planar). Measured at mesh level 0: 0.5024 and 0.5110 (the knife-edge chamfer and the
     # lip region).
     res = solve_case(_case(borda(symmetry)))
     assert res.jet.settled
