@@ -23,9 +23,12 @@ an inverse formulation instead):
 4. Where the bore upstream is a reservoir (RESERVOIR lip radii wide), the far-jet radius is set
    from the axial momentum balance of the flow with the trial jet as a streamline, A_jet = (M_in -
    F_walls) / V^2, by a smooth change of the angles (the crossing angles barely sense the width).
-5. Once two successive updates are parallel, the slow mode they share is extrapolated (Aitken).
-6. Settled when no point moves by more than MOVE_TOL lip radii and the mean contraction
-   coefficient of the last SETTLE_WINDOW iterations has stopped drifting (CC_TOL); the settled
+5. Once two successive updates are parallel, the slow mode they share is extrapolated (Aitken);
+   so is a steady creep of the far radius (a geometric fit of its last changes).
+6. Settled when no point moves by more than MOVE_TOL lip radii, the mean contraction coefficient
+   of the last SETTLE_WINDOW iterations has stopped drifting (CC_TOL) and the creep still to come
+   is below CREEP_TOL lip radii (in a nozzle, whose width no momentum balance fixes, the far radius
+   creeps slowly and the answer keeps an iteration error of about 0.5 %); the settled
    jet is the mean of those last iterations (each remesh moves the discrete answer by about 2e-3).
    Then the potential is solved once more with the settled jet as a streamline and the outlet
    plane at the ambient pressure: the reported flow. The remaining speed mismatch on the jet,
@@ -52,7 +55,7 @@ from .base import FlowError, FlowResult
 MAX_OUTER = 40  # outer iterations before the jet is reported as not settled
 MOVE_TOL = 5e-3  # settled: no jet point moves by more than this fraction of the lip radius ...
 SETTLE_WINDOW = 4
-CREEP_TOL = 2e-4  # ... and the far radius still to come from its creep is below this many lip radii
+CREEP_TOL = 2e-4  # ... the far radius still to come from its creep is below this many lip radii ...
 CC_TOL = 1e-3  # ... and the mean contraction coefficient of the last 4 iterations differs from that of the 4 before
 #                by less than this (relative): a drift test, since each remesh moves the answer by about 2e-3
 RELAXATION = 1.5  # fraction of the crossing angle applied per iteration
