@@ -10,7 +10,7 @@ from .units import show
 
 def describe(case: Case) -> list[str]:
     """What was understood from a case, in SI with units."""
-    from .mesh.gmsh_build import expected_cells, target_size
+    from .mesh.gmsh_build import target_size
 
     f = case.fluid
     lines = [f"case      {case.title}  ({case.source})"]

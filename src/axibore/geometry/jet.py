@@ -14,6 +14,13 @@ JET_TAIL = 6.0  # length of the jet downstream of the lip (and of any centre bod
 LIP_SPACING = 0.25  # jet element length at the lip, in target cell sizes (grows to FAR_SPACING downstream)
 FAR_SPACING = 0.7
 GROWTH = 1.08
+RESERVOIR = 4.0  # a bore wider than this many lip radii is a reservoir upstream of an opening
+
+
+def is_reservoir(profile: Profile) -> bool:
+    """The bore upstream of the lip is a reservoir (wider than RESERVOIR lip radii): an orifice in a
+    wall or a re-entrant tube rather than a nozzle."""
+    return float(profile.wall_points[:, 1].max()) >= RESERVOIR * profile.wall[-1].end[1]
 
 
 def lip_angle(profile: Profile) -> float:
@@ -113,12 +120,10 @@ def jet_problem(profile: Profile, points: np.ndarray) -> str | None:
     jet = LineString(points)
     if not jet.is_simple:
         return "the jet boundary crosses itself"
-    wall = LineString(profile.wall_points)
-    inter = jet.intersection(wall)
-    if not inter.is_empty and inter.geom_type != "Point":
-        return "the jet boundary runs into the wall"
-    if inter.geom_type == "Point" and inter.distance(LineString(points[:2])) > 1e-9 * profile.length_scale and \
-            np.hypot(inter.x - points[0, 0], inter.y - points[0, 1]) > 1e-9 * profile.length_scale:
+    # the jet meets the wall at the lip only
+    inter = jet.intersection(LineString(profile.wall_points))
+    if not inter.is_empty and (inter.geom_type != "Point" or
+                               math.hypot(inter.x - points[0, 0], inter.y - points[0, 1]) > profile.tol):
         return "the jet boundary runs into the wall"
     if profile.centerbody:
         body = LineString(profile.centerbody_points)

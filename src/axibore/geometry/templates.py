@@ -78,6 +78,18 @@ def _straight_cone(r_in: float, r_out: float, half_angle: float) -> float:
     return length
 
 
+def _cone_and_tip(v, tip_length: float, lip_radius: float) -> list[Segment]:
+    """Inlet pipe, cone and straight tip through the vertices ``v`` (conical and spear templates),
+    the cone-to-tip corner rounded by ``lip_radius``; tip_length 0: the cone ends at the exit."""
+    if tip_length == 0.0:
+        if lip_radius > 0:
+            raise ProfileError("bore.lip_radius", "a lip rounding needs a straight tip after the cone: give tip_length > 0 "
+                               "or lip_radius = 0")
+        return fillet_chain(v[:3], [0.0], ["bore.inlet_length", "bore.half_angle"], ["bore.inlet_length"])
+    return fillet_chain(v, [0.0, lip_radius], ["bore.inlet_length", "bore.half_angle", "bore.tip_length"],
+                        ["bore.inlet_length", "bore.lip_radius"])
+
+
 def _chain_from_spec(start, segments, prefix: str) -> list[Segment]:
     out = []
     p = (float(start[0]), float(start[1]))
@@ -211,14 +223,7 @@ def build_profile(bore, base_dir: Path | None = None, free_jet: bool = False) ->
             raise ProfileError("bore.exit_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m) for a nozzle")
         lc = _straight_cone(ri, re, b.half_angle)
         v = [(0, ri), (b.inlet_length, ri), (b.inlet_length + lc, re), (b.inlet_length + lc + b.tip_length, re)]
-        if b.tip_length == 0.0:  # the cone ends at the exit plane: no lip to round
-            if b.lip_radius > 0:
-                raise ProfileError("bore.lip_radius", "a lip rounding needs a straight tip after the cone: give tip_length > 0 "
-                                   "or lip_radius = 0")
-            wall = fillet_chain(v[:3], [0.0], ["bore.inlet_length", "bore.half_angle"], ["bore.inlet_length"])
-        else:
-            wall = fillet_chain(v, [0.0, b.lip_radius], ["bore.inlet_length", "bore.half_angle", "bore.tip_length"],
-                                ["bore.inlet_length", "bore.lip_radius"])
+        wall = _cone_and_tip(v, b.tip_length, b.lip_radius)
     elif t == "reducer":
         r1, r2 = b.inlet_diameter / 2, b.outlet_diameter / 2
         if abs(r1 - r2) <= 1e-9 * r1:
@@ -252,14 +257,7 @@ def build_profile(bore, base_dir: Path | None = None, free_jet: bool = False) ->
         xo = b.inlet_length + lc
         x_out = xo + b.tip_length
         v = [(0, ri), (b.inlet_length, ri), (xo, ro), (x_out, ro)]
-        if b.tip_length == 0.0:  # the orifice edge is the exit
-            if b.lip_radius > 0:
-                raise ProfileError("bore.lip_radius", "a lip rounding needs a straight tip after the orifice cone: give "
-                                   "tip_length > 0 or lip_radius = 0")
-            wall = fillet_chain(v[:3], [0.0], ["bore.inlet_length", "bore.half_angle"], ["bore.inlet_length"])
-        else:
-            wall = fillet_chain(v, [0.0, b.lip_radius], ["bore.inlet_length", "bore.half_angle", "bore.tip_length"],
-                                ["bore.inlet_length", "bore.lip_radius"])
+        wall = _cone_and_tip(v, b.tip_length, b.lip_radius)
         tn = math.tan(b.needle_half_angle)
         x_tip = xo + ro / tn - b.stroke  # at stroke 0 the needle cone seats on the orifice edge
         if x_tip <= 0:

@@ -96,13 +96,12 @@ JET_HEADER = ("axibore free-jet boundary: faces of the settled jet boundary from
 
 def write_jet_table(res, out: Path) -> None:
     """jet.csv: the jet boundary faces with their pressure and the remaining speed mismatch."""
-    import math
-
     from ..names import Boundary
     from ..post.loads import wall_table
+    from ..solvers.freejet import jet_speed
 
     t = wall_table(res.flow, res.profile, Boundary.JET)
-    V = math.sqrt(2.0 * max(res.flow.total_pressure, 0.0) / res.flow.inlet_density)
+    V = jet_speed(res.flow)
     cols = {"x_m": t.x, "r_m": t.r, "s_m": t.s, "p_gauge_Pa": t.pressure, "speed_m_s": t.speed,
             "speed_mismatch": t.speed / V - 1.0, "n_x": t.nx, "n_r": t.nr, "face_length_m": t.length}
     write_csv(out / "jet.csv", cols, JET_HEADER)

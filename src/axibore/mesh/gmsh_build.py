@@ -345,17 +345,16 @@ JET_REACH = 1.5  # free jets: cells of the target size within this many lip radi
 JET_FAR_SIZE = 0.25  # ... growing to this fraction of the widest radius (a reservoir far from the opening)
 
 
-RESERVOIR = 4.0  # a bore wider than this many lip radii is a reservoir upstream of an opening
-
-
 def jet_grading(profile: Profile, h: float):
-    """Size grading of a mesh with a free jet: where the bore upstream is a reservoir (wider than
-    RESERVOIR lip radii), cells of the target size along the jet and near the lip, coarser out in
-    the reservoir; a nozzle discharging a jet keeps the target size throughout (None)."""
+    """Size grading of a mesh with a free jet: where the bore upstream is a reservoir
+    (``geometry.jet.is_reservoir``), cells of the target size along the jet and near the lip, coarser
+    out in the reservoir; a nozzle discharging a jet keeps the target size throughout (None)."""
+    from ..geometry.jet import is_reservoir
+
+    if not is_reservoir(profile):
+        return None
     r_lip = profile.jet[0].start[1]
     r_wide = float(profile.wall_points[:, 1].max())
-    if r_wide < RESERVOIR * r_lip:
-        return None
     far = max(h, JET_FAR_SIZE * min(r_wide, float(np.ptp(profile.outline[:, 0]))))
     return (("jet", "wall", "centerbody"), JET_REACH * r_lip, far)
 

@@ -137,9 +137,8 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
             )
     if case.outlet.kind == "free-jet" and profile.jet:
         jb = flow.boundary.get("jet")
-        if jb is not None and flow.total_pressure:
-            q = 0.5 * flow.inlet_density * (2.0 * flow.total_pressure / flow.inlet_density)
-            worst = float(np.max(np.abs(jb.pressure))) / q
+        if jb is not None and flow.total_pressure:  # the jet's dynamic pressure is the total head (gauge)
+            worst = float(np.max(np.abs(jb.pressure))) / flow.total_pressure
             if worst > 0.02:
                 warnings.append(
                     f"free jet: the pressure on the settled jet boundary is within {worst:.1%} of the jet's dynamic pressure "

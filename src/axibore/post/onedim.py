@@ -127,7 +127,7 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
     # An inviscid flow leaving through a plane at a given pressure has no losses and no jet
     # contraction: its discharge coefficient is 1 by construction of the model.
     cd = None
-    force_1d_gas = None
+    force_1d_model = None
     if flow.compressible:
         it = int(np.argmin(model.area))
         cd = flow.mass_flow / model.mass_flow
@@ -137,8 +137,8 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
         p_in, p_out = model.pressure[0] - amb, model.pressure[-1] - amb
         V_in = model.mass_flow / (model.density[0] * model.area[0])
         V_ex = model.mass_flow / (model.density[-1] * model.area[-1])
-        force_1d_gas = p_in * model.area[0] - p_out * model.area[-1] + model.mass_flow * (V_in - V_ex)
-        force_1d = force_1d_gas
+        force_1d_model = p_in * model.area[0] - p_out * model.area[-1] + model.mass_flow * (V_in - V_ex)
+        force_1d = force_1d_model
         gas = {"ideal_mass_flow_kg_s": model.mass_flow, "choked": model.regime != "subsonic", "regime": model.regime,
                "throat_x_m": float(model.x[it]), "throat_area_m2": float(model.area[it]),
                "shock_x_m": model.x_shock, "onedim_exit_mach": float(model.mach[-1])}
@@ -150,7 +150,7 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
         # the exit-plane hand formula: the jet leaves the lip plane uniformly at the ambient pressure
         V1 = flow.inlet_velocity
         force_1d = flow.inlet_pressure * flow.inlet_area + flow.mass_flow * (V1 - Q / a_exit)
-        force_1d_gas = force_1d
+        force_1d_model = force_1d
     elif outlet_kind == "pipe":
         cd_note = "none for a pipe outlet (inviscid flow between two planes has no losses)"
     else:
@@ -170,7 +170,7 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
         flow_ratio_to_1d=ratio_1d,
         wall_pressure_max_dev_Pa=float(dev_pa),
         wall_pressure_max_dev_local=local,
-        onedim_force_N=force_1d_gas,
+        onedim_force_N=force_1d_model,
         gas=gas,
         meaningful=profile.monotone,
         deviation=devs,

@@ -48,7 +48,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..geometry import Profile
-from ..geometry.jet import lip_angle, exit_area, far_area, initial_jet, integrate, jet_problem, with_jet
+from ..geometry.jet import exit_area, far_area, initial_jet, integrate, is_reservoir, jet_problem, lip_angle, with_jet
+from ..mesh.gmsh_build import target_size
 from ..names import Boundary
 from .base import FlowError, FlowResult
 
@@ -124,9 +125,15 @@ def _jet_faces(mesh, points: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.nda
     return faces, s, elem
 
 
-def _trial_solve(mesh, points: np.ndarray, linear, say=None, momentum_width: bool = True):
+def jet_speed(flow: FlowResult) -> float:
+    """The speed on a free jet: Bernoulli from the total head to the ambient pressure (0 gauge)."""
+    return math.sqrt(2.0 * max(flow.total_pressure, 0.0) / flow.inlet_density)
+
+
+def _trial_solve(mesh, points: np.ndarray, linear, momentum_width: bool = True) -> tuple[np.ndarray, float]:
     """Step 2: the potential with phi = s on the jet, inflow fixed by zero net crossing.
-    Returns (crossing angle per jet element, unit inflow speed)."""
+    Returns the crossing angle of each jet element and, where ``momentum_width``, the far-jet area
+    the axial momentum balance asks for (unit jet speed; per radian, planar per unit depth)."""
     from .potential import BoundaryCondition, solve_potential_many
 
     faces, s, elem = _jet_faces(mesh, points)
@@ -138,7 +145,7 @@ def _trial_solve(mesh, points: np.ndarray, linear, say=None, momentum_width: boo
             Boundary.OUTLET: BoundaryCondition("value", s_end)}
     set1 = {**flux0, Boundary.INLET: BoundaryCondition("flux", -1.0), Boundary.JET: BoundaryCondition("value", 0.0),
             Boundary.OUTLET: BoundaryCondition("value", 0.0)}
-    f0, f1 = solve_potential_many(mesh, [set0, set1], linear, say)
+    f0, f1 = solve_potential_many(mesh, [set0, set1], linear)
 
     F0, F1 = f0.face_flux[faces].sum(), f1.face_flux[faces].sum()
     U = -F0 / F1  # no net flow across the trial boundary
@@ -164,7 +171,7 @@ def _trial_solve(mesh, points: np.ndarray, linear, say=None, momentum_width: boo
         p = 0.5 * (1.0 - g[0] ** 2 - g[1] ** 2)
         A, nx = mesh.face_area[fb], mesh.face_normal[fb, 0]
         momentum += float(np.sum((p + g[0] ** 2) * A)) if name == Boundary.INLET else -float(np.sum(p * nx * A))
-    return np.arctan(un_el), U, momentum
+    return np.arctan(un_el), momentum
 
 
 SMOOTHING_WIDTH = 0.03  # Gaussian width of the smoothing of the turning angles, in lip radii ...
@@ -207,8 +214,6 @@ def solve_free_jet(case, profile: Profile, mesher, progress=None, msh_path=None)
         raise ValueError("the profile already has a jet boundary")
     lip = np.array(profile.wall[-1].end, float)
     r_lip = float(lip[1])
-    from ..mesh.gmsh_build import target_size
-
     h = target_size(profile, case.mesh.size, case.mesh.level)
     theta, ds = initial_jet(profile, h)
     theta_lip = lip_angle(profile)  # the jet leaves tangent to the wall (smooth separation at a sharp lip)
@@ -218,9 +223,7 @@ def solve_free_jet(case, profile: Profile, mesher, progress=None, msh_path=None)
     # the momentum balance fixes the far-jet area well where the bore upstream is a reservoir (its
     # walls see nearly the stagnation pressure); in a nozzle it is a small difference of large
     # pressure forces, and the crossing angles alone move the jet
-    from ..mesh.gmsh_build import RESERVOIR
-
-    use_momentum = float(profile.wall_points[:, 1].max()) >= RESERVOIR * r_lip
+    use_momentum = is_reservoir(profile)
     ccs: list[float] = []
     thetas: list[np.ndarray] = []
     prev_turn = None
@@ -239,7 +242,7 @@ def solve_free_jet(case, profile: Profile, mesher, progress=None, msh_path=None)
         build = mesher(with_jet(profile, points), h)
         mesh_seconds.append(build.seconds)
         mesh = build.mesh
-        angle, U, momentum = _trial_solve(mesh, points, case.linear_settings, momentum_width=use_momentum)
+        angle, momentum = _trial_solve(mesh, points, case.linear_settings, momentum_width=use_momentum)
         if not np.all(np.isfinite(angle)):
             raise JetNotSettled("outlet.kind", f"free-jet iteration {k}: the trial solution is not finite")
         turn = RELAXATION * smoothed(angle, s_mid, ds, r_lip)
@@ -311,7 +314,7 @@ def solve_free_jet(case, profile: Profile, mesher, progress=None, msh_path=None)
     mesh_seconds.append(build.seconds)
     flow = solve_potential_case(case, jet_profile, build.mesh, progress)
     jb = flow.boundary[Boundary.JET]
-    V = math.sqrt(2.0 * max(flow.total_pressure, 0.0) / case.fluid.density)
+    V = jet_speed(flow)
     mismatch = jb.speed / V - 1.0 if V > 0 else np.full(jb.speed.shape, np.nan)
     w = jb.length
     sol = JetSolution(points, tuple(history), settled, (float(lip[0]), r_lip), exit_area(profile),

@@ -134,12 +134,39 @@ def _add_jet_surface(plotter, run_dir: Path, angle_deg: float, opts=None) -> Non
     plotter.add_mesh(surf, color="#5b9bd5", opacity=0.25, show_scalar_bar=False)
 
 
+def _frame(plotter, grid, angle_deg: float, title: str, labels: bool = False) -> tuple[float, ...]:
+    """The axis line (labelled inlet / outlet / axis when ``labels``), the title, a white background
+    and the camera looking into the open wedge (its bisector) from slightly upstream; returns the
+    revolved bounds."""
+    import pyvista as pv
+
+    gb = grid.bounds
+    b = revolved_bounds(gb[0], gb[1], gb[3], angle_deg)
+    x0, x1 = b[0], b[1]
+    rmax = max(abs(v) for v in b[2:])
+    plotter.add_mesh(pv.Line((x0, 0, 0), (x1, 0, 0)), color="black", line_width=2)
+    if labels:
+        plotter.add_point_labels(np.array([[x0, 0, 0], [x1, 0, 0], [0.5 * (x0 + x1), 0, 0]]), ["inlet", "outlet", "axis"],
+                                 font_size=14, point_size=8, point_color="black", text_color="black", shape_opacity=0.4)
+    plotter.add_text(title, position="upper_left", font_size=10, color="black")
+    plotter.set_background("white")
+    tm = np.radians(angle_deg + 0.5 * (360.0 - angle_deg)) if angle_deg < 360 else np.radians(-45.0)
+    dist = 2.5 * rmax + 1.25 * (x1 - x0)
+    xc = 0.5 * (x0 + x1)
+    plotter.camera_position = [(xc - 0.45 * (x1 - x0), dist * np.cos(tm), dist * np.sin(tm)), (xc, 0, 0),
+                               (0, np.sin(tm), -np.cos(tm))]
+    plotter.camera.Azimuth(-28.0)
+    plotter.camera.Elevation(18.0)
+    plotter.camera.OrthogonalizeViewUp()
+    plotter.reset_camera()
+    plotter.camera.Zoom(1.15)
+    return b
+
+
 def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_deg: float = 270.0,
                   opts: ViewOptions = ViewOptions()) -> SceneInfo:
     """Add the 3D cut-away of a run to ``plotter``: cut planes coloured by ``field``; the wall in the
     same colour scale when the field is the pressure, else translucent grey (one colour bar)."""
-    import pyvista as pv
-
     from ..units import PRESSURE_UNITS
 
     if field not in FIELDS:
@@ -179,26 +206,7 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
         else:
             plotter.add_mesh(surf, color="#b0b8c0", opacity=0.35, show_scalar_bar=False)
     _add_jet_surface(plotter, run_dir, angle_deg, opts)
-    gb = grid.bounds
-    b = revolved_bounds(gb[0], gb[1], gb[3], angle_deg)
-    x0, x1 = b[0], b[1]
-    rmax = max(abs(v) for v in b[2:])
-    plotter.add_mesh(pv.Line((x0, 0, 0), (x1, 0, 0)), color="black", line_width=2)
-    plotter.add_point_labels(np.array([[x0, 0, 0], [x1, 0, 0], [0.5 * (x0 + x1), 0, 0]]), ["inlet", "outlet", "axis"],
-                             font_size=14, point_size=8, point_color="black", text_color="black", shape_opacity=0.4)
-    plotter.add_text("flow in +x", position="upper_left", font_size=10, color="black")
-    plotter.set_background("white")
-    # look into the open wedge (its bisector), from slightly upstream
-    tm = np.radians(angle_deg + 0.5 * (360.0 - angle_deg)) if angle_deg < 360 else np.radians(-45.0)
-    dist = 2.5 * rmax + 1.25 * (x1 - x0)
-    xc = 0.5 * (x0 + x1)
-    plotter.camera_position = [(xc - 0.45 * (x1 - x0), dist * np.cos(tm), dist * np.sin(tm)), (xc, 0, 0),
-                               (0, np.sin(tm), -np.cos(tm))]
-    plotter.camera.Azimuth(-28.0)
-    plotter.camera.Elevation(18.0)
-    plotter.camera.OrthogonalizeViewUp()
-    plotter.reset_camera()
-    plotter.camera.Zoom(1.15)
+    b = _frame(plotter, grid, angle_deg, "flow in +x", labels=True)
     return SceneInfo(b, field, frange, (float(wr[0]), float(wr[1])))
 
 
@@ -236,24 +244,7 @@ def _shear_cutaway(plotter, run_dir: Path, grid, angle_deg, opts, surfaces, plan
     for k, sf in enumerate(tau_surfaces):
         plotter.add_mesh(sf, scalars=WALL_TAU, cmap="plasma", clim=frange, show_scalar_bar=(k == 0),
                          scalar_bar_args={**bar, "title": WALL_TAU})
-    gb = grid.bounds
-    b = revolved_bounds(gb[0], gb[1], gb[3], angle_deg)
-    x0, x1 = b[0], b[1]
-    rmax = max(abs(v) for v in b[2:])
-    plotter.add_mesh(pv.Line((x0, 0, 0), (x1, 0, 0)), color="black", line_width=2)
-    plotter.add_text("flow in +x; wall coloured by the wall shear (separated: 0)", position="upper_left", font_size=10,
-                     color="black")
-    plotter.set_background("white")
-    tm = np.radians(angle_deg + 0.5 * (360.0 - angle_deg)) if angle_deg < 360 else np.radians(-45.0)
-    dist = 2.5 * rmax + 1.25 * (x1 - x0)
-    xc = 0.5 * (x0 + x1)
-    plotter.camera_position = [(xc - 0.45 * (x1 - x0), dist * np.cos(tm), dist * np.sin(tm)), (xc, 0, 0),
-                               (0, np.sin(tm), -np.cos(tm))]
-    plotter.camera.Azimuth(-28.0)
-    plotter.camera.Elevation(18.0)
-    plotter.camera.OrthogonalizeViewUp()
-    plotter.reset_camera()
-    plotter.camera.Zoom(1.15)
+    b = _frame(plotter, grid, angle_deg, "flow in +x; wall coloured by the wall shear (separated: 0)")
     return SceneInfo(b, "shear", frange, frange)
 
 
