@@ -147,3 +147,23 @@ def test_sharp_edged_orifice_grid_study(tmp_path):
     values = np.asarray(cc.phi)
     assert np.all((values > 0.58) & (values < 0.63))
     assert np.ptp(values) < 0.015  # the level-to-level scatter of the iteration
+
+
+@pytest.mark.parametrize("change, key, words", [
+    ({"bore": {**SLOT, "symmetry": "planer"}}, "bore.symmetry", "'axisymmetric' or 'planar'"),
+    ({"bore": {**SLOT, "symmetri": "planar"}}, "bore.symmetri", "did you mean 'symmetry'"),
+    ({"bore": {"template": "spear", "inlet_diameter": "150 mm", "orifice_diameter": "60 mm", "half_angle": "40 deg",
+               "inlet_length": "150 mm", "tip_length": "0 mm", "lip_radius": "5 mm", "needle_diameter": "80 mm",
+               "needle_half_angle": "25 deg", "stroke": "25 mm"}}, "bore.lip_radius", "straight tip"),
+    ({"bore": SLOT, "flange": {"gasket_diameter": "50 mm", "bolts": 4}}, "flange", "planar"),
+    ({"bore": {"template": "segments", "start": ["-20 mm", "20 mm"],
+               "segment": [{"to": ["0 mm", "20 mm"]}, {"to": ["0 mm", "0 mm"]}]}}, "bore.segment[2]", "away from the axis"),
+])
+def test_bad_free_jet_and_planar_input_names_the_key(change, key, words):
+    from axibore.case import CaseError
+
+    data = {"fluid": WATER, "bore": SLOT, "inlet": {"pressure": "1 bar"}, "outlet": {"kind": "free-jet"}, **change}
+    with pytest.raises(CaseError) as err:
+        case_from_dict(data, source="bad.toml")
+    text = str(err.value)
+    assert f"bad.toml: {key}:" in text and words in text, text
