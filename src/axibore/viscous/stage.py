@@ -429,7 +429,7 @@ def face_blockage(chains: dict[str, ChainLayer], profile, planar: bool) -> dict[
         parts.append((c.x[order], (c.perimeter * ds)[order]))
     out = {}
     for name, c in chains.items():
-        A = _flow_area(profile, c.x, planar)
+        A = profile.flow_area(np.atleast_1d(c.x))
         total = np.zeros(c.x.size)
         for xs, pd in parts:
             inside = (c.x >= xs[0] - 1e-9) & (c.x <= xs[-1] + 1e-9)
@@ -472,15 +472,9 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
                     f"{state} to {COUPLING_TOLERANCE:g} in B; largest B {Bmax:.3g}")
 
 
-def _flow_area(profile, x, planar: bool):
-    rw = profile.wall_radius(np.atleast_1d(np.asarray(x, float)))
-    rb = profile.centerbody_radius(np.atleast_1d(np.asarray(x, float)))
-    return (rw - rb) if planar else math.pi * (rw**2 - rb**2)
-
-
 def blockage(chains: dict[str, ChainLayer], profile, x: float, planar: bool) -> float:
     """sum P delta* / A at axial station x (chains that cross it; NaN where a layer there is separated)."""
-    A = float(_flow_area(profile, x, planar)[0])
+    A = float(profile.flow_area(np.atleast_1d(x))[0])
     total = 0.0
     for c in chains.values():
         margin = float(c.s[-1] - c.s[0]) / max(c.x.size - 1, 1)  # the planes lie half a face beyond the end faces
@@ -504,7 +498,7 @@ def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False
     the pressures carry the first-order displacement of the layer (core speed / (1 - B))."""
     x1, x2 = taps if taps is not None else (profile.x_inlet, profile.x_outlet)
     xs = np.linspace(x1, x2, 801)
-    A = _flow_area(profile, xs, planar)
+    A = profile.flow_area(np.atleast_1d(xs))
     A_m, A_1 = float(A.min()), float(A[0])
     rho = flow.inlet_density
     (p1, u1), (p2, u2) = _station_pressures(flow, tables, taps)
@@ -574,7 +568,7 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
     if flow.compressible:
         cd_inv = onedim.discharge_coefficient if onedim is not None else None
         xs = np.linspace(profile.x_inlet, profile.x_outlet, 801)
-        x_t = float(xs[int(np.argmin(_flow_area(profile, xs, planar)))])
+        x_t = float(xs[int(np.argmin(profile.flow_area(np.atleast_1d(xs))))])
         B = blockage(chains, profile, x_t, planar)
         if cd_inv is None or not np.isfinite(B):
             cd, cd_note = None, "none: the layer is separated at the narrowest section"
