@@ -244,7 +244,9 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
         parts.append("<h2>Warnings</h2>")
         parts += [f"<div class='warn'>{e(w)}</div>" for w in s["warnings"] + notes]
     captions = {
-        "view3d": "Cut-away of the bore revolved 270° about the axis; cut planes and wall coloured by gauge pressure.",
+        "view3d": ("The planar section coloured by gauge pressure, with streamlines (a planar case is not revolved)."
+                   if (s.get("geometry") or {}).get("per_unit_depth") else
+                   "Cut-away of the bore revolved 270° about the axis; cut planes and wall coloured by gauge pressure."),
         "wall_pressure": "Wall gauge pressure along the axis: the 2D result and the 1D model (Bernoulli and continuity with the local flow area).",
         "axial_force": "Cumulative axial force on the part from the inlet; its end value is the wall force.",
         "speed": "Speed in the meridional plane with streamlines.",
