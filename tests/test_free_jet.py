@@ -167,3 +167,20 @@ def test_bad_free_jet_and_planar_input_names_the_key(change, key, words):
         case_from_dict(data, source="bad.toml")
     text = str(err.value)
     assert f"bad.toml: {key}:" in text and words in text, text
+
+
+def test_mesh_command_meshes_the_first_trial_jet(tmp_path, capsys):
+    # `axibore mesh` on a free-jet case shows what the first outer iteration meshes: the bore with
+    # the jet boundary past the lip, ending at an outlet plane downstream (6 lip radii)
+    from pathlib import Path
+
+    import meshio
+
+    from axibore.cli import main
+
+    case = Path(__file__).parents[1] / "cases" / "tank_drain_orifice.toml"
+    assert main(["mesh", str(case), "--out", str(tmp_path)]) == 0
+    text = capsys.readouterr().out
+    assert "first trial jet" in text and "jet " in text.split("boundary")[1]
+    m = meshio.read(tmp_path / "mesh.vtu")
+    assert m.points[:, 0].max() == pytest.approx(0.0 + 6 * 0.010, rel=0.05)  # lip at x = 0, r = 10 mm

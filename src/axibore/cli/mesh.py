@@ -23,8 +23,15 @@ def run(args) -> int:
     case = load(args)
     outdir = Path(args.out)
     outdir.mkdir(parents=True, exist_ok=True)
+    profile = case.profile
+    if case.outlet.kind == "free-jet":  # the bore with the first trial jet, as the first outer iteration meshes it
+        from ..geometry.jet import first_trial
+        from ..mesh.gmsh_build import target_size
+
+        profile = first_trial(profile, target_size(profile, case.mesh.size, case.mesh.level))
+        out("free jet: the bore with the first trial jet (the run moves the jet and remeshes at every outer iteration)")
     with atomic_file(outdir / "mesh.msh") as tmp:
-        res = mesh_profile(case.profile, case.mesh.size, case.mesh.level, case.mesh.cells, msh_path=tmp)
+        res = mesh_profile(profile, case.mesh.size, case.mesh.level, case.mesh.cells, msh_path=tmp)
     write_vtu(outdir / "mesh.vtu", res.mesh, {"cell_area_m2": res.mesh.cell_area})
     for line in mesh_lines(res, case.mesh.level):
         out(line)

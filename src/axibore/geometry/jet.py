@@ -111,6 +111,13 @@ def with_jet(profile: Profile, points: np.ndarray) -> Profile:
     return replace(profile, jet=segs)
 
 
+def first_trial(profile: Profile, h: float) -> Profile:
+    """The profile with its first trial jet (element lengths graded from ``h``): what the free-jet
+    iteration meshes first, what ``validate_free_jet`` checks and what ``axibore mesh`` shows."""
+    theta, ds = initial_jet(profile, h)
+    return with_jet(profile, integrate(profile.wall[-1].end, theta, ds))
+
+
 def jet_problem(profile: Profile, points: np.ndarray) -> str | None:
     """Why a trial jet cannot be meshed (crosses the axis, the wall or itself), or None."""
     from shapely.geometry import LineString

@@ -43,18 +43,16 @@ def validate(profile: Profile) -> Profile:
 def validate_free_jet(profile: Profile) -> Profile:
     """A profile whose wall ends at a lip from which a free jet leaves: checked with the first trial
     jet in place (the outlet plane is where that jet ends; a centre body may reach past the lip)."""
-    from .jet import initial_jet, integrate, jet_problem, with_jet
+    from .jet import first_trial, jet_problem
 
     last = profile.wall[-1]
     if last.end[1] <= 1e-9 * profile.length_scale:
         raise ProfileError(last.key, "a free jet leaves from the lip where the wall ends: the wall must end away from the axis")
-    h = 0.05 * profile.min_channel_height
-    theta, ds = initial_jet(profile, h)
-    pts = integrate(last.end, theta, ds)
-    problem = jet_problem(profile, pts)
+    trial = first_trial(profile, 0.05 * profile.min_channel_height)
+    problem = jet_problem(profile, trial.chain_points("jet"))
     if problem:
         raise ProfileError(last.key, f"a free jet cannot leave the lip at its end ({problem} at the first trial shape)")
-    validate(with_jet(profile, pts))
+    validate(trial)
     return profile
 
 
