@@ -332,3 +332,69 @@ def _points_to_segments(p: np.ndarray, poly: np.ndarray) -> np.ndarray:
     t = np.clip(((p[:, None, :] - a[None]) * d[None]).sum(-1) / dd[None], 0.0, 1.0)
     q = a[None] + t[..., None] * d[None]
     return np.sqrt(((p[:, None, :] - q) ** 2).sum(-1)).min(axis=1)
+
+
+# ---- the exact throat ---------------------------------------------------------------------------
+def _segment_radius_at(seg: Segment, x: float) -> list[float]:
+    """Radii where the exact curve of ``seg`` crosses x (lines and arcs in closed form; splines
+    by the roots of their cubic spans)."""
+    (x0, r0), (x1, r1) = seg.start, seg.end
+    if seg.kind == "line":
+        lo, hi = min(x0, x1), max(x0, x1)
+        if hi - lo <= 0 or not lo - 1e-15 <= x <= hi + 1e-15:
+            return []
+        return [r0 + (r1 - r0) * (x - x0) / (x1 - x0)]
+    if seg.kind == "arc":
+        cx, cr = seg.arc_center()
+        R = abs(seg.radius)
+        if abs(x - cx) > R:
+            return []
+        a0 = math.atan2(r0 - cr, x0 - cx)
+        d = (math.atan2(r1 - cr, x1 - cx) - a0 + math.pi) % (2 * math.pi) - math.pi
+        out = []
+        for a in (math.acos(max(-1.0, min(1.0, (x - cx) / R))), -math.acos(max(-1.0, min(1.0, (x - cx) / R)))):
+            t = ((a - a0 + math.pi) % (2 * math.pi) - math.pi) / d if d else -1.0
+            if -1e-12 <= t <= 1 + 1e-12:
+                out.append(cr + R * math.sin(a))
+        return out
+    pts = np.array([seg.start, *seg.via, seg.end], dtype=float)
+    ext = np.vstack([2 * pts[0] - pts[1], pts, 2 * pts[-1] - pts[-2]])
+    out = []
+    for p0, p1, p2, p3 in zip(ext[:-3], ext[1:-2], ext[2:-1], ext[3:]):
+        c = 0.5 * np.array([2 * p1, -p0 + p2, 2 * p0 - 5 * p1 + 4 * p2 - p3, -p0 + 3 * p1 - 3 * p2 + p3])  # t^0..t^3
+        for t in np.roots([c[3, 0], c[2, 0], c[1, 0], c[0, 0] - x]):
+            if abs(t.imag) < 1e-9 and -1e-9 <= t.real <= 1 + 1e-9:
+                tr = float(min(max(t.real, 0.0), 1.0))
+                out.append(float(c[0, 1] + c[1, 1] * tr + c[2, 1] * tr**2 + c[3, 1] * tr**3))
+    return out
+
+
+def _exact_flow_area(profile: Profile, x: float) -> float:
+    """Flow area at x from the exact curves: the smallest outer radius (wall, then jet) and the
+    largest centre-body radius crossing x (as flow_area does on the sampled polylines)."""
+    outer = [r for _, s in profile.top for r in _segment_radius_at(s, x)]
+    inner = [r for s in profile.centerbody for r in _segment_radius_at(s, x)]
+    rw = min(outer) if outer else math.inf
+    rb = max(inner) if inner else 0.0
+    return (rw - rb) if profile.planar else math.pi * (rw * rw - rb * rb)
+
+
+def min_flow_area(profile: Profile) -> tuple[float, float]:
+    """(x, area) of the smallest flow area of the exact profile, arcs and splines included: the
+    area at every segment end, and a bounded scalar minimisation (scipy's ``minimize_scalar``,
+    method "bounded", to 1e-12 of the bore size) between consecutive ends, where each crossing
+    curve is smooth."""
+    from scipy.optimize import minimize_scalar
+
+    ends = sorted({p[0] for s in (*[s for _, s in profile.top], *profile.centerbody) for p in (s.start, s.end)})
+    ends = [x for x in ends if profile.x_inlet <= x <= profile.x_outlet]
+    best = min(((x, _exact_flow_area(profile, x)) for x in ends), key=lambda t: t[1])
+    tol = 1e-12 * profile.length_scale
+    for a, b in zip(ends[:-1], ends[1:]):
+        if b - a <= tol:
+            continue
+        r = minimize_scalar(lambda x: _exact_flow_area(profile, x), bounds=(a, b), method="bounded",
+                            options={"xatol": tol})
+        if r.fun < best[1]:
+            best = (float(r.x), float(r.fun))
+    return best

@@ -51,6 +51,12 @@ def _gas_model(case, profile: Profile, flow: FlowResult):
     R, g = case.fluid.gas_constant, case.fluid.gamma
     x = np.linspace(profile.x_inlet, profile.x_outlet, 2001)
     A = profile.flow_area(x)
+    # the throat of the exact geometry (arcs included), not the minimum of the sampled wall
+    from ..geometry.profile import min_flow_area
+
+    x_t, A_t = min_flow_area(profile)
+    k = int(np.searchsorted(x, x_t))
+    x, A = np.insert(x, k, x_t), np.insert(A, k, A_t)
     model = q1d.quasi_one_dim(x, A, p0, T0, p_back, R, g)
     return model, amb
 
