@@ -54,27 +54,32 @@ class JacobianPattern:
         has_b[s.Pb] = True
         self.bside = np.flatnonzero(has_b[cells])  # sides whose cell has boundary-face values
         # contributions: (side of the flux, column cell) for the stencil entries, the side's own
-        # cell and the cell across (interior sides); each goes to the rows of its face
+        # cell and the cell across (interior sides); each goes to the rows of its face, + to the
+        # owner's, - to the neighbour's. Every contribution is its side's flux derivative with
+        # scaled columns, so block[:, :, l] = A_l @ Jside[:, :, l] with A_l sparse (blocks x sides)
+        # holding sign x coefficient: one sparse-times-dense product per variable
         side = np.r_[es, np.arange(S), np.arange(2 * nI)]
         col = np.r_[Gc.indices[pos], cells, s.side_other[: 2 * nI]]
         f = s.side_face[side]
         plus, minus = s.mesh.owner[f], np.where(side < 2 * nI, s.mesh.neighbour[f], -1)
         m = minus >= 0
-        t = np.arange(side.size)
         rows = np.r_[plus, minus[m], np.arange(C)]
         cols = np.r_[col, col[m], np.arange(C)]
-        key = rows.astype(np.int64) * C + cols
-        uniq, ids = np.unique(key, return_inverse=True)
-        nb = uniq.size
-        n_ent, n_own = es.size, S
-        # scatter: block <- +contribution (plus row), -contribution (minus row); diagonal blocks last
-        tc = np.r_[t, t[m], side.size + np.arange(C)]
-        sign = np.r_[np.ones(t.size), -np.ones(int(m.sum())), np.ones(C)]
-        Sc = sp.csr_matrix((sign, (ids, tc)), shape=(nb, side.size + C))
-        self.scatter = Sc
-        # the preconditioner's matrix: own-cell contributions (first-order chain) and the diagonal
-        own = np.r_[np.zeros(n_ent, bool), np.ones(n_own, bool), np.zeros(2 * nI, bool), np.ones(C, bool)]
-        self.scatter_first = Sc[:, np.flatnonzero(own)].tocsr()
+        uniq, ids = np.unique(rows.astype(np.int64) * C + cols, return_inverse=True)
+        nb = self.nblocks = uniq.size
+        n_con = side.size
+        self.diag_id = ids[-C:]
+        con = np.r_[np.arange(n_con), np.flatnonzero(m)]  # contribution of each scatter entry
+        sign = np.r_[np.ones(n_con), -np.ones(int(m.sum()))]
+        self.scatter_structure = _row_sorted(ids[:-C], side[con], nb, S)
+        self.scatter_con, self.scatter_sign = con[self.scatter_structure[0]], sign[self.scatter_structure[0]]
+        own = (con >= es.size) & (con < es.size + S)  # the preconditioner: own-cell contributions only
+        self.first_structure = _row_sorted(ids[:-C][own], side[con][own], nb, S)
+        self.first_sign = sign[own][self.first_structure[0]]
+        # own-cell block ids of each side (for the boundary-value terms), -1 where none
+        self.own_plus = ids[es.size : es.size + S]
+        self.own_minus = np.full(S, -1)
+        self.own_minus[: 2 * nI] = ids[n_con + int(m[: es.size].sum()) : n_con + int(m[: es.size].sum()) + 2 * nI]
         brow, bcol = uniq // C, uniq % C
         self.order, self.indices, self.indptr = _csc_layout(position[brow], position[bcol], C)
         self.n = 4 * C
@@ -83,6 +88,14 @@ class JacobianPattern:
         self.compact_order, self.compact_indices, self.compact_indptr = _csc_layout(
             position[brow[compact]], position[bcol[compact]], C)
         self.compact_blocks = np.flatnonzero(compact)
+
+
+def _row_sorted(rows: np.ndarray, cols: np.ndarray, n_rows: int, n_cols: int):
+    """(order, indices, indptr) of a CSR matrix with one stored entry per (row, col) pair given,
+    duplicates kept (the products sum them): data[k] belongs to pair order[k]."""
+    order = np.argsort(rows, kind="stable")
+    indptr = np.r_[0, np.cumsum(np.bincount(rows, minlength=n_rows))].astype(np.int64)
+    return order, cols[order].astype(np.int32), indptr
 
 
 def _csc_layout(prow: np.ndarray, pcol: np.ndarray, C: int):
@@ -106,7 +119,8 @@ def _derivative(func, W: np.ndarray, g: float) -> np.ndarray:
 
 def assemble(scheme: Scheme, pattern: JacobianPattern, ev: Evaluation, diag: np.ndarray):
     """The scaled Jacobian of ``diag`` (C,) (V/dt) times dU/dW plus dR/dW at the evaluated state,
-    and the preconditioner's matrix (first-order chain, compact pattern), both compressed-column."""
+    and a function building the preconditioner's matrix (first-order chain, compact pattern), both
+    compressed-column."""
     s, pt = scheme, pattern
     g, nI, sc = s.gas.gamma, s.nI, s.scale
     Ws = ev.Wside
@@ -115,28 +129,46 @@ def assemble(scheme: Scheme, pattern: JacobianPattern, ev: Evaluation, diag: np.
     Jside = np.concatenate([JL, JR, Jb]) * s.A[s.side_face][:, None, None]  # (S, 4, 4)
     psi, dpa, dpb = ev.psi.T, ev.dpsi_a.T, ev.dpsi_b.T  # (S, 4)
     es = pt.ent_side
-    T_ent = Jside[es] * (psi[es] * pt.wd[:, None] + dpa[es] * pt.we[:, None])[:, None, :]
-    T_own = Jside * (1.0 - dpb)[:, None, :]
+    # the coefficient of each contribution per variable: stencil entries, own cell, cell across
+    coef = np.concatenate([psi[es] * pt.wd[:, None] + dpa[es] * pt.we[:, None], 1.0 - dpb, dpb[: 2 * nI]])
+    order, indices, indptr = pt.scatter_structure
+    c = coef[pt.scatter_con] * pt.scatter_sign[:, None]
+    S = Jside.shape[0]
+    blocks = np.empty((pt.nblocks, 4, 4))
+    for l in range(4):
+        A = sp.csr_matrix((c[:, l], indices, indptr), shape=(pt.nblocks, S))
+        blocks[:, :, l] = A @ Jside[:, :, l]
     bs = pt.bside
     if bs.size:  # boundary-face values in the gradients of the side's cell
         Jb0 = 0.5 * (np.eye(4)[None] + _derivative(s.ghost, ev.W[:, s.Pb], g))
         K = np.stack([_cell_sum(s.Pb, s.gb[k][:, None, None] * Jb0, s.C) for k in range(2)])
-        c = s.side_cell[bs]
-        dK = s.d[0, bs, None, None] * K[0, c] + s.d[1, bs, None, None] * K[1, c]
-        eK = s.e[0, bs, None, None] * K[0, c] + s.e[1, bs, None, None] * K[1, c]
-        T_own[bs] += Jside[bs] @ (psi[bs][:, :, None] * dK + dpa[bs][:, :, None] * eK)
-    T_oth = Jside[: 2 * nI] * dpb[: 2 * nI][:, None, :]
+        cb = s.side_cell[bs]
+        dK = s.d[0, bs, None, None] * K[0, cb] + s.d[1, bs, None, None] * K[1, cb]
+        eK = s.e[0, bs, None, None] * K[0, cb] + s.e[1, bs, None, None] * K[1, cb]
+        Tb = (Jside[bs] @ (psi[bs][:, :, None] * dK + dpa[bs][:, :, None] * eK)).reshape(-1, 16)
+        flat = blocks.reshape(-1, 16)
+        mi = pt.own_minus[bs] >= 0
+        for q in range(16):
+            flat[:, q] += np.bincount(pt.own_plus[bs], Tb[:, q], pt.nblocks)
+            flat[:, q] -= np.bincount(pt.own_minus[bs][mi], Tb[mi, q], pt.nblocks)
     D = conservative_jacobian(ev.W, g) * diag[:, None, None]  # pseudo-time term
     D[:, 2, 3] -= s.source_area  # source -p A_cell: radial momentum row, pressure column
-    scaling = (sc[None, :] / s.cons_scale[:, None]).ravel()[None, :]
-    T = np.concatenate([T_ent, T_own, T_oth, D]).reshape(-1, 16)
-    blocks = (pt.scatter @ T) * scaling
+    scaling = sc[None, :] / s.cons_scale[:, None]
+    blocks[pt.diag_id] += D
+    blocks *= scaling
     J = sp.csc_matrix((blocks.ravel()[pt.order], pt.indices, pt.indptr), shape=(pt.n, pt.n))
-    T1 = np.concatenate([Jside, D]).reshape(-1, 16)
-    blocks1 = ((pt.scatter_first @ T1) * scaling)[pt.compact_blocks]
-    J1 = sp.csc_matrix((blocks1.ravel()[pt.compact_order], pt.compact_indices, pt.compact_indptr),
-                       shape=(pt.n, pt.n))
-    return J, J1
+
+    def first_order():  # built only when the preconditioner is factored again
+        o, ind, ptr = pt.first_structure
+        b1 = np.empty((pt.nblocks, 4, 4))
+        for l in range(4):
+            b1[:, :, l] = sp.csr_matrix((pt.first_sign, ind, ptr), shape=(pt.nblocks, S)) @ Jside[:, :, l]
+        b1[pt.diag_id] += D
+        b1 = (b1 * scaling).reshape(-1, 16)[pt.compact_blocks]
+        return sp.csc_matrix((b1.ravel()[pt.compact_order], pt.compact_indices, pt.compact_indptr),
+                             shape=(pt.n, pt.n))
+
+    return J, first_order
 
 
 def _cell_sum(cells: np.ndarray, blocks: np.ndarray, C: int) -> np.ndarray:

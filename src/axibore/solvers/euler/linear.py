@@ -38,6 +38,7 @@ class ReusedLU:
         self.lu = None
         self.last_iterations = 0
         self.stats = LinearStats()
+        self.history: list[tuple[bool, int, float]] = []  # (fresh factor, iterations, tolerance) per solve
 
     def factor(self, J1: sp.csc_matrix) -> None:
         import time
@@ -58,23 +59,25 @@ class ReusedLU:
             return self.lu.solve(v.astype(np.float32)).astype(np.float64)
         return self.lu.solve(v)
 
-    def solve(self, J: sp.csc_matrix, J1: sp.csc_matrix, b: np.ndarray, rtol: float,
+    def solve(self, J: sp.csc_matrix, first_order, b: np.ndarray, rtol: float,
               max_iterations: int) -> tuple[np.ndarray, int, bool]:
         """x with ||J x - b|| <= rtol ||b|| (if reached). A new factor when there is none, or when
-        the last solve needed more than ``refactor_iterations`` iterations or failed."""
+        the last solve needed more than ``refactor_iterations`` iterations or failed;
+        ``first_order()`` builds the matrix to factor."""
         fresh = self.lu is None or self.last_iterations > self.refactor
         if fresh:
-            self.factor(J1)
+            self.factor(first_order())
         else:
             self.stats.reused += 1
         x, it, ok = gmres(lambda v: J @ v, self.apply, b, rtol, max_iterations)
         if not ok and not fresh:  # a stale factor: once more with a fresh one
-            self.factor(J1)
+            self.factor(first_order())
             x, it2, ok = gmres(lambda v: J @ v, self.apply, b, rtol, max_iterations)
             it += it2
         self.stats.iterations += it
         self.stats.failures += not ok
         self.last_iterations = it if ok else max_iterations + 1
+        self.history.append((fresh, it, rtol))
         return x, it, ok
 
 

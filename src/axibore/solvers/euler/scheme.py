@@ -10,20 +10,25 @@ Reconstruction (second order). Primitive variables W = (rho, u_x, u_r, p) are ex
 each cell c to the centre of each of its faces with the least-squares gradient (numerics.gradients;
 the boundary faces are neighbours carrying 0.5 (W_c + ghost)). On an interior face seen from c,
 with o the cell across it, e = x_o - x_c and d = x_face - x_c, the extrapolation g = grad W_c . d
-is multiplied by a smooth limiter of van Albada's form (van Albada, van Leer & Roberts 1982,
-Astron. Astrophys. 108; in the face-based form for unstructured meshes of Blazek,
-Computational Fluid Dynamics: Principles and Applications, 2nd ed. 2005, sec. 5.3.5):
+is multiplied by a limiter of van Albada's form (van Albada, van Leer & Roberts 1982, Astron.
+Astrophys. 108) on the difference towards the face, dp = W_o - W_c, and the one away from it,
+dm = 2 grad W_c . e - dp (so that grad W_c . e is their mean):
 
-    psi = max(0, (2 a b + eps) / (a^2 + b^2 + eps)),   a = grad W_c . e,   b = W_o - W_c,
+    psi = (y + eps) / (dm^2 + dp^2 + eps),  y = 2 dm dp  (y >= 0);  eps^2 / (eps - y) / (...)  (y < 0),
 
-which is 1 where the gradient predicts the neighbour (exact for linear fields on any mesh; 1 - psi
-= O(h^2) in smooth flow), falls towards 0 across a jump (a shock) and at extrema, and is a smooth
-function of the cell values away from psi = 0. eps = (K h / L)^3 times the square of the
-variable's scale (Venkatakrishnan 1995, J. Comput. Phys. 118): differences below that are not
-limited. Unlike a cell-based min/max limiter it has no switching, so the residual of the limited
-scheme is differentiable and Newton's method converges on it with a shock in the field. Boundary
-faces extrapolate unlimited. A face whose reconstructed state is not physical (rho or p <= 0)
-falls back to first order on both sides.
+the second branch continuing the first with the same value and slope at y = 0 and tending to 0 at
+extrema. psi = 1 for linear data on any mesh (dm = dp), 1 - psi = O(h^2) in smooth flow, psi ~ 0
+on the upwind side of a jump; eps = (K h / L)^3 times the square of the variable's scale
+(Venkatakrishnan 1995, J. Comput. Phys. 118): differences below that are not limited. Unlike a
+cell-based min/max limiter it has no switching: the residual of the limited scheme is
+differentiable, and Newton's method converges on it with a shock in the field. (A first version
+whose smooth branch did not vanish at y = 0 had psi = 1.05 in near-uniform regions: a first-order
+error, total-pressure order 1.2 instead of 1.9.) Boundary faces extrapolate unlimited. A face
+whose reconstructed state is not physical (rho or p <= 0) falls back to first order on both sides.
+
+Fluxes: HLLC, blended towards HLL at shocks (gas.hllc_flux; the cell sensor ``shock_weight``);
+the momentum fluxes carry p - p_out (and the source (p - p_out) A_cell), which leaves the residual
+unchanged (sum_f n_r A_f = A_cell) and keeps round-off out of the momentum balance of slow flows.
 
 Boundaries by ghost states built from the interior face state: inlet total pressure and total
 temperature with the flow normal to the plane (static pressure from inside); outlet by
@@ -73,14 +78,14 @@ class Scheme:
     interior face s, the next n_interior the neighbour sides, then the boundary faces (owner)."""
 
     def __init__(self, mesh: FVMesh, gas: IdealGas, inlet: TotalInlet, p_out: float, limiter_k: float = 5.0,
-                 low_mach_fix: bool = True, second_order: bool = True, sonic_width: float = 0.0,
-                 hll_jump: float = 0.0, shock_sensor: float = 0.0):
+                 low_mach_fix: bool = True, second_order: bool = True, hll_jump: float = 0.0,
+                 shock_sensor: float = 0.0):
         unknown = set(mesh.boundary) - {"inlet", "outlet", *WALL_KINDS}
         if unknown:
             raise ValueError(f"no Euler boundary condition for groups {sorted(unknown)}")
         self.mesh, self.gas, self.inlet, self.p_out = mesh, gas, inlet, float(p_out)
         self.second_order, self.shock_sensor = second_order, shock_sensor
-        self.flux_options = FluxOptions(low_mach_fix, sonic_width, hll_jump, self.p_out)
+        self.flux_options = FluxOptions(low_mach_fix, hll_jump, self.p_out)
         self.C = C = mesh.n_cells
         self.fi, self.fb = mesh.interior, mesh.boundary_faces
         self.P, self.N, self.Pb = mesh.owner[self.fi], mesh.neighbour[self.fi], mesh.owner[self.fb]
