@@ -11,8 +11,8 @@ side state W_s = W_c + psi_s g_s, g_s = grad W_c . d_s:
 where dg/dW_j and da/dW_j are the gradient weights of cell j projected on d and e (times I),
 plus, for j = c, the 4x4 derivative of the boundary-face values of c (0.5 (I + d ghost/dW)).
 The flux derivatives with respect to the side states come from gas.flux_derivatives (one-sided
-differences, 1e-7), so the assembled matrix is the Jacobian of the limited scheme to about 1e-7
-(checked against differences of the whole residual in tests/test_euler.py): Newton's method
+differences, gas.fd_steps), so the assembled matrix is the Jacobian of the limited scheme to about
+1e-7 (checked against differences of the whole residual in tests/test_euler.py): Newton's method
 converges on it with the limiter active at a shock. The unknowns are the primitive variables;
 rows and columns are scaled by the reference conservative and primitive states and numbered
 4 * position + variable, ``position`` the nested-dissection position of the cell (ordering.py).
@@ -21,9 +21,11 @@ Beside it comes the preconditioner's matrix: the same flux derivatives with the 
 (dW_s/dW_j = delta_cj I), on the compact (face-neighbour) pattern. (The compact part of the full
 Jacobian, tried first, is a poor preconditioner: 33 to 120 GMRES iterations against 1 to 5.)
 
-The pattern and sparse scatter matrices (contribution -> block, with the signs) are built once
-per mesh (``JacobianPattern``); an assembly is a few vectorised products and sparse-times-dense
-products, no loop over cells or faces.
+The pattern, the scatter structure (contribution -> block, with the signs) and the block-sparse
+layouts are built once per mesh (``JacobianPattern``); an assembly is a few gathers and one
+sparse-times-dense product per variable (every contribution is its face side's flux derivative
+with scaled columns), no loop over cells or faces. The shock sensor's weight (scheme.shock_weight)
+is held at its value in the derivative (it depends on the pressure gradients of the two cells).
 """
 
 from __future__ import annotations
@@ -53,6 +55,10 @@ class JacobianPattern:
         has_b = np.zeros(C, bool)
         has_b[s.Pb] = True
         self.bside = np.flatnonzero(has_b[cells])  # sides whose cell has boundary-face values
+        self.bcells = np.flatnonzero(has_b)
+        local = np.full(C, -1)
+        local[self.bcells] = np.arange(self.bcells.size)
+        self.bface_local, self.bside_local = local[s.Pb], local[cells[self.bside]]
         # contributions: (side of the flux, column cell) for the stencil entries, the side's own
         # cell and the cell across (interior sides); each goes to the rows of its face, + to the
         # owner's, - to the neighbour's. Every contribution is its side's flux derivative with
@@ -81,13 +87,11 @@ class JacobianPattern:
         self.own_minus = np.full(S, -1)
         self.own_minus[: 2 * nI] = ids[n_con + int(m[: es.size].sum()) : n_con + int(m[: es.size].sum()) + 2 * nI]
         brow, bcol = uniq // C, uniq % C
-        self.order, self.indices, self.indptr = _csc_layout(position[brow], position[bcol], C)
         self.n = 4 * C
+        self.full = _bsr_layout(position[brow], position[bcol], C)
         adj = np.r_[s.P.astype(np.int64) * C + s.N, s.N.astype(np.int64) * C + s.P, np.arange(C) * (C + 1)]
-        compact = np.isin(uniq, adj)
-        self.compact_order, self.compact_indices, self.compact_indptr = _csc_layout(
-            position[brow[compact]], position[bcol[compact]], C)
-        self.compact_blocks = np.flatnonzero(compact)
+        self.compact_blocks = np.flatnonzero(np.isin(uniq, adj))
+        self.compact = _bsr_layout(position[brow[self.compact_blocks]], position[bcol[self.compact_blocks]], C)
 
 
 def _row_sorted(rows: np.ndarray, cols: np.ndarray, n_rows: int, n_cols: int):
@@ -98,18 +102,12 @@ def _row_sorted(rows: np.ndarray, cols: np.ndarray, n_rows: int, n_cols: int):
     return order, cols[order].astype(np.int32), indptr
 
 
-def _csc_layout(prow: np.ndarray, pcol: np.ndarray, C: int):
-    """Compressed-column layout of a matrix of 4x4 blocks at (prow, pcol) (positions), scalar row
-    and column 4 * position + variable: the gather order from the (nblocks, 16) block data
-    (row-major blocks) to the column data, the row indices and the column pointers (scipy sorts:
-    the entries carry their own index as data)."""
-    k = np.arange(4, dtype=np.int32)
-    rows = ((4 * prow.astype(np.int32))[:, None, None] + k[None, :, None]).repeat(4, axis=2)
-    cols = ((4 * pcol.astype(np.int32))[:, None, None] + k[None, None, :]).repeat(4, axis=1)
-    ids = np.arange(rows.size, dtype=np.float64)
-    M = sp.csc_matrix((ids, (rows.ravel(), cols.ravel())), shape=(4 * C, 4 * C))
-    M.sort_indices()
-    return M.data.astype(np.int64), M.indices, M.indptr
+def _bsr_layout(prow: np.ndarray, pcol: np.ndarray, C: int):
+    """Block-sparse-row layout (4x4 blocks) of blocks at (prow, pcol) (positions): the gather
+    order of the blocks, their block columns and the block-row pointers."""
+    order = np.lexsort((pcol, prow))
+    indptr = np.r_[0, np.cumsum(np.bincount(prow, minlength=C))].astype(np.int64)
+    return order, pcol[order].astype(np.int32), indptr
 
 
 def _derivative(func, W: np.ndarray, g: float) -> np.ndarray:
@@ -118,9 +116,9 @@ def _derivative(func, W: np.ndarray, g: float) -> np.ndarray:
 
 
 def assemble(scheme: Scheme, pattern: JacobianPattern, ev: Evaluation, diag: np.ndarray):
-    """The scaled Jacobian of ``diag`` (C,) (V/dt) times dU/dW plus dR/dW at the evaluated state,
-    and a function building the preconditioner's matrix (first-order chain, compact pattern), both
-    compressed-column."""
+    """The scaled Jacobian of ``diag`` (C,) (V/dt) times dU/dW plus dR/dW at the evaluated state
+    (block-sparse rows of 4x4 blocks), and a function building the preconditioner's matrix
+    (first-order chain, compact pattern; compressed-column, for SuperLU)."""
     s, pt = scheme, pattern
     g, nI, sc = s.gas.gamma, s.nI, s.scale
     Ws = ev.Wside
@@ -139,24 +137,25 @@ def assemble(scheme: Scheme, pattern: JacobianPattern, ev: Evaluation, diag: np.
         A = sp.csr_matrix((c[:, l], indices, indptr), shape=(pt.nblocks, S))
         blocks[:, :, l] = A @ Jside[:, :, l]
     bs = pt.bside
-    if bs.size:  # boundary-face values in the gradients of the side's cell
+    if bs.size:  # boundary-face values in the gradients of the side's cell (boundary cells only)
         Jb0 = 0.5 * (np.eye(4)[None] + _derivative(s.ghost, ev.W[:, s.Pb], g))
-        K = np.stack([_cell_sum(s.Pb, s.gb[k][:, None, None] * Jb0, s.C) for k in range(2)])
-        cb = s.side_cell[bs]
+        K = np.zeros((2, pt.bcells.size, 4, 4))
+        for k in range(2):
+            np.add.at(K[k], pt.bface_local, s.gb[k][:, None, None] * Jb0)
+        cb = pt.bside_local
         dK = s.d[0, bs, None, None] * K[0, cb] + s.d[1, bs, None, None] * K[1, cb]
         eK = s.e[0, bs, None, None] * K[0, cb] + s.e[1, bs, None, None] * K[1, cb]
-        Tb = (Jside[bs] @ (psi[bs][:, :, None] * dK + dpa[bs][:, :, None] * eK)).reshape(-1, 16)
-        flat = blocks.reshape(-1, 16)
+        Tb = Jside[bs] @ (psi[bs][:, :, None] * dK + dpa[bs][:, :, None] * eK)
         mi = pt.own_minus[bs] >= 0
-        for q in range(16):
-            flat[:, q] += np.bincount(pt.own_plus[bs], Tb[:, q], pt.nblocks)
-            flat[:, q] -= np.bincount(pt.own_minus[bs][mi], Tb[mi, q], pt.nblocks)
+        np.add.at(blocks, pt.own_plus[bs], Tb)
+        np.subtract.at(blocks, pt.own_minus[bs][mi], Tb[mi])
     D = conservative_jacobian(ev.W, g) * diag[:, None, None]  # pseudo-time term
     D[:, 2, 3] -= s.source_area  # source -p A_cell: radial momentum row, pressure column
     scaling = sc[None, :] / s.cons_scale[:, None]
     blocks[pt.diag_id] += D
     blocks *= scaling
-    J = sp.csc_matrix((blocks.ravel()[pt.order], pt.indices, pt.indptr), shape=(pt.n, pt.n))
+    order, bcols, bptr = pt.full
+    J = sp.bsr_matrix((blocks[order], bcols, bptr), shape=(pt.n, pt.n))
 
     def first_order():  # built only when the preconditioner is factored again
         o, ind, ptr = pt.first_structure
@@ -164,17 +163,10 @@ def assemble(scheme: Scheme, pattern: JacobianPattern, ev: Evaluation, diag: np.
         for l in range(4):
             b1[:, :, l] = sp.csr_matrix((pt.first_sign, ind, ptr), shape=(pt.nblocks, S)) @ Jside[:, :, l]
         b1[pt.diag_id] += D
-        b1 = (b1 * scaling).reshape(-1, 16)[pt.compact_blocks]
-        return sp.csc_matrix((b1.ravel()[pt.compact_order], pt.compact_indices, pt.compact_indptr),
-                             shape=(pt.n, pt.n))
+        b1 = (b1 * scaling)[pt.compact_blocks]
+        corder, ccols, cptr = pt.compact
+        return sp.bsr_matrix((b1[corder], ccols, cptr), shape=(pt.n, pt.n)).tocsc()
 
     return J, first_order
 
 
-def _cell_sum(cells: np.ndarray, blocks: np.ndarray, C: int) -> np.ndarray:
-    """Sum of (m, 4, 4) blocks into (C, 4, 4) by cell."""
-    out = np.empty((C, 16))
-    flat = blocks.reshape(-1, 16)
-    for q in range(16):
-        out[:, q] = np.bincount(cells, flat[:, q], C)
-    return out.reshape(C, 4, 4)

@@ -72,9 +72,8 @@ def prolong(coarse: Scheme, W: np.ndarray, mesh: FVMesh) -> np.ndarray:
     grad = coarse.gradients(W, 0.5 * (Wb + coarse.ghost(Wb)))
     dx = (mesh.cell_centroid - coarse.mesh.cell_centroid[k]).T
     out = W[:, k] + grad[:, 0, k] * dx[0] + grad[:, 1, k] * dx[1]
-    lo, hi = W.copy(), W.copy()
-    for a, b in ((coarse.P, coarse.N), (coarse.N, coarse.P)):
-        for q in range(4):
-            np.minimum.at(lo[q], a, W[q, b])
-            np.maximum.at(hi[q], a, W[q, b])
+    adj = coarse.mesh.cell_neighbours()  # every cell has a face neighbour
+    nb = W[:, adj.indices]
+    lo = np.minimum(W, np.minimum.reduceat(nb, adj.indptr[:-1], axis=1))
+    hi = np.maximum(W, np.maximum.reduceat(nb, adj.indptr[:-1], axis=1))
     return np.clip(out, lo[:, k], hi[:, k])
