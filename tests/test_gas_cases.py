@@ -97,3 +97,13 @@ def test_cd_nozzle_discharge_coefficient_converges_under_refinement(tmp_path):
     errors = [abs(v - cd) for v in r.phi]  # fine to coarse
     assert errors[0] < errors[1] < errors[2]
     assert r.extrapolated == pytest.approx(cd, abs=2e-5)
+
+
+def test_a_total_pressure_not_above_the_back_pressure_is_refused(tmp_path, capsys):
+    # nothing drives a flow into the bore: the run stops with exit 2 and names the key (it divided
+    # by the zero mass flow of the solve before)
+    text = (CASES / "air_blowoff_nozzle.toml").read_text().replace('total_pressure = "6 bar"', 'total_pressure = "-0.1 bar"')
+    path = tmp_path / "no_drive.toml"
+    path.write_text(text)
+    assert main(["run", str(path), "--out", str(tmp_path / "run")]) == 2
+    assert "inlet.total_pressure" in capsys.readouterr().err

@@ -26,12 +26,15 @@ def solve(case, profile, mesh, progress=None):
     from dataclasses import asdict
 
     from ...mesh.gmsh_build import target_size
-    from ..base import FlowResult, SolveRecord, boundary_state
+    from ..base import FlowError, FlowResult, SolveRecord, boundary_state
 
     amb = case.ambient_pressure
     gas = IdealGas.from_fluid(case.fluid)
     inlet = TotalInlet(case.inlet.total_pressure + amb, case.inlet.total_temperature)
     p_back = (case.outlet.pressure or 0.0) + amb
+    if inlet.total_pressure <= p_back:  # the inlet condition needs flow into the bore
+        raise FlowError("inlet.total_pressure", f"the total pressure ({inlet.total_pressure:.6g} Pa absolute) is not "
+                        f"above the back pressure ({p_back:.6g} Pa absolute): nothing drives a flow through the bore")
     settings = settings_from_case(case)
     report_every = max(1, settings.max_steps // 30)
 
