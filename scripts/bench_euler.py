@@ -27,7 +27,7 @@ ROOT = Path(__file__).resolve().parents[1]
 
 def solver_rows(lines: list[str]) -> list[tuple[int, float, int, bool]]:
     from axibore.case import load_case
-    from axibore.mesh.gmsh_build import mesh_profile, target_size
+    from axibore.mesh import mesh_profile, target_size
     from axibore.solvers import onedim_gas as q1d
     from axibore.solvers.euler import EulerSettings, IdealGas, TotalInlet, coarse_meshes, solve_euler
 

@@ -30,7 +30,7 @@ TARGETS = (25_000, 100_000, 400_000)
 
 def direct_vs_iterative(base, n0: int) -> list[str]:
     """The same matrix solved by SuperLU (direct) and by GMRES + AMG (the iterative path)."""
-    from axibore.mesh.gmsh_build import mesh_profile
+    from axibore.mesh import mesh_profile
     from axibore.numerics.linear import LinearSettings, solve_linear
     from axibore.solvers.potential import assemble
 

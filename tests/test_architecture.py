@@ -68,7 +68,7 @@ def test_linear_fallback_is_said_and_recorded(tmp_path, capsys):
 def test_caller_gmsh_session_is_left_open():
     import gmsh
 
-    from axibore.mesh.gmsh_build import mesh_profile
+    from axibore.mesh import mesh_profile
 
     gmsh.initialize(readConfigFiles=False)
     try:
@@ -97,7 +97,7 @@ def test_plots_use_no_global_matplotlib_state(tmp_path):
 
 def test_planar_mesh_measures():
     # a planar section: measures per unit depth, no factor of revolution
-    from axibore.mesh.gmsh_build import mesh_loop
+    from axibore.mesh import mesh_loop
     from axibore.geometry import Segment
 
     loop = [("axis", Segment((0, 0), (2, 0))), ("outlet", Segment((2, 0), (2, 1))),

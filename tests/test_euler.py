@@ -9,9 +9,9 @@ import numpy as np
 import pytest
 
 from axibore.geometry import Profile, Segment
-from axibore.mesh.gmsh_build import mesh_profile
+from axibore.mesh import mesh_profile
 from axibore.solvers import onedim_gas as q1d
-from axibore.mesh.gmsh_build import target_size
+from axibore.mesh import target_size
 from axibore.solvers.euler import (EulerSettings, IdealGas, TotalInlet, coarse_meshes, conservative, make_scheme,
                                    quasi_1d_state, residual_of, solve_euler)
 

@@ -11,7 +11,7 @@ from hypothesis import strategies as st
 from axibore.case import CaseError, case_from_dict
 from axibore.cli import main
 from axibore.mesh import FVMesh, MeshError
-from axibore.mesh.gmsh_build import mesh_profile
+from axibore.mesh import mesh_profile
 
 FLUID = {"kind": "water", "temperature": "15 degC"}
 SETTINGS = settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -201,7 +201,7 @@ def test_polygon_of_many_gentle_vertices_warns(tmp_path):
 
 
 def test_cell_estimate_of_check_is_honest():
-    from axibore.mesh.gmsh_build import expected_cells
+    from axibore.mesh import expected_cells
 
     re_entrant = _case({"template": "segments", "start": [0, 0.3], "segment": [
         {"to": [0.5, 0.3]}, {"to": [0.5, 0.06]}, {"to": [0.3, 0.06]}, {"to": [0.3, 0.05], "radius": 0.005}, {"to": [0.8, 0.05]}]})

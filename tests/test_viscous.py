@@ -8,7 +8,7 @@ from scipy.optimize import brentq
 from axibore import fluids
 from axibore.viscous import layer
 from axibore.viscous.layer import LAMINAR, SEPARATED, TURBULENT, march
-from axibore.viscous.viscosity import SUTHERLAND, sutherland, viscosity
+from axibore.fluids.viscosity import SUTHERLAND, sutherland, viscosity
 
 NU = 1.0e-6  # m^2/s
 U = 10.0  # m/s

@@ -14,7 +14,7 @@ import pytest
 from axibore.case import CaseError, case_from_dict, load_case
 from axibore.geometry import Profile, Segment
 from axibore.run import run_case, solve_case
-from axibore.viscous.viscosity import viscosity
+from axibore.fluids.viscosity import viscosity
 
 # --- fixtures ------------------------------------------------------------------------------------
 

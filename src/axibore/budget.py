@@ -1,9 +1,8 @@
 """How much a run will take before it starts: cells, memory, and the limit a run is refused above.
 
-The memory per cell was measured on this project's machine (peak resident memory of whole
-runs, scripts/results/bench_memory.txt): the potential solver about 1.6 kB per cell above a
-base of about 150 MB; the Euler solver (direct sparse factorisation of the block Jacobian)
-far more per cell, given below. The limit leaves a fifth of the available memory free.
+The memory per cell of each solver is on its registry entry (solvers/__init__.py), above a base
+of about 150 MB (scripts/results/bench_memory.txt). The limit leaves a fifth of the available
+memory free.
 """
 
 from __future__ import annotations
@@ -12,8 +11,10 @@ import os
 from dataclasses import dataclass
 from functools import lru_cache
 
+from .mesh import expected_cells
+from .solvers import SOLVERS
+
 BASE_BYTES = 2.0e8
-BYTES_PER_CELL = {"potential": 2.0e3, "euler": 3.5e4}
 MEMORY_FRACTION = 0.8
 
 
@@ -45,15 +46,20 @@ def available_memory() -> float:
         return 8.0e9
 
 
+def bytes_per_cell(solver: str | None) -> float:
+    """Memory per cell of a registered solver (the largest of the registry where none will run)."""
+    if solver in SOLVERS:
+        return SOLVERS[solver].bytes_per_cell
+    return max(e.bytes_per_cell for e in SOLVERS.values())
+
+
 def memory_estimate(cells: int, solver: str | None) -> float:
-    return BASE_BYTES + BYTES_PER_CELL.get(solver or "potential", BYTES_PER_CELL["euler"]) * cells
+    return BASE_BYTES + bytes_per_cell(solver) * cells
 
 
 @lru_cache(maxsize=32)
 def _cells(case) -> tuple[int, str]:
     """Cells of a case's mesh, once per case (a Case is immutable and hashed by identity)."""
-    from .mesh.gmsh_build import expected_cells
-
     return expected_cells(case.profile, case.mesh.size, case.mesh.level, case.mesh.cells)
 
 
@@ -65,10 +71,8 @@ def budget(case, max_cells: int | None = None, precise: bool = True) -> Budget:
     """Cells, memory and the limit of ``case``. ``precise=False`` (the run path): an unstructured
     mesh is counted by a coarse Gmsh mesh only when its area-based count is near the limit, so a
     run does not mesh twice."""
-    from .mesh.gmsh_build import expected_cells
-
     avail = available_memory()
-    per = BYTES_PER_CELL.get(case.solver_kind or "potential", BYTES_PER_CELL["euler"])
+    per = bytes_per_cell(case.solver_kind)
     limit = max_cells if max_cells is not None else int(max(0.0, MEMORY_FRACTION * avail - BASE_BYTES) / per)
     n, how = (None, "")
     if not precise:

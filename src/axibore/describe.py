@@ -10,7 +10,7 @@ from .units import show
 
 def describe(case: Case) -> list[str]:
     """What was understood from a case, in SI with units."""
-    from .mesh.gmsh_build import target_size
+    from .mesh import target_size
 
     f = case.fluid
     lines = [f"case      {case.title}  ({case.source})"]
@@ -78,7 +78,7 @@ def describe(case: Case) -> list[str]:
     if case.outlet.kind == "free-jet":
         lines.append("note      free jet: meshed with unstructured triangles (more cells than the count above, which is for "
                      "the bore alone) and remeshed at every outer iteration, usually 8 to 25 of them")
-    lines.append(f"solver    {case.solver_kind} (tolerance {case.solver.tolerance:g}); 1D breakdown threshold {case.onedim.threshold:.3g} of the outlet dynamic pressure")
+    lines.append(f"solver    {case.solver_kind} (linear tolerance {case.linear_settings.tolerance:g}); 1D breakdown threshold {case.onedim.threshold:.3g} of the outlet dynamic pressure")
     v = case.viscous
     if case.viscous_model == "integral":
         start = v.start or "turbulent above Re 2300, else laminar"

@@ -25,5 +25,9 @@ SOLID = (Boundary.WALL, Boundary.CENTERBODY)
 # boundaries through which fluid crosses (plane integrals of the momentum balance)
 PLANES = (Boundary.INLET, Boundary.OUTLET)
 
+# outlet models (outlets/): through a plane inside a continuing pipe, through the exit plane to
+# ambient, or a free jet solved past the lip
+OUTLET_KINDS = ("pipe", "exit-plane", "free-jet")
+
 # Measures of an FVMesh are per radian; full axisymmetric values are 2 pi times them.
 TWO_PI = 2.0 * math.pi

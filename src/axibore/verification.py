@@ -12,7 +12,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .geometry import Segment
-from .mesh.gmsh_build import mesh_loop
+from .mesh import mesh_loop
 from .solvers.potential import BoundaryCondition, solve_potential
 from .numerics.reconstruct import boundary_gradients
 
@@ -129,7 +129,7 @@ def sphere_in_stream(h: float, R: float = 1.0, R_far: float = 6.0) -> SphereResu
 
 def mesh_sphere(loop, h: float, R: float):
     """Triangles of size h on the body, growing to 8 h at the far boundary."""
-    from .mesh.gmsh_build import add_loop_surface, generate, gmsh_session
+    from .mesh.session import add_loop_surface, generate, gmsh_session
 
     with gmsh_session("sphere") as gmsh:
         _, groups = add_loop_surface(gmsh, loop, h, 1e-9 * R)

@@ -18,7 +18,7 @@ def add_args(p) -> None:
 
 def run(args) -> int:
     from ..io.files import atomic_file, write_vtu
-    from ..mesh.gmsh_build import mesh_profile
+    from ..mesh import mesh_profile
 
     case = load(args)
     outdir = Path(args.out)
@@ -26,10 +26,10 @@ def run(args) -> int:
     profile = case.profile
     if case.outlet.kind == "free-jet":  # the bore with the first trial jet, as the first outer iteration meshes it
         from ..geometry.jet import first_trial
-        from ..mesh.gmsh_build import target_size
+        from ..mesh import target_size
 
         profile = first_trial(profile, target_size(profile, case.mesh.size, case.mesh.level))
-        out("free jet: the bore with the first trial jet (the run moves the jet and remeshes at every outer iteration)")
+        out("free jet: the bore with the first trial jet (the run keeps this mesh and moves its nodes with the jet)")
     with atomic_file(outdir / "mesh.msh") as tmp:
         res = mesh_profile(profile, case.mesh.size, case.mesh.level, case.mesh.cells, msh_path=tmp)
     write_vtu(outdir / "mesh.vtu", res.mesh, {"cell_area_m2": res.mesh.cell_area})

@@ -1,19 +1,35 @@
-"""The first trial boundary of a free jet past the lip where a wall ends (the shape the free-jet
-iteration in ``solvers.freejet`` starts from and moves), and the profile with a jet chain."""
+"""The geometry of a free jet past the lip where a wall ends: its polyline, the first trial shape
+the free-jet solve starts from, and the profile with a jet chain.
+
+A jet is a polyline from the lip of ``n`` elements of fixed lengths ``ds`` and directions
+``theta`` (the unknowns of the free-jet solve), followed by a parallel tail element that ends on
+the outlet plane x = ``x_out`` (a fixed plane: only the tail's length follows the jet). Element
+lengths grow geometrically from the lip, where the free streamline's curvature grows like
+s^-1/2, to a fraction of the target cell size downstream.
+
+The first trial shape is the planar free streamline of Kirchhoff's theory for a jet leaving a lip
+whose wall meets the jet axis at the angle a: from the hodograph of the flow (derived in
+``kirchhoff_angle``), theta(l) = -(a/pi) arccos(1 - 2 exp(-pi l / w)) at arc length l from the
+lip, w the far half width, and the contraction coefficient pi / (pi + I(a)), I(a) = integral over
+(0, pi) of sin(a u / pi) cot(u / 2) du (1/2 for a = pi, Borda; pi / (pi + 2) for a = pi/2,
+Kirchhoff's slot). In axisymmetric flow and in nozzles it is a first trial only.
+"""
 
 from __future__ import annotations
 
 import math
-from dataclasses import replace
+from dataclasses import dataclass, replace
+from functools import lru_cache
 
 import numpy as np
 
 from .profile import Profile, Segment
 
 JET_TAIL = 6.0  # length of the jet downstream of the lip (and of any centre body), in lip radii
-LIP_SPACING = 0.25  # jet element length at the lip, in target cell sizes (grows to FAR_SPACING downstream)
-FAR_SPACING = 0.7
-GROWTH = 1.08
+LIP_SIZE = 0.02  # jet element length at the lip, in target cell sizes ...
+GROWTH = 1.3  # ... growing by this factor an element (the mesh is graded alike: mesh.loop.LIP_FACTOR)
+FAR_SPACING = 1.5  # ... up to this many target cell sizes
+LIP_REACH = 3.3  # the mesh grades from LIP_SIZE h at the lip to h at this many h from it
 RESERVOIR = 4.0  # a bore wider than this many lip radii is a reservoir upstream of an opening
 
 
@@ -32,22 +48,44 @@ def lip_angle(profile: Profile) -> float:
     return a - 2 * math.pi if a > math.pi / 2 + 1e-12 else a
 
 
-# Contraction coefficient of a planar jet between straight walls at angle a to the axis, from an
-# infinite reservoir (von Mises 1917, as tabulated in hydraulics texts; from memory). Used only
-# for the first trial jet and for the size of the exit-plane warning, never as a result.
-_VON_MISES_DEG = np.array([0.0, 45.0, 90.0, 135.0, 180.0])
-_VON_MISES_CC = np.array([1.0, 0.746, 0.611, 0.537, 0.500])
+@lru_cache(maxsize=256)
+def kirchhoff_contraction(a: float) -> float:
+    """Contraction coefficient of a planar jet from an infinite vessel whose walls meet the jet
+    axis at the angle ``a`` (radians; pi/2 a slot in a wall, pi a re-entrant Borda tube).
+
+    Derivation (the hodograph of the half flow above the symmetry line): the complex velocity
+    (dw/dz)/V fills the circular sector 0 < arg < a of the unit disc (wall: arg = a, speed 0 to
+    V; free streamline: speed V; symmetry line: arg 0). tau = ((dw/dz)/V)^(pi/a) maps it to the
+    upper half disc, s = -(tau + 1/tau)/2 to the upper half plane, where w = -(Q/pi) log(s + 1) +
+    iQ (the strip 0 < psi < Q). On the free streamline s = -cos u, u in (0, pi), with
+    dz = -(Q / (pi V)) exp(-i a u / pi) ds / (1 + s); the lip stands above the far jet by
+    (Q / (pi V)) I(a), I(a) = integral_0^pi sin(a u / pi) cot(u / 2) du, so Cc = (Q/V) / b =
+    pi / (pi + I(a)). I(pi) = pi gives 1/2 (Borda), I(pi/2) = 2 gives pi / (pi + 2) (Kirchhoff).
+    """
+    from scipy.integrate import quad
+
+    integral, _ = quad(lambda u: math.sin(a * u / math.pi) / math.tan(0.5 * u) if u > 0 else a / math.pi * 2.0,
+                       0.0, math.pi, limit=200)
+    return math.pi / (math.pi + integral)
+
+
+def kirchhoff_angle(a: float, w: float, l: np.ndarray) -> np.ndarray:
+    """Direction of the Kirchhoff free streamline at arc length ``l`` from a lip whose wall meets
+    the axis at ``a`` (the wall direction is -a), far half width ``w`` (same derivation: along the
+    free streamline s = 2 exp(-pi l / w) - 1 and theta = -(a / pi) arccos(-s))."""
+    return -(a / math.pi) * np.arccos(np.clip(1.0 - 2.0 * np.exp(-math.pi * np.asarray(l) / w), -1.0, 1.0))
 
 
 def estimated_contraction(angle: float) -> float:
-    """Rough contraction coefficient for a lip whose wall meets the jet at ``angle`` (radians below
-    the axis direction; pi for a re-entrant tube)."""
-    return float(np.interp(math.degrees(min(max(-angle, 0.0), math.pi)), _VON_MISES_DEG, _VON_MISES_CC))
+    """Contraction coefficient of the planar Kirchhoff jet for a lip whose wall has the direction
+    ``angle`` (``lip_angle``): a first trial, and the size of the exit-plane warning, never a result."""
+    a = min(max(-angle, 0.0), math.pi)
+    return kirchhoff_contraction(a) if a > 1e-9 else 1.0
 
 
 def spacing(h: float, length: float) -> np.ndarray:
-    """Element lengths from the lip: LIP_SPACING h growing by GROWTH to FAR_SPACING h."""
-    out, d, total = [], LIP_SPACING * h, 0.0
+    """Element lengths from the lip: LIP_SIZE h growing by GROWTH to FAR_SPACING h, reaching ``length``."""
+    out, d, total = [], LIP_SIZE * h, 0.0
     while total < length:
         out.append(d)
         total += d
@@ -73,36 +111,77 @@ def far_area(profile: Profile, r_end: float) -> float:
     return r_end if profile.planar else math.pi * r_end**2
 
 
-def initial_jet(profile: Profile, h: float) -> tuple[np.ndarray, np.ndarray]:
-    """First trial jet: angles theta(s) = theta_lip exp(-s / l), with l chosen so that the far
-    radius gives the estimated contraction; element lengths graded from the lip."""
+@dataclass(frozen=True, eq=False)
+class JetShape:
+    """A jet polyline: ``n`` elements of lengths ``ds`` from the lip, then a parallel tail to
+    x = ``x_out``. ``points(theta)`` has n + 2 points (lip, element ends, tail end)."""
+
+    lip: tuple[float, float]
+    lip_direction: float  # the wall's direction at the lip (``lip_angle``)
+    ds: np.ndarray
+    x_out: float
+
+    @property
+    def n(self) -> int:
+        return int(self.ds.size)
+
+    def points(self, theta: np.ndarray) -> np.ndarray:
+        p = integrate(self.lip, theta, self.ds)
+        return np.vstack([p, [self.x_out, p[-1, 1]]])
+
+    def sensitivities(self, theta: np.ndarray) -> np.ndarray:
+        """(n, n + 2, 2): d points / d theta_i (the tail end moves with the last node in r only)."""
+        n = self.n
+        d = np.zeros((n, n + 2, 2))
+        step = self.ds[:, None] * np.column_stack([-np.sin(theta), np.cos(theta)])
+        upper = np.triu(np.ones((n, n + 1)), k=1).astype(bool)  # node j > i moves with element i
+        d[:, :n + 1, :] = np.where(upper[..., None], step[:, None, :], 0.0)
+        d[:, n + 1, 1] = step[:, 1]
+        return d
+
+    def lip_tie(self) -> float:
+        """c in theta_0 = lip + c (theta_1 - lip): element-averaged chords of theta = lip + k l^1/2
+        (the free streamline leaves a sharp lip tangentially with curvature ~ l^-1/2)."""
+        e1, e2 = self.ds[0], self.ds[0] + self.ds[1]
+        a0 = (2.0 / 3.0) * e1**0.5
+        a1 = (2.0 / 3.0) * (e2**1.5 - e1**1.5) / self.ds[1]
+        return a0 / a1
+
+
+def trial_jet(profile: Profile, h: float) -> tuple[JetShape, np.ndarray]:
+    """The jet's element layout and its first trial directions for target cell size ``h``: the
+    planar Kirchhoff free streamline for the lip's wall angle, its far width set so that the jet
+    reaches the estimated contraction; ending JET_TAIL lip radii past the lip and any centre body."""
     from scipy.optimize import brentq
 
     lip = np.array(profile.wall[-1].end, float)
-    a = lip_angle(profile)
-    r_lip = lip[1]
+    r_lip = float(lip[1])
+    direction = lip_angle(profile)
+    a = -direction
     x_far = max(lip[0], float(profile.centerbody_points[:, 0].max()) if profile.centerbody else lip[0]) + JET_TAIL * r_lip
-    cc = estimated_contraction(a)
-    area = cc * exit_area(profile)
-    r_target = area if profile.planar else math.sqrt(area / math.pi)
     # enough arc length to reach x_far even after a turn through 180 degrees
     ds = spacing(h, (x_far - lip[0]) + 3.0 * r_lip * abs(a) / math.pi + 2 * r_lip)
-    s = np.cumsum(ds) - 0.5 * ds
-    if abs(a) < 1e-9 or r_target >= r_lip:
-        theta = np.zeros_like(s)
-    else:
-        def miss(log_l):
-            th = a * np.exp(-s / math.exp(log_l))
-            return lip[1] + float(np.sum(ds * np.sin(th))) - r_target
+    l_mid = np.cumsum(ds) - 0.5 * ds
+    area = estimated_contraction(direction) * exit_area(profile)
+    r_target = area if profile.planar else math.sqrt(area / math.pi)
+    theta = np.full(ds.size, 0.0)
+    if abs(a) > 1e-9 and r_target < r_lip:
+        def miss(log_w):
+            return r_lip + float(np.sum(ds * np.sin(kirchhoff_angle(a, math.exp(log_w), l_mid)))) - r_target
 
         lo, hi = math.log(1e-3 * r_lip), math.log(10 * r_lip)
         if miss(lo) * miss(hi) < 0:
-            theta = a * np.exp(-s / math.exp(brentq(miss, lo, hi, xtol=1e-6)))
-        else:
-            theta = a * np.exp(-s / r_lip)
+            theta = kirchhoff_angle(a, math.exp(brentq(miss, lo, hi, xtol=1e-10)), l_mid)
     pts = integrate(lip, theta, ds)
-    keep = int(np.searchsorted(np.maximum.accumulate(pts[:, 0]), x_far)) + 1
-    return theta[:keep], ds[:keep]
+    # the elements that end a full element short of x_far; the tail reaches the outlet plane x_far
+    keep = int(np.searchsorted(np.maximum.accumulate(pts[1:, 0]), x_far - ds.max()))
+    keep = min(max(keep, 3), ds.size)
+    theta, ds = theta[:keep], ds[:keep]
+    x_out = max(x_far, float(integrate(lip, theta, ds)[-1, 0] + ds[-1]))
+    shape = JetShape((float(lip[0]), r_lip), direction, ds, x_out)
+    theta = theta.copy()
+    theta[0] = direction + shape.lip_tie() * (theta[1] - direction)
+    return shape, theta
 
 
 def with_jet(profile: Profile, points: np.ndarray) -> Profile:
@@ -112,10 +191,10 @@ def with_jet(profile: Profile, points: np.ndarray) -> Profile:
 
 
 def first_trial(profile: Profile, h: float) -> Profile:
-    """The profile with its first trial jet (element lengths graded from ``h``): what the free-jet
-    iteration meshes first, what ``validate_free_jet`` checks and what ``axibore mesh`` shows."""
-    theta, ds = initial_jet(profile, h)
-    return with_jet(profile, integrate(profile.wall[-1].end, theta, ds))
+    """The profile with its first trial jet for target cell size ``h``: what the free-jet solve
+    meshes (once), what ``validate_free_jet`` checks and what ``axibore mesh`` shows."""
+    shape, theta = trial_jet(profile, h)
+    return with_jet(profile, shape.points(theta))
 
 
 def jet_problem(profile: Profile, points: np.ndarray) -> str | None:
@@ -137,5 +216,3 @@ def jet_problem(profile: Profile, points: np.ndarray) -> str | None:
         if jet.intersects(body):
             return "the jet boundary runs into the centre body"
     return None
-
-

@@ -13,6 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
+from ..textin import InputError, read_input_text
 from .profile import GEOMETRY_TOL, Profile, ProfileError, Segment
 from .validate import validate, validate_free_jet
 
@@ -167,8 +168,6 @@ MAX_CSV_BYTES = 5_000_000
 def _read_points(path: Path, key: str, unit: str | None = None) -> np.ndarray:
     """x, r points of a CSV profile in metres: columns named x and r, with a unit in the header
     ("x_mm", "x [mm]", "x (mm)") or in the case (bore.unit), else metres."""
-    from ..io.files import InputError, read_input_text
-
     try:
         text = read_input_text(path, "profile file", MAX_CSV_BYTES)
     except InputError as exc:

@@ -14,7 +14,9 @@ from pathlib import Path
 import numpy as np
 
 from .files import atomic_write_text, write_csv, write_vtu
+from ..case import resolved_dict
 from .summary import dumps
+from .wall_load import write_wall_load
 
 CASE_HEADER = "# resolved case: the case as it ran, every key explicit (axibore run writes it; it loads as it is)\n"
 # files of a run that only the field plots, the 3D view and structural models need (the bulk of a run);
@@ -26,8 +28,6 @@ FIELD_FILES = ("fields.vtu", "mesh.msh", "wall_load.vtu", "centerbody_load.vtu",
 def resolved_case_text(case) -> str:
     """The case.toml a run of ``case`` writes: the identity of a run (grid-study levels, sweep points)."""
     import tomli_w
-
-    from ..case import resolved_dict
 
     return CASE_HEADER + tomli_w.dumps(resolved_dict(case))
 
@@ -58,15 +58,11 @@ def cell_fields(mesh, flow) -> dict[str, np.ndarray]:
 
 def write_run(res, out: Path) -> None:
     """Write every file of a run; summary.json last, with the time the other files took."""
-    from ..post.stream import stream_function
-    from .wall_load import write_wall_load
-
     t0 = time.perf_counter()
     out = Path(out)
     atomic_write_text(out / "case.toml", resolved_case_text(res.case))
     mesh, flow = res.mesh, res.flow
-    write_vtu(out / "fields.vtu", mesh, cell_fields(mesh, flow),
-              {"stream_function_m3_s": stream_function(mesh, flow.face_mass_flux / flow.inlet_density)})
+    write_vtu(out / "fields.vtu", mesh, cell_fields(mesh, flow), {"stream_function_m3_s": res.stream_function})
     tables = {}
     for name, t in res.tables.items():
         cols = t.columns()
@@ -81,8 +77,8 @@ def write_run(res, out: Path) -> None:
         write_csv(out / f"{name}.csv", cols, WALL_HEADER)
         tables[name] = cols
     write_wall_load(out, tables)
-    if res.jet is not None:
-        write_jet_table(res, out)
+    if res.jet_table is not None:
+        write_csv(out / "jet.csv", res.jet_table.columns(), JET_HEADER)
     hist = np.asarray(flow.record.residual_history, float)
     write_csv(out / "solver_history.csv", {"iteration": np.arange(1, hist.size + 1), "residual": hist},
               f"axibore {flow.record.solver} solve: residual after each iteration ({flow.record.method}); {flow.record.criterion}")
@@ -92,33 +88,6 @@ def write_run(res, out: Path) -> None:
 
 JET_HEADER = ("axibore free-jet boundary: faces of the settled jet boundary from the lip downstream; "
               "p_gauge_Pa should be 0 (ambient) and speed_mismatch = speed / jet speed - 1 should be 0 on a free streamline")
-
-
-def write_jet_table(res, out: Path) -> None:
-    """jet.csv: the jet boundary faces with their pressure and the remaining speed mismatch."""
-    from ..names import Boundary
-    from ..post.loads import wall_table
-    from ..solvers.freejet import jet_speed
-
-    t = wall_table(res.flow, res.profile, Boundary.JET)
-    V = jet_speed(res.flow)
-    cols = {"x_m": t.x, "r_m": t.r, "s_m": t.s, "p_gauge_Pa": t.pressure, "speed_m_s": t.speed,
-            "speed_mismatch": t.speed / V - 1.0, "n_x": t.nx, "n_r": t.nr, "face_length_m": t.length}
-    write_csv(out / "jet.csv", cols, JET_HEADER)
-
-
-def write_report(run_dir: Path, shown_dir: Path | None = None, unit: str = "bar") -> str | None:
-    """Build report.html; on failure keep the run's numbers, write report_error.txt and return why."""
-    from ..view.report import build_report
-
-    try:
-        build_report(run_dir, shown_dir=shown_dir, unit=unit)
-        return None
-    except Exception as exc:  # the numbers are complete without the report: keep them, say why
-        why = f"{type(exc).__name__}: {exc}"
-        atomic_write_text(Path(run_dir) / "report_error.txt", f"report.html was not built: {why}\n"
-                          "rebuild it with `axibore report RUN_DIR`\n")
-        return why
 
 
 def read_summary(run_dir: str | Path) -> dict:

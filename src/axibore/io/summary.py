@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import json
 import math
+from dataclasses import asdict
 from typing import Any, Callable
 
 from .. import __version__
@@ -32,9 +33,13 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("solver", "settings", lambda r: r.flow.record.settings),
     ("solver", "free_jet_iterations", lambda r: len(r.jet.history) if r.jet else None),
     ("solver", "free_jet_settled", lambda r: r.jet.settled if r.jet else None),
-    ("solver", "free_jet_speed_mismatch_max", lambda r: r.jet.speed_mismatch if r.jet else None),
-    ("solver", "free_jet_speed_mismatch_rms", lambda r: r.jet.speed_mismatch_rms if r.jet else None),
-    ("solver", "free_jet_last_move_lip_radii", lambda r: r.jet.history[-1].movement if r.jet else None),
+    ("solver", "free_jet_speed_mismatch_max", lambda r: r.jet_table.mismatch()[0] if r.jet_table else None),
+    ("solver", "free_jet_speed_mismatch_rms", lambda r: r.jet_table.mismatch()[1] if r.jet_table else None),
+    ("solver", "free_jet_lip_speed_mismatch", lambda r: float(r.jet_table.speed_mismatch[0]) if r.jet_table else None),
+    ("solver", "free_jet_residual", lambda r: r.jet.residual if r.jet else None),
+    ("solver", "free_jet_tolerance", lambda r: r.jet.tolerance if r.jet else None),
+    ("solver", "free_jet_condition", lambda r: r.jet.condition if r.jet else None),
+    ("solver", "free_jet_seconds", lambda r: r.jet.seconds if r.jet else None),
     ("solver", "free_jet_rule", lambda r: FREE_JET_RULE if r.jet else None),
     # mesh
     ("mesh", "cells", lambda r: r.mesh.n_cells),
@@ -107,9 +112,11 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("onedim", "meaningful", lambda r: r.onedim.meaningful),
 ]
 
-FREE_JET_RULE = ("trial free boundary: phi = s (jet speed) imposed on the trial jet, each element turned by the "
-                 "angle at which the flow crosses it (Gaussian-smoothed), far-jet radius from the axial momentum balance, "
-                 "remeshed each iteration; the reported flow is solved with the settled jet as a streamline")
+FREE_JET_RULE = ("free streamline on one mesh whose nodes move with the jet: the jet a streamline, phi + V (s_end - s) = 0 "
+                 "at every jet face centre (speed V along it), the jet speed V unknown (or, where the walls at the lip "
+                 "have no axial projection, from the axial momentum balance), solved by Levenberg-Marquardt steps on "
+                 "the transpiration Jacobian to free_jet_tolerance of V r_lip; the lip face is reported apart "
+                 "(free_jet_lip_speed_mismatch); the reported flow is solved on the settled jet")
 
 NOTES = (
     "forces are exerted by the fluid on the part, +x downstream, from gauge pressure",
@@ -162,12 +169,14 @@ def build_summary(res) -> dict:
     out["viscous"] = summary_section(res)
     if getattr(res, "jet", None) is not None:
         out["free_jet"] = {
-            "iterations": [{"iteration": h.iteration, "cells": h.cells, "crossing_angle_deg": math.degrees(h.crossing_angle),
-                            "movement_lip_radii": h.movement, "jet_radius_m": h.jet_radius, "seconds": h.seconds}
+            "iterations": [{"iteration": h.iteration, "face_residual": h.residual,
+                            "contraction_coefficient": h.contraction_coefficient, "damping": h.damping, "seconds": h.seconds}
                            for h in res.jet.history],
+            "cells": res.jet.cells,
             "lip_x_m": res.jet.lip[0], "lip_r_m": res.jet.lip[1],
         }
-        out["exit_plane_model"] = res.exit_plane
+        out["exit_plane_model"] = asdict(res.exit_plane) if res.exit_plane is not None else {
+            "note": "not solved (outlet.compare_exit_plane = false)"}
     out["joints"] = [j.as_dict() for j in res.joints]
     out["seconds"] = dict(res.seconds)
     out["warnings"] = list(res.checks.warnings)

@@ -18,6 +18,7 @@ from ..geometry import Profile, Segment
 from ..names import Boundary
 from ..geometry.profile import GEOMETRY_TOL, _catmull_rom
 from .fvmesh import FVMesh
+from .session import GeoBuilder, generate, gmsh_session
 
 
 class NotMappable(ValueError):
@@ -175,8 +176,6 @@ def graded_blocks(blks, h: float, tol: float):
 
 def mesh_mapped(profile: Profile, h: float, msh_path=None) -> FVMesh:
     """Transfinite quad mesh with about ``h`` along the axis and square-ish cells."""
-    from .gmsh_build import GeoBuilder, generate, gmsh_session
-
     tol = 0.1 * profile.tol
     n_r, pieces = graded_blocks(blocks(profile), h, tol)
     with gmsh_session("bore-mapped") as gmsh:

@@ -1,4 +1,4 @@
-"""Second-order boundary-face gradients from cell values (quadratic least squares).
+"""Second-order values and gradients on boundary faces from cell values (quadratic least squares).
 
 For each boundary face, phi is fitted in the face's local frame (t along the face, n out of the
 fluid, origin at the face centre) by ``a + b t + c n + d t^2 + e t n + f n^2`` over the cells
@@ -9,15 +9,21 @@ condition imposed exactly:
 * value faces on a straight plane of constant phi: a = phi_b and b = d = 0.
 
 The tangential derivative b (and c on value faces) are second-order accurate for smooth fields,
-unlike the owner-cell gradient which is first order at the face.
+unlike the owner-cell gradient which is first order at the face; a (flux faces) is the face value.
+
+The fit is linear in the cell values and the boundary data, so it is built once as sparse
+operators (``BoundaryFit``): value, tangential and normal derivative of every face of a set.
+The stencils depend on the mesh topology only; a mesh whose nodes move keeps them.
 """
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+
 import numpy as np
+import scipy.sparse as sp
 
 from ..mesh import FVMesh
-
 
 # Face-neighbour rings around the owner in each fit. Three rings average the cell-scale noise of
 # solutions on unstructured triangles (sphere, rms Cp error at h = R/100: 4.9e-4 with 3 rings,
@@ -27,10 +33,8 @@ RINGS_TRIANGLES = 3
 RINGS_QUADS = 2
 
 
-def _stencils(mesh: FVMesh, faces: np.ndarray) -> np.ndarray:
+def stencils(mesh: FVMesh, faces: np.ndarray) -> np.ndarray:
     """(m, K) padded (-1) cell ids within the fit's rings of face neighbours of each face's owner."""
-    import scipy.sparse as sp
-
     rings = RINGS_TRIANGLES if np.mean(mesh.nvert == 3) > 0.5 else RINGS_QUADS
     A = mesh.cell_neighbours()
     A = (A + sp.identity(mesh.n_cells, format="csr")).tocsr()
@@ -48,54 +52,85 @@ def _stencils(mesh: FVMesh, faces: np.ndarray) -> np.ndarray:
     return out
 
 
+@dataclass(frozen=True, eq=False)
+class BoundaryFit:
+    """Face value and derivatives of phi on a set of boundary faces as sparse operators:
+    ``value = V @ phi + v_data * data[faces]`` and the same for ``dt`` (along t) and ``dn`` (along n,
+    out of the fluid); the face frame is (``t``, ``n``)."""
+
+    faces: np.ndarray
+    t: np.ndarray  # (m, 2) unit tangents (n rotated by +90 degrees)
+    n: np.ndarray  # (m, 2) unit normals out of the fluid
+    V: sp.csr_matrix
+    v_data: np.ndarray
+    Dt: sp.csr_matrix
+    dt_data: np.ndarray
+    Dn: sp.csr_matrix
+    dn_data: np.ndarray
+
+    def value(self, phi: np.ndarray, data: np.ndarray) -> np.ndarray:
+        return self.V @ phi + self.v_data * data[self.faces]
+
+    def gradient(self, phi: np.ndarray, data: np.ndarray) -> np.ndarray:
+        """(2, m) gradient (x, r components)."""
+        gt = self.Dt @ phi + self.dt_data * data[self.faces]
+        gn = self.Dn @ phi + self.dn_data * data[self.faces]
+        return (gt[:, None] * self.t + gn[:, None] * self.n).T
+
+
+def boundary_fit(mesh: FVMesh, faces: np.ndarray, is_value: np.ndarray, stencil: np.ndarray | None = None) -> BoundaryFit:
+    """The fit operators of ``faces`` (``is_value``: which faces carry a given value). ``stencil``:
+    the cells of each fit from an earlier call on a mesh of the same topology."""
+    faces = np.asarray(faces, np.int64)
+    m = faces.size
+    st = stencils(mesh, faces) if stencil is None else stencil
+    valid = st >= 0
+    cells = np.where(valid, st, 0)
+    n = mesh.face_normal[faces]
+    t = np.column_stack([-n[:, 1], n[:, 0]])
+    rel = mesh.cell_centroid[cells] - mesh.face_centroid[faces][:, None, :]
+    tt = np.einsum("mkj,mj->mk", rel, t)
+    nn = np.einsum("mkj,mj->mk", rel, n)
+    h2 = np.where(valid, tt * tt + nn * nn, np.inf)
+    sw = np.where(valid, 1.0 / np.sqrt(np.where(valid, h2, 1.0)), 0.0)[..., None]  # sqrt of the 1/d^2 weights
+    scale = np.sqrt(np.min(h2, axis=1)) if m else np.zeros(0)  # conditioning: units of the nearest distance
+    ts, ns = tt / scale[:, None], nn / scale[:, None]
+    Wv, Wt, Wn = (np.zeros(st.shape) for _ in range(3))
+    v_data, dt_data, dn_data = np.zeros(m), np.zeros(m), np.zeros(m)
+    flux = ~is_value[faces]
+    if np.any(flux):  # unknowns a, b, d, e, f; data phi - g n
+        k = flux
+        X = np.stack([np.ones_like(ts[k]), ts[k], ts[k] ** 2, ts[k] * ns[k], ns[k] ** 2], axis=-1) * sw[k]
+        P = _pseudo_inverse(X, sw[k])
+        Wv[k], Wt[k] = P[:, 0, :], P[:, 1, :] / scale[k, None]
+        v_data[k] = -np.sum(Wv[k] * nn[k], axis=1)
+        dt_data[k] = -np.sum(Wt[k] * nn[k], axis=1)
+        dn_data[k] = 1.0
+    if np.any(~flux):  # unknowns c, e, f; data phi - phi_b
+        k = ~flux
+        X = np.stack([ns[k], ts[k] * ns[k], ns[k] ** 2], axis=-1) * sw[k]
+        P = _pseudo_inverse(X, sw[k])
+        Wn[k] = P[:, 0, :] / scale[k, None]
+        dn_data[k] = -np.sum(Wn[k], axis=1)
+        v_data[k] = 1.0
+    rows = np.repeat(np.arange(m), st.shape[1])
+
+    def op(W):
+        return sp.csr_matrix((np.where(valid, W, 0.0).ravel(), (rows, cells.ravel())), shape=(m, mesh.n_cells))
+
+    return BoundaryFit(faces, t, n, op(Wv), v_data, op(Wt), dt_data, op(Wn), dn_data)
+
+
+def _pseudo_inverse(Xw: np.ndarray, sw: np.ndarray) -> np.ndarray:
+    """(m, p, K): the weighted least-squares coefficients as linear maps of the stencil values."""
+    AtA = np.einsum("mki,mkj->mij", Xw, Xw)
+    return np.linalg.solve(AtA, np.transpose(Xw * sw, (0, 2, 1)))
+
+
 def boundary_gradients(mesh: FVMesh, phi: np.ndarray, faces: np.ndarray, is_value: np.ndarray,
                        data: np.ndarray) -> np.ndarray:
     """(2, m) gradient of phi at the centres of ``faces`` (x, r components)."""
     faces = np.asarray(faces, np.int64)
     if faces.size == 0:
         return np.zeros((2, 0))
-    st = _stencils(mesh, faces)
-    valid = st >= 0
-    cells = np.where(valid, st, 0)
-    xf = mesh.face_centroid[faces]
-    n = mesh.face_normal[faces]
-    t = np.column_stack([-n[:, 1], n[:, 0]])
-    rel = mesh.cell_centroid[cells] - xf[:, None, :]
-    tt = np.einsum("mkj,mj->mk", rel, t)
-    nn = np.einsum("mkj,mj->mk", rel, n)
-    h2 = np.where(valid, tt * tt + nn * nn, np.inf)
-    w = np.where(valid, 1.0 / h2, 0.0)
-    scale = np.sqrt(np.min(h2, axis=1))[:, None]  # conditioning: work in units of the nearest distance
-    ts, ns = tt / scale, nn / scale
-    vals = phi[cells]
-    g = data[faces][:, None]
-    val = is_value[faces]
-
-    grad_t = np.zeros(faces.size)
-    grad_n = np.zeros(faces.size)
-    # flux faces: unknowns a, b, d, e, f ; data phi - g n
-    m = ~val
-    if np.any(m):
-        X = np.stack([np.ones_like(ts[m]), ts[m], ts[m] ** 2, ts[m] * ns[m], ns[m] ** 2], axis=-1)
-        y = vals[m] - g[m] * nn[m]
-        coef = _wls(X, y, w[m])
-        grad_t[m] = coef[:, 1] / scale[m, 0]
-        grad_n[m] = g[m, 0]
-    # value faces: unknowns c, e, f ; data phi - phi_b
-    m = val
-    if np.any(m):
-        X = np.stack([ns[m], ts[m] * ns[m], ns[m] ** 2], axis=-1)
-        y = vals[m] - g[m]
-        coef = _wls(X, y, w[m])
-        grad_n[m] = coef[:, 0] / scale[m, 0]
-    return (grad_t[:, None] * t + grad_n[:, None] * n).T
-
-
-def _wls(X: np.ndarray, y: np.ndarray, w: np.ndarray) -> np.ndarray:
-    """Batched weighted least squares: minimise sum w (X c - y)^2 for each row block."""
-    sw = np.sqrt(w)[..., None]
-    Xw = X * sw
-    yw = y * sw[..., 0]
-    AtA = np.einsum("mki,mkj->mij", Xw, Xw)
-    Atb = np.einsum("mki,mk->mi", Xw, yw)
-    return np.linalg.solve(AtA, Atb[..., None])[..., 0]
+    return boundary_fit(mesh, faces, is_value).gradient(phi, data)

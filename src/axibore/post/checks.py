@@ -135,15 +135,6 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
                 "exit-plane outlet: the jet is taken to leave normal to the exit plane at ambient mean pressure; "
                 "the contraction of a free jet beyond the exit is not modelled (outlet.kind = \"free-jet\" solves it)"
             )
-    if case.outlet.kind == "free-jet" and profile.jet:
-        jb = flow.boundary.get("jet")
-        if jb is not None and flow.total_pressure:  # the jet's dynamic pressure is the total head (gauge)
-            worst = float(np.max(np.abs(jb.pressure))) / flow.total_pressure
-            if worst > 0.02:
-                warnings.append(
-                    f"free jet: the pressure on the settled jet boundary is within {worst:.1%} of the jet's dynamic pressure "
-                    f"of ambient (largest next to the lip, where the flow round a sharp edge is singular); refine the mesh "
-                    f"(mesh.level) or run gridstudy for the converged contraction coefficient")
     return Checks(
         min_wall_gauge_Pa=p_min,
         min_wall_x_m=float(t.x[k]),

@@ -166,6 +166,14 @@ class FlowResult:
         """mdot (V_out - V_in) with mean plane velocities [N]."""
         return self.mass_flow * (self.outlet_velocity - self.inlet_velocity)
 
+    def axial_force(self, names) -> float:
+        """Sum of p n_x dA over the named boundaries present (gauge pressure: the force by the fluid) [N]."""
+        return float(sum(np.sum(b.pressure * b.normal[:, 0] * b.area) for n, b in self.boundary.items() if n in names))
+
+    def min_pressure(self, names) -> float:
+        """Lowest gauge pressure on the named boundaries present [Pa]."""
+        return float(min(b.pressure.min() for n, b in self.boundary.items() if n in names and b.faces.size))
+
     @property
     def cp(self) -> np.ndarray:
         """Pressure coefficient of the cells on the outlet plane pressure and dynamic pressure."""

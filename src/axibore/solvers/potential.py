@@ -26,9 +26,11 @@ from __future__ import annotations
 import math
 import time
 from dataclasses import dataclass
+from typing import Annotated, Literal
 
 import numpy as np
 import scipy.sparse as sp
+from pydantic import BaseModel, ConfigDict, Field
 
 from ..mesh import FVMesh
 from ..names import Boundary
@@ -36,6 +38,24 @@ from ..numerics.gradients import face_sets, least_squares_gradient
 from ..numerics.linear import LinearSettings, solve_linear
 from ..numerics.reconstruct import boundary_gradients
 from .base import FlowError, FlowResult, SolveRecord, boundary_state
+
+class PotentialSettings(BaseModel):
+    """The potential solver's [solver] keys: how its linear systems are solved."""
+
+    model_config = ConfigDict(extra="forbid", frozen=True)
+    tolerance: Annotated[float, Field(gt=0.0, lt=1e-3, strict=True)] = 1e-10  # relative linear residual
+    linear: Literal["auto", "direct", "iterative"] = "auto"
+    direct_max_cells: Annotated[int, Field(ge=0, strict=True)] = 40_000
+    gmres_restart: Annotated[int, Field(ge=5, le=1000, strict=True)] = 60
+    gmres_max_restarts: Annotated[int, Field(ge=1, le=1000, strict=True)] = 20
+    amg: Literal["ruge-stuben", "smoothed-aggregation"] = "ruge-stuben"
+    amg_max_coarse: Annotated[int, Field(ge=10, le=100_000, strict=True)] = 500
+
+    def linear_settings(self) -> LinearSettings:
+        return LinearSettings(method=self.linear, tolerance=self.tolerance, direct_max_cells=self.direct_max_cells,
+                              restart=self.gmres_restart, max_restarts=self.gmres_max_restarts, amg=self.amg,
+                              amg_max_coarse=self.amg_max_coarse)
+
 
 CRITERION = "linear residual ||K phi - b|| / ||b|| below 10 x solver.tolerance (or 1e-8)"
 
@@ -72,7 +92,7 @@ class Operators:
     K_orth: sp.csr_matrix  # symmetric orthogonal part (preconditioner)
 
 
-def _boundary_kinds(mesh: FVMesh, bcs: dict[str, BoundaryCondition]) -> tuple[np.ndarray, np.ndarray]:
+def boundary_kinds(mesh: FVMesh, bcs: dict[str, BoundaryCondition]) -> tuple[np.ndarray, np.ndarray]:
     missing = set(mesh.boundary) - set(bcs)
     if missing:
         raise ValueError(f"no boundary condition for {sorted(missing)}")
@@ -148,7 +168,7 @@ def solve_potential_many(mesh: FVMesh, bc_sets: list[dict[str, BoundaryCondition
     boundaries are ``value`` in every set): one assembly, one linear solve per set. Used where the
     answer is a superposition, e.g. the free jet's unknown inflow."""
     t0 = time.perf_counter()
-    kinds = [_boundary_kinds(mesh, bcs) for bcs in bc_sets]
+    kinds = [boundary_kinds(mesh, bcs) for bcs in bc_sets]
     is_value = kinds[0][0]
     if any(np.any(k[0] != is_value) for k in kinds[1:]):
         raise ValueError("solve_potential_many: every set needs the same value boundaries")

@@ -181,7 +181,7 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
             if lv.level != finest:
                 for name in FIELD_FILES:
                     (lv.run_dir / name).unlink(missing_ok=True)
-    from ..io.rundir import write_report
+    from ..view.report import write_report
 
     for lv in ok:  # reports last, so that each embeds the study's convergence plot
         error = write_report(lv.run_dir)

@@ -280,3 +280,15 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     parts.append(f"<p class='meta'>axibore {e(__version__)}</p>")
     parts.append("</body></html>")
     return atomic_write_text(run_dir / "report.html", "\n".join(parts))
+
+
+def write_report(run_dir: Path, shown_dir: Path | None = None, unit: str = "bar") -> str | None:
+    """Build report.html; on failure keep the run's numbers, write report_error.txt and return why."""
+    try:
+        build_report(run_dir, shown_dir=shown_dir, unit=unit)
+        return None
+    except Exception as exc:  # the numbers are complete without the report: keep them, say why
+        why = f"{type(exc).__name__}: {exc}"
+        atomic_write_text(Path(run_dir) / "report_error.txt", f"report.html was not built: {why}\n"
+                          "rebuild it with `axibore report RUN_DIR`\n")
+        return why

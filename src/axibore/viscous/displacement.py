@@ -157,7 +157,7 @@ def _deltas(layer, tables) -> dict[str, tuple[np.ndarray, np.ndarray]]:
 
 
 def displacement_pass(case, profile, mesh, flow, tables, onedim, layer, progress=None) -> DisplacementResult:
-    from ..post.loads import wall_tables
+    from ..solvers.walls import wall_tables
     from ..solvers import SOLVERS
     from .stage import discharge_coefficient, wall_layers
 

@@ -227,7 +227,7 @@ def _face_index(bv_faces: np.ndarray, faces: np.ndarray) -> np.ndarray:
 
 
 def _viscosity(case, flow) -> tuple[float, str]:
-    from .viscosity import viscosity
+    from ..fluids.viscosity import viscosity
 
     f = case.fluid
     p_abs = flow.inlet_pressure + case.ambient_pressure
@@ -243,7 +243,7 @@ def _viscosity(case, flow) -> tuple[float, str]:
 
 
 def _gas_mu(case, T: np.ndarray) -> np.ndarray:
-    from .viscosity import SUTHERLAND
+    from ..fluids.viscosity import SUTHERLAND
 
     mu0, t0, s = SUTHERLAND[case.fluid.name.lower()]
     return mu0 * (T / t0) ** 1.5 * (t0 + s) / (T + s)
@@ -262,7 +262,7 @@ def _tangent_x(table) -> np.ndarray:
 
 def _restarts(profile, name: str, s_faces: np.ndarray) -> list[tuple[float, float, float]]:
     """(s, x, r) of the concave corners of a chain that restart the layer."""
-    from ..post.loads import arc_length
+    from ..solvers.walls import arc_length
 
     out = []
     poly = profile.chain_points(name)

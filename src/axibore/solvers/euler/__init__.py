@@ -10,22 +10,33 @@ registered entry point: a case in, a FlowResult out.
 
 from __future__ import annotations
 
+from typing import Annotated
+
+from pydantic import BaseModel, ConfigDict, Field
+
 from .driver import EulerResult, GasBoundary, coarse_meshes, make_scheme, residual_of, solve_euler
 from .gas import IdealGas, TotalInlet, conservative, hllc_flux, primitive
 from .newton import EulerRecord, EulerSettings
 from .start import quasi_1d_state
 
 
+class CaseSettings(BaseModel):
+    """The compressible solver's [solver] keys."""
+
+    model_config = ConfigDict(extra="forbid", frozen=True)
+    max_steps: Annotated[int, Field(ge=1, le=10_000, strict=True)] = 150  # Newton steps before "not converged"
+
+
 def settings_from_case(case) -> EulerSettings:
     """The case's solver settings for this solver (the one place that reads them)."""
-    return EulerSettings(max_steps=case.solver.max_steps)
+    return EulerSettings(max_steps=case.solver_settings.max_steps)
 
 
 def solve(case, profile, mesh, progress=None):
     """The compressible flow of an ideal-gas ``case`` (registered as solver kind "euler")."""
     from dataclasses import asdict
 
-    from ...mesh.gmsh_build import target_size
+    from ...mesh import target_size
     from ..base import FlowError, FlowResult, SolveRecord, boundary_state
 
     amb = case.ambient_pressure
@@ -72,4 +83,4 @@ def solve(case, profile, mesh, progress=None):
 
 __all__ = ["IdealGas", "TotalInlet", "EulerSettings", "EulerRecord", "EulerResult", "GasBoundary", "hllc_flux",
            "primitive", "conservative", "quasi_1d_state", "residual_of", "solve_euler", "coarse_meshes",
-           "make_scheme", "settings_from_case", "solve"]
+           "make_scheme", "settings_from_case", "CaseSettings", "solve"]

@@ -128,7 +128,7 @@ def _result(scheme: Scheme, ev: Evaluation, record: EulerRecord, coarse: tuple[E
 def coarse_meshes(profile, mesh: FVMesh, h: float, cells: str, min_cells: int) -> tuple[FVMesh, ...]:
     """Meshes of ``profile`` with cells 2, 4, ... times the size ``h`` of ``mesh`` (about a quarter,
     a sixteenth, ... of its cells), down to ``min_cells``; coarsest first."""
-    from ...mesh.gmsh_build import mesh_profile
+    from ...mesh import mesh_profile
 
     out = []
     k = 1

@@ -60,7 +60,7 @@ class Fluid:
     gas_constant: float | None = None  # J/(kg K) (gases)
     gamma: float | None = None  # (gases)
     source: str = ""
-    viscosity: float | None = None  # Pa s, a given liquid's (others: viscous.viscosity computes it)
+    viscosity: float | None = None  # Pa s, a given liquid's (others: fluids.viscosity computes it)
 
     @property
     def is_liquid(self) -> bool:

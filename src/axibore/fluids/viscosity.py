@@ -21,7 +21,7 @@
 
 from __future__ import annotations
 
-from axibore.fluids import WATER_T_MAX, WATER_T_MIN, Fluid, water_vapour_pressure
+from .properties import WATER_T_MAX, WATER_T_MIN, Fluid, water_vapour_pressure
 
 # Sutherland constants (mu0 [Pa s], T0 [K], S [K]): White, Viscous Fluid Flow, table 1-2 (from memory)
 SUTHERLAND: dict[str, tuple[float, float, float]] = {

@@ -1,0 +1,351 @@
+"""Free jets past a sharp lip: the jet boundary solved as a free streamline.
+
+Where a bore discharges to the surroundings over a lip, the jet keeps contracting downstream of
+the exit plane. Its boundary is a free streamline: a streamline from the lip on which the pressure
+is the ambient one, so (Bernoulli) the speed on it is the jet speed V everywhere. The problem has
+no length scale but the geometry, so it is solved for a unit inlet velocity and the operating
+point only scales the flow.
+
+The discrete problem (one mesh, built once; its nodes move with the jet, its topology never does):
+
+* The jet is a polyline of n elements of fixed lengths from the lip and unknown directions
+  theta_k (geometry.jet.JetShape), then a parallel tail to the fixed outlet plane. The first
+  element's direction is tied to the second's by the free streamline's l^1/2 law at a sharp lip
+  (it leaves tangent to the wall); the lip face is reported apart.
+* For a trial jet the flow is solved with the jet as a streamline and phi = 0 on the outlet plane
+  (the registered solver's free-surface service). The free-streamline condition, speed V along the
+  jet, is imposed in integrated form at every jet face centre: phi + V (s_end - s) = 0, s the arc
+  length (phi rises at the rate V along the jet to 0 at the outlet). Integrated, the condition is
+  as smooth as the potential itself; the speed from a derivative of the fit is not.
+* The jet speed V is one more unknown fixed by the faces (the local condition), except where the
+  axial momentum balance gives it exactly: at a re-entrant lip whose walls within one lip radius
+  have no axial projection (a re-entrant tube), that balance does not depend on the singular flow
+  at the lip, so V comes from it (``momentum_condition``) and the faces fix the shape.
+  A re-entrant lip leaves the width set by the lip's singular flow alone (badly conditioned); an
+  orifice plate makes the balance depend on the pressure next to the lip (inaccurate): each
+  condition is used where the other is not reliable.
+* The residual is driven to zero by Levenberg-Marquardt steps on the Jacobian: the response of the
+  flow to each element's rotation is the transpiration solution (the normal velocity a small
+  normal displacement delta of a streamline implies, (1/r) d(r q delta)/ds, solved with the same
+  factorisation), plus the moved arc lengths; within a few elements of the lip, where that
+  linearisation is poor, the columns are taken by differences.
+* Settled when every enforced face is within ``tolerance`` (relative to V times the lip radius),
+  tied to the linear solver's tolerance. Then the registered solver solves the flow on the
+  settled jet at the operating point.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from ..geometry import Profile
+from ..geometry.jet import JetShape, exit_area, far_area, jet_problem, lip_angle, trial_jet, with_jet
+from ..mesh import MeshError, mesh_profile, target_size
+from ..mesh.moving import NodeMover
+from ..mesh.session import write_msh
+from ..names import Boundary
+from ..solvers import free_surface_solvers
+from ..solvers.base import FlowError
+from .base import OutletFlow, Progress
+from .comparison import exit_plane_comparison
+
+MAX_ITERATIONS = 30  # a jet not settled after this many steps is reported as not settled
+FD_COLUMNS = 4  # near-lip directions whose response is taken by differences
+FD_STEP = 1e-7  # radians
+TOLERANCE_FACTOR = 100.0  # settled: enforced faces within this many times the linear tolerance ...
+TOLERANCE_FLOOR = 1e-8  # ... and never tighter than this (the round-off floor of the factorised solve)
+MOMENTUM_AREA = 0.05  # the momentum condition where the walls within a lip radius project less than this
+#                      fraction of the exit area on the axis
+LM_START, LM_DOWN, LM_UP, LM_MAX = 1e-8, 5.0, 8.0, 1e6
+BROYDEN_BELOW = 1e-5  # residual (relative to V r_lip) below which Broyden updates replace new Jacobians
+
+
+class JetNotSettled(FlowError):
+    """The free-jet boundary did not settle."""
+
+
+@dataclass(frozen=True)
+class JetIteration:
+    iteration: int
+    residual: float  # largest enforced face residual, relative to V r_lip
+    contraction_coefficient: float
+    damping: float  # the Levenberg-Marquardt parameter of the step taken after this state
+    seconds: float
+
+
+@dataclass(frozen=True, eq=False)
+class JetSolution:
+    """What the free-jet solve found, beside the flow."""
+
+    points: np.ndarray  # (n, 2) jet boundary from the lip to the outlet plane
+    history: tuple[JetIteration, ...]
+    settled: bool
+    lip: tuple[float, float]
+    exit_area: float  # flow area at the lip plane (axisymmetric: m2; planar: m per unit depth)
+    jet_area: float  # far-jet area (same measure)
+    condition: str  # "local" or "momentum" (what fixes the jet speed)
+    residual: float  # largest enforced face residual at the end (relative)
+    tolerance: float
+    cells: int
+    seconds: float
+
+    @property
+    def contraction_coefficient(self) -> float:
+        return self.jet_area / self.exit_area
+
+    @property
+    def jet_radius(self) -> float:
+        return float(self.points[-1, 1])
+
+    def vena_contracta_x(self, fraction: float = 0.01) -> float:
+        """First x downstream of which the jet radius stays within ``fraction`` of its total
+        contraction from the far value."""
+        r, x = self.points[:, 1], self.points[:, 0]
+        r_far = r[-1]
+        span = abs(self.lip[1] - r_far)
+        if span <= 0:
+            return float(x[0])
+        outside = np.abs(r - r_far) > fraction * span
+        k = int(np.flatnonzero(outside)[-1]) + 1 if outside.any() else 0
+        return float(x[min(k, len(x) - 1)])
+
+
+def jet_speed(flow) -> float:
+    """The speed on a free jet: Bernoulli from the total head to the ambient pressure (0 gauge)."""
+    return math.sqrt(2.0 * max(flow.total_pressure, 0.0) / flow.inlet_density)
+
+
+def momentum_condition(profile: Profile) -> bool:
+    """Whether the axial momentum balance fixes the jet speed exactly: a re-entrant lip (the wall
+    arrives running upstream, so the jet turns back and has an axial projection of its own) whose
+    walls within one lip radius project less than MOMENTUM_AREA of the exit area on the axis (their
+    axial pressure force does not depend on the singular flow at the lip)."""
+    if lip_angle(profile) > -math.pi / 2:
+        return False
+    lip = np.array(profile.wall[-1].end)
+    r_lip = float(lip[1])
+    projected = 0.0
+    for chain in (profile.wall, profile.centerbody):
+        for seg in chain:
+            p = seg.sample()
+            pieces = max(1, int(math.ceil(40.0 * seg.length / r_lip)))  # fine enough to see the lip's neighbourhood
+            p = np.vstack([np.linspace(a, b, pieces + 1)[:-1] for a, b in zip(p[:-1], p[1:])] + [p[-1:]])
+            mid = 0.5 * (p[1:] + p[:-1])
+            near = np.linalg.norm(mid - lip, axis=1) < r_lip
+            dr = np.abs(np.diff(p[:, 1]))[near]
+            projected += float(np.sum(dr if profile.planar else 2 * math.pi * mid[near, 1] * dr))
+    return projected < MOMENTUM_AREA * exit_area(profile)
+
+
+class _JetProblem:
+    """The discrete free-streamline problem on one mesh: residuals and their Jacobian."""
+
+    def __init__(self, case, profile: Profile, shape: JetShape, theta0: np.ndarray, service_cls, h: float):
+        from scipy.spatial import cKDTree
+
+        self.profile, self.shape, self.h = profile, shape, h
+        self.r_lip = shape.lip[1]
+        P = shape.points(theta0)
+        self.build = mesh_profile(with_jet(profile, P), case.mesh.size, case.mesh.level, "triangles", h=h)
+        mesh0 = self.build.mesh
+        dist, self.jet_nodes = cKDTree(mesh0.nodes).query(P)
+        if dist.max() > 1e-6 * self.r_lip:
+            raise JetNotSettled("mesh", "the jet's polyline is not the mesh's jet boundary")
+        faces = mesh0.boundary[Boundary.JET]
+        index = {tuple(sorted(e)): f for f, e in zip(faces, mesh0.face_nodes[faces])}
+        self.jet_faces = np.array([index[tuple(sorted((a, b)))] for a, b in zip(self.jet_nodes[:-1], self.jet_nodes[1:])])
+        out = np.unique(mesh0.face_nodes[mesh0.boundary[Boundary.OUTLET]].ravel())
+        self.outlet_nodes = out[~np.isin(out, self.jet_nodes)]
+        self.bottom = profile.outlet_bottom
+        self.mover = NodeMover(mesh0, np.r_[self.jet_nodes, self.outlet_nodes])
+        self.service = service_cls(mesh0, self.jet_faces)
+        self.momentum = momentum_condition(profile)
+        n = shape.n
+        # the first element's direction is tied to the second's by the free streamline's l^1/2 law at a
+        # sharp lip (it leaves tangent to the wall); the lip face is reported apart
+        tie = shape.lip_tie()
+        self.B = np.zeros((n, n - 1))  # theta = b0 + B u, u = theta_1 .. theta_n-1
+        self.B[1:, :] = np.eye(n - 1)
+        self.B[0, 0] = tie
+        self.b0 = np.zeros(n)
+        self.b0[0] = shape.lip_direction * (1.0 - tie)
+        self.rows = np.arange(1, n) if self.momentum else np.arange(1, n + 1)
+        self.mesh0 = mesh0
+
+    @staticmethod
+    def unknowns(theta: np.ndarray) -> np.ndarray:
+        return theta[1:].copy()
+
+    def theta(self, u: np.ndarray) -> np.ndarray:
+        return self.b0 + self.B @ u
+
+    def positions(self, P: np.ndarray) -> np.ndarray:
+        r_end0 = self.mesh0.nodes[self.jet_nodes[-1], 1]
+        ro = self.mesh0.nodes[self.outlet_nodes]
+        scaled = ro.copy()
+        scaled[:, 1] = self.bottom + (ro[:, 1] - self.bottom) * (P[-1, 1] - self.bottom) / (r_end0 - self.bottom)
+        return np.vstack([P, scaled])
+
+    def evaluate(self, u: np.ndarray, V: float | None) -> dict | None:
+        """The state at directions u and jet speed V (None: from the momentum balance, or, at the
+        first call of the local condition, the far speed); None where the mesh cannot follow."""
+        theta = self.theta(u)
+        P = self.shape.points(theta)
+        if jet_problem(self.profile, P):
+            return None
+        try:
+            mesh = self.mover.move(self.positions(P))
+        except MeshError:
+            return None
+        field = self.service.solve(mesh)
+        L = np.linalg.norm(np.diff(P, axis=0), axis=1)
+        s = np.r_[0.0, np.cumsum(L)]
+        remaining = s[-1] - 0.5 * (s[:-1] + s[1:])
+        if self.momentum:
+            if not -field.momentum0 / field.momentum2 > 0:
+                return None
+            V = math.sqrt(-field.momentum0 / field.momentum2)
+        elif V is None:
+            V = abs(float(field.jet_tangential[-1]))
+        residual = (field.jet_value + V * remaining)[self.rows]
+        return {"u": u, "theta": theta, "P": P, "mesh": mesh, "field": field, "V": V, "L": L,
+                "remaining": remaining, "residual": residual}
+
+    def jacobian(self, st: dict) -> np.ndarray:
+        theta, P, mesh, field, V, L, rem = (st[k] for k in ("theta", "P", "mesh", "field", "V", "L", "remaining"))
+        n = self.shape.n
+        tau = np.diff(P, axis=0) / L[:, None]
+        q = np.sign(np.einsum("ij,ij->i", tau, field.jet.t)) * field.jet_tangential  # speed along the jet
+        th_all = np.r_[theta, 0.0]
+        normal = np.column_stack([-np.sin(th_all), np.cos(th_all)])  # out of the fluid
+        node_normal = np.zeros((n + 2, 2))
+        node_normal[:-1] += normal
+        node_normal[1:] += normal
+        node_normal /= np.linalg.norm(node_normal, axis=1)[:, None]
+        q_node = np.r_[q[0], 0.5 * (q[:-1] + q[1:]), q[-1]]
+        r_node = np.ones(n + 2) if mesh.planar else P[:, 1]
+        dP = self.shape.sensitivities(theta)  # (n, n + 2, 2)
+        flux = q_node[None] * np.einsum("inj,nj->in", dP, node_normal) * r_node[None]
+        g = (flux[:, 1:] - flux[:, :-1]) / mesh.face_area[self.jet_faces][None]  # transpiration, per element
+        along = np.einsum("ifj,fj->if", 0.5 * (dP[:, :-1] + dP[:, 1:]), tau)
+        dvalue, dm0 = self.service.response(field, g.T)
+        d_end = dP[:, n, 0]  # the last element's end moves in x: the tail (and the arc length to the end) changes
+        J = dvalue + q[:, None] * along.T - V * d_end[None, :]
+        if self.momentum:
+            dA_out = (1.0 if mesh.planar else P[-1, 1]) * dP[:, n + 1, 1]
+            dV = -(dm0 + V * V * dA_out) / (2.0 * V * field.momentum2)
+            J = J + rem[:, None] * dV[None, :]
+        Ju = (J @ self.B)[self.rows]
+        for j in range(min(FD_COLUMNS, Ju.shape[1])):  # near the lip: differences
+            e = np.zeros_like(st["u"])
+            e[j] = FD_STEP
+            other = self.evaluate(st["u"] + e, None if self.momentum else V)
+            if other is not None:
+                Ju[:, j] = (other["residual"] - st["residual"]) / FD_STEP
+        return Ju if self.momentum else np.column_stack([Ju, rem[self.rows]])
+
+
+class FreeJetOutlet:
+    kind = "free-jet"
+
+    def solve(self, case, profile: Profile, solver, progress: Progress, msh_path=None) -> OutletFlow:
+        t_start = time.perf_counter()
+        service_cls = solver.load_free_surface()
+        if service_cls is None:
+            raise FlowError("solver.kind", f'the solver "{solver.kind}" cannot solve a free jet; outlet.kind = "free-jet" '
+                            f"needs a solver with a free-surface service ({', '.join(free_surface_solvers())})")
+        h = target_size(profile, case.mesh.size, case.mesh.level)
+        shape, theta = trial_jet(profile, h)
+        problem = jet_problem(profile, shape.points(theta))
+        if problem:
+            raise JetNotSettled("outlet.kind", f"the first trial jet cannot be meshed ({problem}): the outline may not end "
+                                "at a lip from which a jet can leave (see docs/case-file.md, free jets)")
+        progress("mesh", f"free jet: meshing the bore with the first trial jet ({shape.n} jet elements)")
+        jp = _JetProblem(case, profile, shape, theta, service_cls, h)
+        progress("mesh", f"{jp.mesh0.n_cells:,} cells, {jp.build.method}, {jp.build.seconds:.2f} s; the jet moves the nodes")
+        tol = max(TOLERANCE_FLOOR, TOLERANCE_FACTOR * case.linear_settings.tolerance)
+        st, history, settled = self._iterate(jp, jp.unknowns(theta), tol, progress)
+        scale = st["V"] * jp.r_lip
+        residual = float(np.max(np.abs(st["residual"]))) / scale
+        cc = far_area(profile, float(st["P"][-1, 1])) / exit_area(profile)
+        if not settled:
+            raise JetNotSettled("outlet.kind", f"the free-jet boundary did not settle in {MAX_ITERATIONS} steps (largest "
+                                f"face residual {residual:.2e} of V r_lip, contraction coefficient {cc:.4f}): refine the "
+                                "mesh near the lip (mesh.level) or check that the outline ends at a sharp lip")
+        jet_profile = with_jet(profile, st["P"])
+        mesh = st["mesh"]
+        t = time.perf_counter()
+        flow = solver.load()(case, jet_profile, mesh, progress)
+        solve_s = time.perf_counter() - t
+        if msh_path is not None:
+            write_msh(mesh, msh_path)
+        sol = JetSolution(st["P"], tuple(history), settled, shape.lip, exit_area(profile),
+                          far_area(profile, float(st["P"][-1, 1])), "momentum" if jp.momentum else "local",
+                          residual, tol, mesh.n_cells, time.perf_counter() - t_start)
+        build = replace(jp.build, mesh=mesh, method=jp.build.method + ", nodes moved with the jet")
+        comparison = None
+        if case.outlet.compare_exit_plane:
+            progress("solve", "exit-plane model of the same bore, for comparison")
+            comparison = exit_plane_comparison(case, profile, solver, flow)
+            if not comparison.meaningful:
+                progress("solve", f"exit-plane model {comparison.note}")
+        return OutletFlow(jet_profile, build, flow, sol, jp.build.seconds,
+                          time.perf_counter() - t_start - jp.build.seconds, comparison)
+
+    @staticmethod
+    def _iterate(jp: _JetProblem, u: np.ndarray, tol: float, progress: Progress):
+        """Levenberg-Marquardt on the face residuals: Newton's Jacobian at every step while the residual
+        is above BROYDEN_BELOW, Broyden's rank-one update of it below (a fresh one if a step fails)."""
+        t0 = time.perf_counter()
+        st = jp.evaluate(u, None)
+        if st is None:
+            raise JetNotSettled("outlet.kind", "the first trial jet cannot be solved: check that the outline ends at a lip")
+        scale = st["V"] * jp.r_lip
+        J, fresh = jp.jacobian(st), True
+        lam = LM_START * float(np.linalg.norm(J, 2)) ** 2
+        history: list[JetIteration] = []
+        for it in range(1, MAX_ITERATIONS + 1):
+            r = st["residual"]
+            res = float(np.max(np.abs(r))) / scale
+            cc = far_area(jp.profile, float(st["P"][-1, 1])) / exit_area(jp.profile)
+            progress("solve", f"free jet {it}: face residual {res:.2e} of V r_lip, contraction coefficient {cc:.6f}")
+            if res < tol:
+                history.append(JetIteration(it, res, cc, 0.0, time.perf_counter() - t0))
+                return st, history, True
+            new, step, lam = _lm_step(jp, st, J, lam)
+            if new is None and not fresh:  # the updated Jacobian has drifted: a fresh one
+                J, fresh = jp.jacobian(st), True
+                new, step, lam = _lm_step(jp, st, J, lam)
+            history.append(JetIteration(it, res, cc, lam, time.perf_counter() - t0))
+            if new is None:
+                return st, history, False
+            if float(np.max(np.abs(new["residual"]))) / scale > BROYDEN_BELOW:
+                J, fresh = jp.jacobian(new), True  # Newton's Jacobian while far from the solution
+            else:
+                dr = new["residual"] - r
+                J = J + np.outer(dr - J @ step, step) / float(step @ step)  # Broyden's update near it
+                fresh = False
+            st = new
+        return st, history, False
+
+
+def _lm_step(jp: _JetProblem, st: dict, J: np.ndarray, lam: float):
+    """One accepted Levenberg-Marquardt step from ``st`` (the new state, the step, the new damping),
+    or (None, None, lam) when no damping reduces the residual."""
+    r = st["residual"]
+    JtJ = J.T @ J
+    rhs = -J.T @ r
+    base = float(np.linalg.norm(r))
+    norm = float(np.linalg.norm(JtJ, 2))
+    while lam <= LM_MAX * norm:
+        step = np.linalg.solve(JtJ + lam * np.diag(np.diag(JtJ)), rhs)
+        du, V = (step, None) if jp.momentum else (step[:-1], st["V"] + step[-1])
+        new = jp.evaluate(st["u"] + du, V)
+        if new is not None and float(np.linalg.norm(new["residual"])) < base:
+            return new, step, max(lam / LM_DOWN, 1e-12 * norm)
+        lam *= LM_UP
+    return None, None, LM_START * norm

@@ -1,0 +1,107 @@
+"""The potential solver's service to a free-surface outlet: the flow with the jet as a streamline,
+on a mesh whose nodes move, and its response to a displacement of the jet.
+
+For a unit inlet velocity, the jet and every wall a streamline and phi = 0 on the outlet plane,
+``solve(mesh)`` returns the potential's face values and tangential derivatives on the jet faces,
+and the axial momentum balance of the flow in the form M(V) = M0 + M2 V^2 for a jet speed V
+(pressures p = (V^2 - q^2) / 2 per unit density, the jet at p = 0):
+
+    M = integral_outlet (p + u_x^2) dA + integral_walls p n_x dA - integral_inlet (p + u_x^2) dA.
+
+``response(field, g)`` solves again with the same factorisation for normal velocities ``g`` on the
+jet faces (the transpiration of a small normal displacement of the jet: the linearised flow on
+the displaced boundary) and returns the change of the jet face values and of M0.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..mesh import FVMesh
+from ..names import Boundary
+from ..numerics.reconstruct import BoundaryFit, boundary_fit, stencils
+from .potential import BoundaryCondition, assemble, boundary_kinds
+
+MOMENTUM_PLANES = (Boundary.INLET, Boundary.OUTLET)
+MOMENTUM_WALLS = (Boundary.WALL, Boundary.CENTERBODY)
+
+
+@dataclass(frozen=True, eq=False)
+class JetField:
+    """The unit-inflow flow on one position of the jet."""
+
+    mesh: FVMesh
+    phi: np.ndarray
+    data: np.ndarray
+    jet: BoundaryFit
+    jet_value: np.ndarray  # phi at the jet face centres
+    jet_tangential: np.ndarray  # d phi / dt at the jet face centres (t: the face tangent of the fit)
+    momentum0: float  # M0
+    momentum2: float  # M2 (per V^2)
+    dmomentum0: np.ndarray  # d M0 / d phi (C,)
+    solve_rhs: object  # the factorisation: x = solve_rhs(b)
+    R: object  # the right-hand-side operator of the boundary data
+
+
+class PotentialJet:
+    """Flows of the potential solver on moved copies of one mesh (same topology) with a jet."""
+
+    def __init__(self, mesh: FVMesh, jet_faces: np.ndarray):
+        self.jet_faces = np.asarray(jet_faces, np.int64)
+        kinds = {Boundary.INLET: BoundaryCondition("flux", -1.0), Boundary.OUTLET: BoundaryCondition("value", 0.0)}
+        for name in (Boundary.WALL, Boundary.AXIS, Boundary.CENTERBODY, Boundary.JET):
+            kinds[name] = BoundaryCondition("flux", 0.0)
+        self.bcs = {k: v for k, v in kinds.items() if k in mesh.boundary}
+        self.is_value, self.data = boundary_kinds(mesh, self.bcs)
+        # fit stencils depend on the topology only
+        self._stencil = {"jet": stencils(mesh, self.jet_faces)}
+        for name in MOMENTUM_PLANES + MOMENTUM_WALLS:
+            if name in mesh.boundary:
+                self._stencil[name] = stencils(mesh, mesh.boundary[name])
+
+    def solve(self, mesh: FVMesh) -> JetField:
+        import scipy.sparse.linalg as spla
+
+        ops = assemble(mesh, self.is_value)
+        solve_rhs = spla.factorized(ops.K.tocsc())
+        phi = solve_rhs(ops.R @ self.data)
+        jet = boundary_fit(mesh, self.jet_faces, self.is_value, self._stencil["jet"])
+        m0, m2, dm0 = self._momentum(mesh, phi)
+        return JetField(mesh, phi, self.data, jet, jet.value(phi, self.data),
+                        jet.Dt @ phi + jet.dt_data * self.data[self.jet_faces], m0, m2, dm0, solve_rhs, ops.R)
+
+    def response(self, field: JetField, g: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(jet face values, M0) changes for normal velocities ``g`` (m, k) on the jet faces."""
+        g = np.atleast_2d(np.asarray(g, float).T).T
+        data = np.zeros((field.mesh.n_faces, g.shape[1]))
+        data[self.jet_faces] = g
+        dphi = field.solve_rhs(np.asarray(field.R @ data))
+        dvalue = field.jet.V @ dphi + field.jet.v_data[:, None] * g
+        return dvalue, field.dmomentum0 @ dphi
+
+    def _momentum(self, mesh: FVMesh, phi: np.ndarray) -> tuple[float, float, np.ndarray]:
+        """M0, M2 and dM0/dphi of the axial momentum balance (docstring of the module)."""
+        m0, m2, grad = 0.0, 0.0, np.zeros(mesh.n_cells)
+        for name in MOMENTUM_PLANES + MOMENTUM_WALLS:
+            if name not in mesh.boundary:
+                continue
+            fit = boundary_fit(mesh, mesh.boundary[name], self.is_value, self._stencil[name])
+            faces = fit.faces
+            gt = fit.Dt @ phi + fit.dt_data * self.data[faces]
+            gn = fit.Dn @ phi + fit.dn_data * self.data[faces]
+            ux = fit.t[:, 0] * gt + fit.n[:, 0] * gn
+            A = mesh.face_area[faces]
+            if name in MOMENTUM_PLANES:
+                sign = 1.0 if name == Boundary.OUTLET else -1.0
+                m0 += sign * float(np.sum((ux * ux - 0.5 * (gt * gt + gn * gn)) * A))
+                m2 += sign * 0.5 * float(A.sum())
+                d_gt, d_gn = sign * (2 * ux * fit.t[:, 0] - gt) * A, sign * (2 * ux * fit.n[:, 0] - gn) * A
+            else:
+                nx = fit.n[:, 0]
+                m0 -= 0.5 * float(np.sum((gt * gt + gn * gn) * nx * A))
+                m2 += 0.5 * float(np.sum(nx * A))
+                d_gt, d_gn = -gt * nx * A, -gn * nx * A
+            grad += fit.Dt.T @ d_gt + fit.Dn.T @ d_gn
+        return m0, m2, grad
