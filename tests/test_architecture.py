@@ -106,3 +106,106 @@ def test_planar_mesh_measures():
     assert m.revolution == 1.0
     assert m.cell_volume.sum() == pytest.approx(2.0, rel=1e-12)
     assert m.face_area[m.boundary["inlet"]].sum() == pytest.approx(1.0, rel=1e-12)
+
+
+# ---- the layers point one way -------------------------------------------------------------------
+# Each package or module of axibore sits in one layer; a module imports only from its own layer or
+# from layers below it (DEVELOPERS.md, "Architecture"). A solver never reads a case file, an outlet
+# model never draws, the output layer never drives a view.
+LAYERS = (
+    ("names", "units", "fluids", "safety", "textin", "version"),
+    ("geometry",),
+    ("mesh",),
+    ("numerics",),
+    ("solvers",),
+    ("case", "budget"),
+    ("outlets",),
+    ("viscous",),
+    ("post",),
+    ("io",),
+    ("view", "describe"),
+    ("run",),
+    ("study", "verification"),
+    ("cli", "__init__", "__main__"),
+)
+SRC = Path(__file__).parents[1] / "src" / "axibore"
+MODULES = {".".join(p.relative_to(SRC.parent).with_suffix("").parts).removesuffix(".__init__") for p in SRC.rglob("*.py")}
+
+
+def _imports():
+    """(importing module, its top-level part, imported module, inside a function?) over the package."""
+    import ast
+
+    out = []
+    for path in sorted(SRC.rglob("*.py")):
+        parts = list(path.relative_to(SRC.parent).with_suffix("").parts)
+        package = parts[-1] == "__init__"
+        if package:
+            parts = parts[:-1]
+        name = ".".join(parts)
+        tree = ast.parse(path.read_text())
+        in_function = {id(n) for f in ast.walk(tree) if isinstance(f, (ast.FunctionDef, ast.AsyncFunctionDef))
+                       for n in ast.walk(f)}
+        for node in ast.walk(tree):
+            targets = []
+            if isinstance(node, ast.ImportFrom):
+                if node.level:
+                    base = parts if package else parts[:-1]
+                    base = base[: len(base) - (node.level - 1)]
+                    mod = ".".join(base + ([node.module] if node.module else []))
+                else:
+                    mod = node.module or ""
+                # "from pkg import name": the module pkg.name where there is one, else pkg
+                targets = [mod + "." + a.name if mod + "." + a.name in MODULES else mod for a in node.names]
+            elif isinstance(node, ast.Import):
+                targets = [a.name for a in node.names]
+            for t in targets:
+                if t == "axibore" or t.startswith("axibore."):
+                    me = parts[1] if len(parts) > 1 else "__init__"
+                    out.append((name, me, t, id(node) in in_function))
+    return out
+
+
+def test_imports_point_down_the_layers():
+    layer = {m: i for i, group in enumerate(LAYERS) for m in group}
+    upward, unknown = [], set()
+    for name, me, target, _ in _imports():
+        top = target.split(".")[1] if "." in target else "__init__"
+        if me not in layer or top not in layer:
+            unknown.add(me if me not in layer else top)
+        elif layer[top] > layer[me]:
+            upward.append(f"{name} imports {target}")
+    assert not unknown, f"modules in no layer (add them to LAYERS and DEVELOPERS.md): {sorted(unknown)}"
+    assert not upward, "imports that run up a layer:\n" + "\n".join(upward)
+
+
+def test_no_project_imports_hidden_in_functions():
+    # an import inside a function hides a dependency (usually an upward one); only the command line
+    # (which loads one command's modules) and the package's facade import lazily
+    hidden = [f"{name} imports {t} inside a function" for name, me, t, inner in _imports()
+              if inner and me not in ("cli", "__init__") and t.split(".")[1:2] != name.split(".")[1:2]]
+    assert not hidden, "\n".join(hidden)
+
+
+def test_no_import_cycles():
+    # module to module (a package's __init__ counts as the package): no circle of imports, not even
+    # inside a layer; a circle means two modules that are one, or a piece that belongs lower down
+    graph: dict[str, set[str]] = {}
+    for name, _, target, _ in _imports():
+        if target != name:
+            graph.setdefault(name, set()).add(target)
+    cycles, state = [], {}
+
+    def visit(node, path):
+        state[node] = "open"
+        for nxt in sorted(graph.get(node, ())):
+            if state.get(nxt) == "open":
+                cycles.append(" -> ".join(path[path.index(nxt):] + [nxt]))
+            elif nxt not in state:
+                visit(nxt, path + [nxt])
+        state[node] = "done"
+
+    for node in sorted(graph):
+        if node not in state:
+            visit(node, [node])
+    assert not cycles, "import cycles:\n" + "\n".join(cycles)

@@ -12,7 +12,7 @@ Python API::
     case = axibore.load_case("cases/x.toml").with_updates({"inlet.pressure": "8 bar"})
 """
 
-__version__ = "0.1.0"
+from .version import __version__  # noqa: F401
 
 from .case import Case, CaseError, load_case  # noqa: E402
 from . import run  # noqa: E402  (the module is callable: axibore.run(case_or_path, out=None, **updates))

@@ -4,14 +4,18 @@ from __future__ import annotations
 
 import math
 
+from .budget import budget, refusal
 from .case import Case
+from .geometry.jet import estimated_contraction, lip_angle
+from .mesh import target_size
 from .units import show
 
+UNDERSTOOD = "understood.txt"  # a run directory's copy of what was understood from its case (``describe``)
 
-def describe(case: Case) -> list[str]:
-    """What was understood from a case, in SI with units."""
-    from .mesh import target_size
 
+def describe(case: Case, cells: int | None = None) -> list[str]:
+    """What was understood from a case, in SI with units. ``cells``: the cells of the mesh a run
+    actually solved on (then the mesh is described, not estimated)."""
     f = case.fluid
     lines = [f"case      {case.title}  ({case.source})"]
     if f.is_liquid:
@@ -34,8 +38,6 @@ def describe(case: Case) -> list[str]:
         lines.append("symmetry  planar section: the axis is a symmetry plane; areas, flow rates and forces are per metre of "
                      "depth for the half above it")
     if case.outlet.kind == "free-jet":
-        from .geometry.jet import estimated_contraction, lip_angle
-
         a = lip_angle(case.profile)
         lines.append(f"free jet  from the lip at x = {show(case.profile.wall[-1].end[0], 'length')}, r = "
                      f"{show(case.profile.wall[-1].end[1], 'length')}; the wall meets it at {-math.degrees(a):.3g} deg to the "
@@ -64,20 +66,20 @@ def describe(case: Case) -> list[str]:
         lines.append(f"inlet     total pressure {show(i.total_pressure, 'pressure')} gauge, total temperature {show(i.total_temperature, 'temperature')}")
     p_out = "computed" if (o.pressure is None and i.pressure is not None and i.flow_rate is not None) else show(o.pressure or 0.0, "pressure") + " gauge"
     lines.append(f"outlet    {o.kind}, static pressure {p_out}, ambient {show(o.ambient_pressure, 'pressure')} absolute")
-    from .budget import budget, refusal
-
     h = target_size(p, case.mesh.size, case.mesh.level)
-    b = budget(case)
-    lines.append(
-        f"mesh      {case.mesh.cells}, size {case.mesh.size:g} x smallest channel height, level {case.mesh.level}: "
-        f"target cell {show(h, 'length')}, {'' if b.how == 'counted' else 'about '}{b.cells:,} cells ({b.how}), "
-        f"about {b.memory_bytes / 1e9:.2g} GB of memory"
-    )
-    if not b.within:
-        lines.append(f"note      {refusal(b)}; `run` will refuse this case")
-    if case.outlet.kind == "free-jet":
-        lines.append("note      free jet: meshed with unstructured triangles (more cells than the count above, which is for "
-                     "the bore alone) and remeshed at every outer iteration, usually 8 to 25 of them")
+    head = (f"mesh      {case.mesh.cells}, size {case.mesh.size:g} x smallest channel height, level {case.mesh.level}: "
+            f"target cell {show(h, 'length')}, ")
+    if cells is not None:
+        lines.append(head + f"{cells:,} cells solved on")
+    else:
+        b = budget(case)
+        lines.append(head + f"{'' if b.how == 'counted' else 'about '}{b.cells:,} cells ({b.how}), "
+                     f"about {b.memory_bytes / 1e9:.2g} GB of memory")
+        if not b.within:
+            lines.append(f"note      {refusal(b)}; `run` will refuse this case")
+        if case.outlet.kind == "free-jet":
+            lines.append("note      free jet: meshed with unstructured triangles (more cells than the count above, which is "
+                         "for the bore alone) once; the nodes move with the jet, usually 4 to 12 steps")
     lines.append(f"solver    {case.solver_kind} (linear tolerance {case.linear_settings.tolerance:g}); 1D breakdown threshold {case.onedim.threshold:.3g} of the outlet dynamic pressure")
     v = case.viscous
     if case.viscous_model == "integral":

@@ -17,7 +17,8 @@ import numpy as np
 from .budget import budget, refusal
 from .case import Case, demo_case_path, load_case
 from .geometry import Profile
-from .io.files import atomic_dir, check_output_dir, clean_stale_partials
+from .describe import UNDERSTOOD, describe
+from .io.files import atomic_dir, atomic_write_text, check_output_dir, clean_stale_partials
 from .io.rundir import write_run
 from .io.summary import build_summary
 from .mesh import FVMesh, MeshBuild
@@ -130,6 +131,7 @@ def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, 
     with atomic_dir(out_dir) as tmp:
         res = solve_case(case, progress, msh_path=tmp / "mesh.msh", max_cells=max_cells)
         write_run(res, tmp)
+        atomic_write_text(tmp / UNDERSTOOD, "\n".join(describe(case, cells=res.mesh.n_cells)) + "\n")
         if report:
             progress("report", "plots, 3D view and report.html")
             t = time.perf_counter()

@@ -13,6 +13,7 @@ import numpy as np
 
 from .geometry import Segment
 from .mesh import mesh_loop
+from .mesh.session import add_loop_surface, generate, gmsh_session
 from .solvers.potential import BoundaryCondition, solve_potential
 from .numerics.reconstruct import boundary_gradients
 
@@ -129,8 +130,6 @@ def sphere_in_stream(h: float, R: float = 1.0, R_far: float = 6.0) -> SphereResu
 
 def mesh_sphere(loop, h: float, R: float):
     """Triangles of size h on the body, growing to 8 h at the far boundary."""
-    from .mesh.session import add_loop_surface, generate, gmsh_session
-
     with gmsh_session("sphere") as gmsh:
         _, groups = add_loop_surface(gmsh, loop, h, 1e-9 * R)
         f = gmsh.model.mesh.field

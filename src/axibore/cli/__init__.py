@@ -11,7 +11,7 @@ import argparse
 import sys
 from importlib import import_module
 
-from .. import __version__
+from ..version import __version__
 from ..case import CaseError
 from .common import err
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from .. import __version__
+from ..version import __version__
 from .common import add_case_arg, err, levels, load, out, stem
 
 HELP = "grid-convergence study: the case at several mesh levels, observed order, extrapolation, GCI"

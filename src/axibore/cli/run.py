@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from .. import __version__
+from ..version import __version__
 from ..safety import caution_text
 from ..solvers import SOLVERS
 from ..units import PRESSURE_UNITS

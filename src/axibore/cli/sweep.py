@@ -5,7 +5,7 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
-from .. import __version__
+from ..version import __version__
 from ..safety import caution_text
 from .common import add_case_arg, err, load, out, stem
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from .. import __version__
+from ..version import __version__
 from .common import out
 
 HELP = "run the verification set (exact solutions, published values) and tabulate the errors"

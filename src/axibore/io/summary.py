@@ -12,9 +12,10 @@ import math
 from dataclasses import asdict
 from typing import Any, Callable
 
-from .. import __version__
+from ..version import __version__
 from ..post.joints import CAUTION as JOINT_CAUTION
 from ..safety import CAUTIONS
+from ..viscous.stage import CAUTION as VISCOUS_CAUTION, summary_section
 
 SCHEMA = 1
 
@@ -164,8 +165,6 @@ def build_summary(res) -> dict:
         {"x_m": k.x, "r_m": k.r, "turn_deg": math.degrees(k.turn), "convex": k.convex, "boundary": str(k.boundary), "key": k.key}
         for k in res.profile.corners()
     ]
-    from ..viscous.stage import CAUTION as VISCOUS_CAUTION, summary_section
-
     out["viscous"] = summary_section(res)
     if getattr(res, "jet", None) is not None:
         out["free_jet"] = {

@@ -13,6 +13,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..geometry.jet import estimated_contraction, lip_angle
+
 
 # A polygonal wall (points with smooth = false) with this many gentle vertices (turns between
 # POLYGON_MIN_TURN_DEG and the corner threshold of Profile.corners) is a sampled curve, not a
@@ -119,8 +121,6 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
     if not onedim.meaningful:
         warnings.append("the wall runs backwards in x: the 1D model along x is not meaningful for this bore")
     if case.outlet.kind == "exit-plane" and not flow.compressible:
-        from ..geometry.jet import estimated_contraction, lip_angle
-
         a = lip_angle(profile)
         if a < -math.radians(SHARP_LIP_DEG):
             cc = estimated_contraction(a)

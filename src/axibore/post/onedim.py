@@ -18,6 +18,9 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..geometry import Profile
+from ..geometry.jet import exit_area
+from ..geometry.profile import min_flow_area
+from ..solvers import onedim_gas as q1d
 from ..solvers.base import FlowResult
 
 
@@ -43,8 +46,6 @@ class OneDimComparison:
 
 def _gas_model(case, profile: Profile, flow: FlowResult):
     """Quasi-1D state along a dense x grid of the bore, and at the wall faces."""
-    from ..solvers import onedim_gas as q1d
-
     amb = case.ambient_pressure
     p0, T0 = case.inlet.total_pressure + amb, case.inlet.total_temperature
     p_back = (case.outlet.pressure or 0.0) + amb
@@ -52,8 +53,6 @@ def _gas_model(case, profile: Profile, flow: FlowResult):
     x = np.linspace(profile.x_inlet, profile.x_outlet, 2001)
     A = profile.flow_area(x)
     # the throat of the exact geometry (arcs included), not the minimum of the sampled wall
-    from ..geometry.profile import min_flow_area
-
     x_t, A_t = min_flow_area(profile)
     k = int(np.searchsorted(x, x_t))
     x, A = np.insert(x, k, x_t), np.insert(A, k, A_t)
@@ -121,8 +120,6 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
     free_jet = outlet_kind == "free-jet" and profile.jet
     a_exit = flow.outlet_area
     if free_jet:
-        from ..geometry.jet import exit_area
-
         a_exit = exit_area(profile)  # m2 (planar: m2 per m of depth)
     ratio = a_exit / flow.inlet_area
     dp = flow.inlet_pressure - flow.outlet_pressure

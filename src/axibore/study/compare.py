@@ -3,12 +3,18 @@ differences from the first (absolute and relative), and their wall-pressure curv
 
 from __future__ import annotations
 
+import base64
+import html
 import json
 import math
 from dataclasses import dataclass
 from pathlib import Path
 
 from .sweep import OUTPUTS
+from ..io.files import atomic_write_text, read_csv
+from ..safety import CAUTIONS
+from ..view.plots import figure, save
+from ..view.report import CSS
 
 
 @dataclass
@@ -49,8 +55,6 @@ def compare_runs(run_dirs: list[Path]) -> Comparison:
 
 
 def plot_wall_pressure(cmp: Comparison, path: Path) -> Path:
-    from ..io.files import read_csv
-    from ..view.plots import figure, save
 
     fig, ax = figure(7.0, 4.2, dpi=120)
     for d in cmp.runs:
@@ -66,12 +70,7 @@ def plot_wall_pressure(cmp: Comparison, path: Path) -> Path:
 
 
 def write_html(cmp: Comparison, out_dir: Path) -> Path:
-    import base64
-    import html
 
-    from ..io.files import atomic_write_text
-    from ..safety import CAUTIONS
-    from ..view.report import CSS
 
     e = html.escape
     out_dir = Path(out_dir)

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import base64
+import html
 import json
 import math
 import shutil
@@ -11,8 +13,14 @@ from pathlib import Path
 from typing import Callable
 
 from ..io.files import atomic_write_text, is_run_directory
-from ..io.rundir import FIELD_FILES
-from .gci import GCIResult, gci
+from ..io.rundir import FIELD_FILES, resolved_case_text
+from .gci import gci, GCIResult
+from ..run import run_case
+from ..safety import CAUTIONS
+from ..view.plots import figure, save
+from ..view.report import CSS, write_report
+from .runner import SerialExecutor
+from .sweep import install_run, run_point
 
 # (name, summary section, summary key)
 QUANTITIES = (
@@ -88,7 +96,6 @@ def _corner_notes(name: str, summary: dict, result: GCIResult) -> list[str]:
 
 def _reusable(run_dir: Path, case) -> dict | None:
     """The summary of a complete earlier run of exactly this resolved case, else None."""
-    from ..io.rundir import resolved_case_text
 
     try:
         written = (run_dir / "case.toml").read_text(encoding="utf-8")
@@ -102,7 +109,6 @@ def _reusable(run_dir: Path, case) -> dict | None:
 
 def run_level(job: tuple) -> dict:
     """One level of a study (a module-level function, so that a process pool can run it)."""
-    from ..run import run_case
 
     case, run_dir = job
     return run_case(case, run_dir, report=False).summary()
@@ -115,7 +121,6 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
 
     Summaries and wall tables of every level are kept; the field files only of the finest level,
     unless ``keep_fields``."""
-    from .runner import SerialExecutor
 
     progress = progress or (lambda msg: None)
     executor = executor or SerialExecutor()
@@ -139,8 +144,6 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
             todo.append(lv)
     remote = getattr(executor, "remote", False)  # workers that may not share this filesystem: files come back
     if remote:
-        from ..io.rundir import resolved_case_text
-        from .sweep import install_run, run_point
 
         fn, jobs = run_point, [(cases[lv.level], True) for lv in todo]
     else:
@@ -181,7 +184,6 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
             if lv.level != finest:
                 for name in FIELD_FILES:
                     (lv.run_dir / name).unlink(missing_ok=True)
-    from ..view.report import write_report
 
     for lv in ok:  # reports last, so that each embeds the study's convergence plot
         error = write_report(lv.run_dir)
@@ -209,11 +211,7 @@ def write_study(study: GridStudy, out_dir: Path) -> None:
 
 def write_html(study: GridStudy, out_dir: Path) -> Path:
     """gridstudy.html: self-contained (the plot embedded), prints on A4."""
-    import base64
-    import html
 
-    from ..view.report import CSS
-    from ..safety import CAUTIONS
 
     e = html.escape
     ok = sorted([lv for lv in study.levels if lv.summary], key=lambda lv: -lv.summary["mesh"]["h_m"])
@@ -259,7 +257,6 @@ def write_html(study: GridStudy, out_dir: Path) -> Path:
 
 def plot_convergence(study: GridStudy, path: Path) -> Path:
     """Log-log plot of |phi - phi_extrapolated| / |phi_extrapolated| against h, with a slope-2 guide."""
-    from ..view.plots import figure, save
 
     fig, ax = figure(6.4, 4.6, dpi=120)
     hs_all = []

@@ -14,6 +14,8 @@ matches is reused, so a rerun after an interrupt does only what is missing.
 
 from __future__ import annotations
 
+import base64
+import html
 import csv
 import hashlib
 import io
@@ -30,9 +32,14 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Callable
 
-from ..case import Case, CaseError, case_from_dict
-from ..io.files import atomic_write_text, clean_stale_partials
+from ..case import Case, case_from_dict, CaseError, demo_case_path, load_case
+from ..io.files import atomic_write_text, check_output_dir, clean_stale_partials
 from ..io.rundir import FIELD_FILES, resolved_case_text
+from ..run import run_case
+from ..safety import CAUTIONS
+from ..view.plots import figure, save
+from ..view.report import CSS
+from .runner import executor, JobError, SerialExecutor
 
 # headline outputs of a point: (column, summary section, key)
 OUTPUTS = (
@@ -211,7 +218,6 @@ def build_points(case: Case, vary: dict[str, Any], zip_: bool = False, source: s
 def run_point(job: tuple) -> dict:
     """Run one point in a temporary directory of this worker; return the run directory's files as
     bytes (field files only with ``keep_fields``). A module-level function, sent to workers."""
-    from ..run import run_case
 
     case, keep_fields = job
     t0 = time.perf_counter()
@@ -349,7 +355,6 @@ def run_sweep(case: Case, points: list[Point], out_dir: Path, executor=None, kee
               plots: tuple[str, ...] | None = None, progress: Callable[[str], None] | None = None,
               vary: dict | None = None, zip_: bool = False) -> SweepResult:
     """Run the points not yet complete in ``out_dir`` on ``executor`` and write the results."""
-    from .runner import JobError, SerialExecutor
 
     progress = progress or (lambda msg: None)
     executor = executor or SerialExecutor()
@@ -416,7 +421,6 @@ def run_sweep(case: Case, points: list[Point], out_dir: Path, executor=None, kee
 
 
 def _write_json(out_dir: Path, case: Case, keys: list[str], rows: list[dict], status: str, vary, zip_) -> None:
-    from ..safety import CAUTIONS
 
     data = {"kind": "axibore sweep", "schema": 1, "title": case.title, "case": case.source, "keys": keys,
             "vary": {k: v for k, v in (vary or {}).items()}, "zip": zip_, "status": status,
@@ -466,7 +470,6 @@ def _given_axis(rows: list[dict], key: str) -> tuple[list[float], str] | None:
 
 def plot_sweep(result: SweepResult, out_dir: Path, outputs: tuple[str, ...]) -> list[Path]:
     """One PNG per varied key: the chosen outputs against it, a line for each value of the other keys."""
-    from ..view.plots import figure, save
 
     for old in out_dir.glob("plot_*.png"):
         old.unlink(missing_ok=True)
@@ -509,11 +512,7 @@ def plot_sweep(result: SweepResult, out_dir: Path, outputs: tuple[str, ...]) -> 
 
 def write_html(result: SweepResult, out_dir: Path, pngs: list[Path]) -> Path:
     """sweep.html: the table and the plots (embedded), self-contained."""
-    import base64
-    import html
 
-    from ..safety import CAUTIONS
-    from ..view.report import CSS
 
     e = html.escape
     shown = ("forces.wall_x_N", "forces.total_x_N", "flow.volume_flow_m3_s", "flow.mass_flow_kg_s",
@@ -545,9 +544,6 @@ def sweep(case_or_path=None, vary: dict | None = None, zip_: bool = False, worke
           scheduler: str | None = None, out=None, plot=None, keep_fields: bool = False, progress=None,
           force: bool = False) -> SweepResult:
     """The Python form of ``axibore sweep`` (see ``axibore.sweep``)."""
-    from ..case import demo_case_path, load_case
-    from ..io.files import check_output_dir
-    from .runner import executor
 
     path = None if isinstance(case_or_path, Case) else Path(case_or_path or demo_case_path())
     case = case_or_path if isinstance(case_or_path, Case) else load_case(path)

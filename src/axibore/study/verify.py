@@ -17,6 +17,11 @@ from typing import Callable
 import numpy as np
 
 from ..io.files import atomic_write_text
+from .. import fluids
+from ..case import case_from_dict
+from ..run import solve_case
+from ..verification import cone_sink, observed_order, sphere_in_stream
+from .gci import gci
 
 
 @dataclass(frozen=True)
@@ -32,7 +37,6 @@ class Row:
 
 
 def _order(h, err) -> float | None:
-    from ..verification import observed_order
 
     h, err = np.asarray(h, float), np.abs(np.asarray(err, float))
     if len(h) < 2 or np.any(err <= 0):
@@ -63,7 +67,6 @@ def _value(q, exact, computed, tol, source, relative=False):
 
 
 def celik_rows() -> list[Row]:
-    from .gci import gci
 
     h = [math.sqrt(1.0 / n) for n in (18000, 8000, 4500)]
     r = gci(h, [6.063, 5.972, 5.863])
@@ -78,7 +81,6 @@ def celik_rows() -> list[Row]:
 
 
 def cone_rows(hs) -> list[Row]:
-    from ..verification import cone_sink
 
     res = [cone_sink(h) for h in hs]
     h = [r.h for r in res]
@@ -91,7 +93,6 @@ def cone_rows(hs) -> list[Row]:
 
 
 def sphere_rows(hs) -> list[Row]:
-    from ..verification import sphere_in_stream
 
     res = [sphere_in_stream(h) for h in hs]
     h = [r.h for r in res]
@@ -106,8 +107,6 @@ def sphere_rows(hs) -> list[Row]:
 
 
 def momentum_rows(levels) -> list[Row]:
-    from ..case import case_from_dict
-    from ..run import solve_case
 
     data = {"fluid": {"kind": "water", "temperature": "15 degC"}, "inlet": {"flow_rate": "0.05 m^3/s", "pressure": "5 bar"},
             "outlet": {"kind": "pipe"},
@@ -125,7 +124,6 @@ def momentum_rows(levels) -> list[Row]:
 
 
 def water_rows() -> list[Row]:
-    from .. import fluids
 
     src5 = "IAPWS-IF97 (Wagner et al., J. Eng. Gas Turbines Power 122, 2000), Table 5"
     src35 = "IAPWS-IF97, Table 35"

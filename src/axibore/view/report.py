@@ -13,13 +13,14 @@ import html
 import math
 from pathlib import Path
 
-from .. import __version__
+from ..version import __version__
 from ..io.files import atomic_write_text
 from ..io.rundir import read_summary
-from ..describe import absolute_wall_pressure, deviation_text
+from ..describe import UNDERSTOOD, absolute_wall_pressure, deviation_text
 from ..post.joints import CAUTION as JOINT_CAUTION
 from ..safety import CAUTIONS
 from ..units import PRESSURE_UNITS
+from . import plots
 
 
 CSS = """
@@ -180,10 +181,6 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     ``shown_dir``: the directory name the report should show (a run is built in a temporary
     directory and renamed when complete).
     """
-    from ..case import load_case
-    from ..describe import describe
-    from . import plots
-
     run_dir = Path(run_dir)
     shown = Path(shown_dir) if shown_dir is not None else run_dir
     s = read_summary(run_dir)
@@ -204,10 +201,11 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     study = run_dir.parent / "convergence.png"
     if (run_dir.parent / "gridstudy.json").exists() and study.exists():
         figs["gridstudy"] = study
-    try:
-        understood = [ln.replace(str(run_dir), str(shown)) for ln in describe(load_case(run_dir / "case.toml"))]
-    except Exception as exc:
-        understood = [f"case.toml could not be read back: {exc}"]
+    understood_file = run_dir / UNDERSTOOD
+    if understood_file.exists():
+        understood = [ln.replace(str(run_dir), str(shown)) for ln in understood_file.read_text().splitlines()]
+    else:
+        understood = [f"{UNDERSTOOD} is not in this run directory (written by an earlier version): see case.toml below"]
 
     e = html.escape
     parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>axibore report: {e(s['title'])}</title>",

@@ -12,7 +12,9 @@ from pathlib import Path
 import numpy as np
 
 from ..io.files import atomic_file, read_csv
+from ..io.rundir import read_summary
 from ..io.wall_load import SEGMENTS, revolve
+from ..units import PRESSURE_UNITS
 
 FIELDS = {
     "pressure": ("p_gauge_Pa", "gauge pressure"),
@@ -34,8 +36,6 @@ class ViewOptions:
 
 def _field(grid, field: str, opts: ViewOptions) -> tuple[str, str]:
     """Name of the cell array to colour by (pressures converted to the chosen unit) and its label."""
-    from ..units import PRESSURE_UNITS
-
     name, label = FIELDS[field]
     if field == "pressure":
         shown = f"gauge pressure [{opts.unit}]"
@@ -167,8 +167,6 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
                   opts: ViewOptions = ViewOptions()) -> SceneInfo:
     """Add the 3D cut-away of a run to ``plotter``: cut planes coloured by ``field``; the wall in the
     same colour scale when the field is the pressure, else translucent grey (one colour bar)."""
-    from ..units import PRESSURE_UNITS
-
     if field not in FIELDS:
         raise ValueError(f"field must be one of {', '.join(FIELDS)}, got {field!r}")
     if not 0 < angle_deg <= 360:
@@ -291,8 +289,6 @@ def render(run_dir: str | Path, field: str = "pressure", angle_deg: float = 270.
 
     off = png is not None
     plotter = pv.Plotter(off_screen=off, window_size=list(window_size))
-    from ..io.rundir import read_summary
-
     if (read_summary(run_dir).get("geometry") or {}).get("per_unit_depth"):
         meridional = True  # a planar section is not a body of revolution: show the section itself
     info = (build_meridional(plotter, run_dir, field, opts=opts) if meridional

@@ -24,6 +24,8 @@ from dataclasses import dataclass, field, replace
 import numpy as np
 
 from ..names import Boundary
+from ..solvers import SOLVERS
+from ..solvers.walls import wall_tables
 
 CLIP_FRACTION = 0.2  # delta* applied at most this share of the local channel height
 BLEND_CELLS = 3.0  # the displacement fades to zero over this many cells from the wall (at least)
@@ -157,8 +159,6 @@ def _deltas(layer, tables) -> dict[str, tuple[np.ndarray, np.ndarray]]:
 
 
 def displacement_pass(case, profile, mesh, flow, tables, onedim, layer, progress=None) -> DisplacementResult:
-    from ..solvers.walls import wall_tables
-    from ..solvers import SOLVERS
     from .stage import discharge_coefficient, wall_layers
 
     t0 = time.perf_counter()

@@ -55,7 +55,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..fluids.viscosity import SUTHERLAND, viscosity
 from ..names import Boundary
+from ..solvers.walls import arc_length
 from . import layer as L
 
 PIPE_TRANSITION_RE = 2300.0  # pipe flow is turbulent above about this Reynolds number (common practice)
@@ -227,8 +229,6 @@ def _face_index(bv_faces: np.ndarray, faces: np.ndarray) -> np.ndarray:
 
 
 def _viscosity(case, flow) -> tuple[float, str]:
-    from ..fluids.viscosity import viscosity
-
     f = case.fluid
     p_abs = flow.inlet_pressure + case.ambient_pressure
     if f.kind == "water":
@@ -243,8 +243,6 @@ def _viscosity(case, flow) -> tuple[float, str]:
 
 
 def _gas_mu(case, T: np.ndarray) -> np.ndarray:
-    from ..fluids.viscosity import SUTHERLAND
-
     mu0, t0, s = SUTHERLAND[case.fluid.name.lower()]
     return mu0 * (T / t0) ** 1.5 * (t0 + s) / (T + s)
 
@@ -262,8 +260,6 @@ def _tangent_x(table) -> np.ndarray:
 
 def _restarts(profile, name: str, s_faces: np.ndarray) -> list[tuple[float, float, float]]:
     """(s, x, r) of the concave corners of a chain that restart the layer."""
-    from ..solvers.walls import arc_length
-
     out = []
     poly = profile.chain_points(name)
     for c in profile.corners():

@@ -10,10 +10,13 @@ registered entry point: a case in, a FlowResult out.
 
 from __future__ import annotations
 
+from dataclasses import asdict
 from typing import Annotated
 
 from pydantic import BaseModel, ConfigDict, Field
 
+from ...mesh import target_size
+from ..base import FlowError, FlowResult, SolveRecord, boundary_state
 from .driver import EulerResult, GasBoundary, coarse_meshes, make_scheme, residual_of, solve_euler
 from .gas import IdealGas, TotalInlet, conservative, hllc_flux, primitive
 from .newton import EulerRecord, EulerSettings
@@ -34,11 +37,6 @@ def settings_from_case(case) -> EulerSettings:
 
 def solve(case, profile, mesh, progress=None):
     """The compressible flow of an ideal-gas ``case`` (registered as solver kind "euler")."""
-    from dataclasses import asdict
-
-    from ...mesh import target_size
-    from ..base import FlowError, FlowResult, SolveRecord, boundary_state
-
     amb = case.ambient_pressure
     gas = IdealGas.from_fluid(case.fluid)
     inlet = TotalInlet(case.inlet.total_pressure + amb, case.inlet.total_temperature)

@@ -14,7 +14,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ...mesh import FVMesh
+from ...mesh import FVMesh, mesh_profile
 from ..ordering import nested_dissection
 from .gas import IdealGas, TotalInlet, conservative, primitive
 from .newton import EulerRecord, EulerSettings, iterate, residual_norm
@@ -128,8 +128,6 @@ def _result(scheme: Scheme, ev: Evaluation, record: EulerRecord, coarse: tuple[E
 def coarse_meshes(profile, mesh: FVMesh, h: float, cells: str, min_cells: int) -> tuple[FVMesh, ...]:
     """Meshes of ``profile`` with cells 2, 4, ... times the size ``h`` of ``mesh`` (about a quarter,
     a sixteenth, ... of its cells), down to ``min_cells``; coarsest first."""
-    from ...mesh import mesh_profile
-
     out = []
     k = 1
     while mesh.n_cells / 4**k >= min_cells:
