@@ -40,7 +40,7 @@ def test_out_never_replaces_a_users_folder_or_file(tmp_path, capsys):
     mine.mkdir()
     (mine / "notes.txt").write_text("keep me")
     rc, _, err = run_cli(["run", str(case), "--out", str(mine)], capsys)
-    assert rc == 2 and "not an earlier run" in err and (mine / "notes.txt").read_text() == "keep me"
+    assert rc == 2 and "did not write (notes.txt" in err and (mine / "notes.txt").read_text() == "keep me"
     afile = tmp_path / "afile"
     afile.write_text("data")
     rc, _, err = run_cli(["run", str(case), "--out", str(afile)], capsys)
@@ -48,11 +48,12 @@ def test_out_never_replaces_a_users_folder_or_file(tmp_path, capsys):
     rc, _, err = run_cli(["run", str(case), "--out", "."], capsys)
     assert rc == 2 and "working directory" in err
     assert not list(tmp_path.glob(".*old*")) and not list(tmp_path.glob(".*partial"))
-    # an earlier run is replaced; --force replaces a foreign folder
+    # an earlier run is replaced; --force writes beside a foreign file and keeps it
     run_dir = tmp_path / "run"
     assert run_cli(["run", str(case), "--out", str(run_dir)], capsys)[0] == 0
     assert run_cli(["run", str(case), "--out", str(run_dir)], capsys)[0] == 0
-    assert run_cli(["run", str(case), "--out", str(mine), "--force"], capsys)[0] == 0 and not (mine / "notes.txt").exists()
+    assert run_cli(["run", str(case), "--out", str(mine), "--force"], capsys)[0] == 0
+    assert (mine / "notes.txt").read_text() == "keep me" and (mine / "summary.json").exists()
     # a symlinked --out writes through the link and leaves nothing hidden behind
     link = tmp_path / "link"
     link.symlink_to(run_dir)

@@ -120,7 +120,7 @@ def _check_finite(case: Case, flow: FlowResult) -> None:
 
 
 def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, report: bool = True,
-             unit: str = "bar", max_cells: int | None = None) -> RunResult:
+             unit: str = "bar", max_cells: int | None = None, force: bool = False) -> RunResult:
     """Solve ``case`` and write its run directory; the directory appears complete or not at all.
 
     ``report``: also draw the plots and write report.html (the view stage; timed separately).
@@ -128,7 +128,7 @@ def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, 
     progress = progress or quiet
     for d in clean_stale_partials(Path(out_dir).parent):
         progress("write", f"removed {d.name}, left by an interrupted run")
-    with atomic_dir(out_dir) as tmp:
+    with atomic_dir(out_dir, "run", force) as tmp:
         res = solve_case(case, progress, msh_path=tmp / "mesh.msh", max_cells=max_cells)
         write_run(res, tmp)
         atomic_write_text(tmp / UNDERSTOOD, "\n".join(describe(case, cells=res.mesh.n_cells)) + "\n")

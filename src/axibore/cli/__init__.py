@@ -1,18 +1,21 @@
 """Command line: ``axibore run | check | mesh | gridstudy | sweep | compare | view | report | verify``.
 
 One module per command, each with ``HELP``, ``add_args(parser)`` and ``run(args) -> int``;
-``main(argv) -> int`` wires them (exit 0 ok, 2 bad input, 1 failure or not converged).
+``main(argv) -> int`` wires them. Exit codes: 0 ok; 1 ran but not converged, or a point failed;
+2 bad input or refused; 3 internal error (one line, the traceback saved to a file); 130 interrupted.
 Formatting of printed output lives in ``output.py``.
 """
 
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from importlib import import_module
 
 from ..version import __version__
 from ..case import CaseError
+from ..io.files import OutputError
 from .common import err
 
 NAMES = ("run", "check", "mesh", "gridstudy", "sweep", "compare", "view", "report", "verify")
@@ -59,3 +62,23 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         err("interrupted: nothing half-written was left behind")
         return 130
+    except OutputError as exc:
+        err(f"--out: {exc}")
+        return 2
+    except MemoryError:
+        err("out of memory: give a coarser mesh (mesh.size, --level) or a smaller --max-cells")
+        return 2
+    except OSError as exc:  # disk full, name too long, permission: the file and the reason
+        where = f"{exc.filename}: " if getattr(exc, "filename", None) else ""
+        err(f"{where}{exc.strerror or exc}")
+        return 2
+    except Exception as exc:  # a fault of axibore: one line here, the traceback in a file to send with a report
+        import tempfile
+        import traceback
+
+        fd, path = tempfile.mkstemp(prefix="axibore-traceback-", suffix=".txt")
+        with os.fdopen(fd, "w") as f:
+            f.write(" ".join(["axibore"] + list(argv if argv is not None else sys.argv[1:])) + "\n\n")
+            traceback.print_exc(file=f)
+        err(f"internal error ({type(exc).__name__}: {exc}); the traceback is in {path}")
+        return 3

@@ -9,6 +9,10 @@ from pathlib import Path
 from ..case import MAX_LEVEL, Case, CaseError, demo_case_path, load_case
 
 
+FORCE_HELP = ("write into an existing --out folder that holds files axibore did not write (or changed since): those "
+              "are kept; only the tool's own unchanged files are replaced")
+
+
 def out(text: str = "") -> None:
     print(text, flush=True)
 

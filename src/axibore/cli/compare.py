@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..safety import caution_text
-from .common import err, out, run_dir
+from .common import FORCE_HELP, err, out, run_dir
 
 HELP = "compare run directories: headline numbers side by side with differences, wall pressures overlaid"
 
@@ -13,10 +13,11 @@ HELP = "compare run directories: headline numbers side by side with differences,
 def add_args(p) -> None:
     p.add_argument("runs", nargs="+", metavar="RUN_DIR", help="two or more run directories (differences against the first)")
     p.add_argument("--out", help="folder to write compare.html and compare_wall_pressure.png into")
+    p.add_argument("--force", action="store_true", help=FORCE_HELP)
 
 
 def run(args) -> int:
-    from ..io.files import OutputError, check_output_dir
+    from ..io.files import OutputError, atomic_dir, check_output_dir
     from ..study.compare import compare_runs, write_html
 
     if len(args.runs) < 2:
@@ -26,7 +27,7 @@ def run(args) -> int:
     outdir = None
     if args.out:
         try:
-            outdir = check_output_dir(Path(args.out), force=(Path(args.out) / "compare.html").is_file())
+            outdir = check_output_dir(Path(args.out), "compare", args.force, say=out)
         except OutputError as exc:
             err(f"--out: {exc}")
             return 2
@@ -36,6 +37,7 @@ def run(args) -> int:
     out("")
     out(caution_text())
     if outdir is not None:
-        path = write_html(cmp, outdir)
-        out(f"wrote {path}")
+        with atomic_dir(outdir, "compare", args.force) as tmp:
+            write_html(cmp, tmp)
+        out(f"wrote {outdir / 'compare.html'}")
     return 0

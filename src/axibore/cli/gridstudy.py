@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..version import __version__
-from .common import add_case_arg, err, levels, load, out, stem
+from .common import FORCE_HELP, add_case_arg, err, levels, load, out, stem
 
 HELP = "grid-convergence study: the case at several mesh levels, observed order, extrapolation, GCI"
 
@@ -14,7 +14,7 @@ def add_args(p) -> None:
     add_case_arg(p)
     p.add_argument("--levels", type=levels, default=[0, 1, 2, 3], help="mesh levels, e.g. 0,1,2,3 (default)")
     p.add_argument("--out", help="study directory (default: runs/<case name>-gridstudy)")
-    p.add_argument("--force", action="store_true", help="replace an existing --out folder that is not an earlier study")
+    p.add_argument("--force", action="store_true", help=FORCE_HELP)
     p.add_argument("--workers", type=int, default=1, help="levels run side by side in this many processes (default 1; with --dask: Dask workers)")
     p.add_argument("--dask", action="store_true", help="run the levels on a local dask.distributed cluster of --workers processes")
     p.add_argument("--scheduler", default=None,
@@ -39,7 +39,7 @@ def run(args) -> int:
     from ..io.files import OutputError, check_output_dir
 
     try:
-        outdir = check_output_dir(Path(args.out) if args.out else Path("runs") / f"{stem(args)}-gridstudy", args.force)
+        outdir = check_output_dir(Path(args.out) if args.out else Path("runs") / f"{stem(args)}-gridstudy", "gridstudy", args.force)
     except OutputError as exc:
         err(f"--out: {exc}")
         return 2

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from pathlib import Path
 
-from .common import add_case_arg, level, load, out
+from .common import FORCE_HELP, add_case_arg, err, level, load, out
 from .output import mesh_lines
 
 HELP = "build the meridional mesh of a case and report its quality"
@@ -12,27 +12,36 @@ HELP = "build the meridional mesh of a case and report its quality"
 
 def add_args(p) -> None:
     add_case_arg(p)
-    p.add_argument("--out", required=True, help="directory for mesh.msh and mesh.vtu")
+    p.add_argument("--out", required=True, help="folder for mesh.msh and mesh.vtu")
     p.add_argument("--level", type=level, default=None, help="refinement level 0-12 (overrides mesh.level)")
+    p.add_argument("--max-cells", type=int, default=None,
+                   help="mesh even if it exceeds the memory-based cell limit of this machine (this many cells at most)")
+    p.add_argument("--force", action="store_true", help=FORCE_HELP)
 
 
 def run(args) -> int:
-    from ..io.files import atomic_file, write_vtu
-    from ..mesh import mesh_profile
+    from ..budget import budget, refusal
+    from ..geometry.jet import first_trial
+    from ..io.files import OutputError, atomic_dir, check_output_dir, write_vtu
+    from ..mesh import mesh_profile, target_size
 
     case = load(args)
-    outdir = Path(args.out)
-    outdir.mkdir(parents=True, exist_ok=True)
+    try:
+        outdir = check_output_dir(Path(args.out), "mesh", args.force, say=out)
+    except OutputError as exc:
+        err(f"--out: {exc}")
+        return 2
+    b = budget(case, args.max_cells, precise=False)  # the cell limit of `run`, before Gmsh is asked for anything
+    if not b.within:
+        err(f"{case.source}: {refusal(b)}")
+        return 2
     profile = case.profile
-    if case.outlet.kind == "free-jet":  # the bore with the first trial jet, as the first outer iteration meshes it
-        from ..geometry.jet import first_trial
-        from ..mesh import target_size
-
+    if case.outlet.kind == "free-jet":  # the bore with the first trial jet, as the free-jet solve meshes it
         profile = first_trial(profile, target_size(profile, case.mesh.size, case.mesh.level))
         out("free jet: the bore with the first trial jet (the run keeps this mesh and moves its nodes with the jet)")
-    with atomic_file(outdir / "mesh.msh") as tmp:
-        res = mesh_profile(profile, case.mesh.size, case.mesh.level, case.mesh.cells, msh_path=tmp)
-    write_vtu(outdir / "mesh.vtu", res.mesh, {"cell_area_m2": res.mesh.cell_area})
+    with atomic_dir(outdir, "mesh", args.force) as tmp:
+        res = mesh_profile(profile, case.mesh.size, case.mesh.level, case.mesh.cells, msh_path=tmp / "mesh.msh")
+        write_vtu(tmp / "mesh.vtu", res.mesh, {"cell_area_m2": res.mesh.cell_area})
     for line in mesh_lines(res, case.mesh.level):
         out(line)
     out(f"wrote     {outdir / 'mesh.msh'}, {outdir / 'mesh.vtu'}")

@@ -8,7 +8,7 @@ from ..version import __version__
 from ..safety import caution_text
 from ..solvers import SOLVERS
 from ..units import PRESSURE_UNITS
-from .common import add_case_arg, err, level, load, out, progress, stem
+from .common import FORCE_HELP, add_case_arg, err, level, load, out, progress, stem
 from .output import headline
 
 RECONCILIATION_LIMIT = 0.05  # a run whose wall force and momentum balance differ more is not a result
@@ -22,7 +22,7 @@ def add_args(p) -> None:
     p.add_argument("--level", type=level, default=None, help="refinement level 0-12 (overrides mesh.level)")
     p.add_argument("--max-cells", type=int, default=None,
                    help="run even if the mesh exceeds the memory-based cell limit of this machine (this many cells at most)")
-    p.add_argument("--force", action="store_true", help="replace an existing --out folder that is not an earlier run")
+    p.add_argument("--force", action="store_true", help=FORCE_HELP)
     p.add_argument("--units", choices=list(PRESSURE_UNITS), default="bar",
                    help="pressure unit of the printed numbers, the report and the plots (default bar)")
     p.add_argument("--solver", choices=list(SOLVERS), default=None,
@@ -37,13 +37,13 @@ def run(args) -> int:
 
     case = load(args)
     try:
-        outdir = check_output_dir(Path(args.out) if args.out else Path("runs") / stem(args), args.force, say=out)
+        outdir = check_output_dir(Path(args.out) if args.out else Path("runs") / stem(args), "run", args.force, say=out)
     except OutputError as exc:
         err(f"--out: {exc}")
         return 2
     out(f"axibore {__version__}: {case.title}")
     try:
-        res = run_case(case, outdir, progress, unit=args.units, max_cells=args.max_cells)
+        res = run_case(case, outdir, progress, unit=args.units, max_cells=args.max_cells, force=args.force)
     except RunRefused as exc:
         err(f"{case.source}: cannot run this case yet: {exc}")
         return 2

@@ -7,7 +7,7 @@ from pathlib import Path
 
 from ..version import __version__
 from ..safety import caution_text
-from .common import add_case_arg, err, load, out, stem
+from .common import FORCE_HELP, add_case_arg, err, load, out, stem
 
 HELP = "parameter sweep: the case over lists of values (product or zip), run on dask.distributed, resumable"
 
@@ -24,7 +24,7 @@ def add_args(p) -> None:
     p.add_argument("--scheduler", default=None,
                    help="an existing dask.distributed cluster: address tcp://HOST:PORT or a scheduler file")
     p.add_argument("--out", help="sweep directory (default: runs/<case name>-sweep)")
-    p.add_argument("--force", action="store_true", help="write into an existing --out folder that is not an earlier sweep")
+    p.add_argument("--force", action="store_true", help=FORCE_HELP)
     p.add_argument("--plot", default=None, metavar="KEYS",
                    help="outputs to plot against each varied key, comma-separated (default: forces.total_x_N,"
                         "flow.discharge_coefficient,pressure.min_wall_gauge_Pa)")
@@ -57,7 +57,7 @@ def run(args) -> int:
         return 2
     points = build_points(case, vary, zip_, source=case.source)  # CaseError: exit 2, nothing written
     try:
-        outdir = check_output_dir(Path(args.out) if args.out else Path("runs") / f"{stem(args)}-sweep", args.force)
+        outdir = check_output_dir(Path(args.out) if args.out else Path("runs") / f"{stem(args)}-sweep", "sweep", args.force)
     except OutputError as exc:
         err(f"--out: {exc}")
         return 2

@@ -13,6 +13,8 @@ from pathlib import Path
 
 import numpy as np
 
+from .ownership import OwnershipError, claim, install, read_manifest, stale_partial, write_manifest
+
 
 def atomic_write_text(path: str | Path, text: str) -> Path:
     path = Path(path)
@@ -53,46 +55,34 @@ class OutputError(ValueError):
 
 
 def is_run_directory(path: Path) -> bool:
-    """A directory axibore wrote: its summary.json names the software (or a grid study's gridstudy.json)."""
-    import json
-
-    for name, check in (("summary.json", lambda d: d.get("software", {}).get("name") == "axibore"),
-                        ("gridstudy.json", lambda d: "procedure" in d and "levels" in d),
-                        ("sweep.json", lambda d: d.get("kind") == "axibore sweep")):
-        f = path / name
-        if f.is_file():
-            try:
-                if check(json.loads(f.read_text(encoding="utf-8"))):
-                    return True
-            except (ValueError, OSError, AttributeError):
-                return False
-    # an interrupted grid study: only level-N run directories (and their error notes) so far
-    entries = [e for e in path.iterdir() if not e.name.startswith(".")] if path.is_dir() else []
-    return bool(entries) and all(e.name.startswith("level-") and (e.name.endswith(".error.txt") or is_run_directory(e))
-                                 for e in entries)
+    """A complete run folder axibore wrote (its manifest says so)."""
+    m = read_manifest(path)
+    return m is not None and m.kind == "run" and not m.partial
 
 
-def check_output_dir(path: str | Path, force: bool = False, say=None) -> Path:
-    """The real path a run directory will be written to, checked before any work starts.
+def check_output_dir(path: str | Path, kind: str = "run", force: bool = False, say=None) -> Path:
+    """The real path an output folder of ``kind`` will be written to, checked before any work starts.
 
-    Refused: an existing file; an existing directory that is neither empty nor an earlier run
-    (unless ``force``); a parent that cannot be written. A symlink is followed to its target.
+    Refused: an existing file; the working directory or one above it; a parent that cannot be
+    written; a folder the ownership rule (``io.ownership``) does not let this output replace. With
+    ``force`` the output is written beside the foreign files, which ``say`` lists. A symlink is
+    followed to its target.
     """
     path = Path(path).expanduser()
     if path.is_symlink():
         path = path.resolve()
     path = Path(os.path.abspath(path))
     if path.exists() and not path.is_dir():
-        raise OutputError(f"{path}: exists and is a file, not a run directory; give another --out")
+        raise OutputError(f"{path}: exists and is a file, not a folder; give another --out")
     if path == Path.cwd() or path in Path.cwd().parents:
         raise OutputError(f"{path}: is the working directory or one above it; give a new folder for --out")
-    if path.is_dir() and any(path.iterdir()) and not is_run_directory(path):
-        if not force:
-            raise OutputError(f"{path}: exists and is not an earlier run (no axibore summary.json): refusing to replace "
-                              "its files; give another --out, or --force to delete them and write the run there")
-        if say:
-            n = sum(1 for _ in path.rglob("*"))
-            say(f"--force: {path} is not an earlier run; its {n} files and folders will be deleted when the run completes")
+    try:
+        c = claim(path, kind, force)
+    except OwnershipError as exc:
+        raise OutputError(str(exc)) from None
+    if c.foreign and say:
+        say(f"--force: {path} holds {len(c.foreign)} files axibore did not write or that changed since; they are kept, "
+            f"and only the tool's own unchanged files are replaced")
     parent = path.parent
     while not parent.exists():
         parent = parent.parent
@@ -107,30 +97,23 @@ def check_output_dir(path: str | Path, force: bool = False, say=None) -> Path:
 
 
 def clean_stale_partials(parent: Path) -> list[Path]:
-    """Remove temporary run directories of processes that no longer run (left by a kill); returns them."""
+    """Remove temporary output folders left by killed processes of this host (``io.ownership``)."""
     removed = []
     if not parent.is_dir():
         return removed
     for d in parent.glob(".*.partial"):
-        parts = d.name.split(".")
-        pid = next((int(p[4:]) for p in parts if p.startswith("pid-") and p[4:].isdigit()), None)
-        if pid is None or pid == os.getpid():
-            continue
-        try:
-            os.kill(pid, 0)
-            continue  # still running: its work, not ours
-        except ProcessLookupError:
-            pass
-        except PermissionError:
-            continue
-        shutil.rmtree(d, ignore_errors=True)
-        removed.append(d)
+        if d.is_dir() and not d.is_symlink() and stale_partial(d):
+            shutil.rmtree(d, ignore_errors=True)
+            removed.append(d)
     return removed
 
 
 @contextmanager
-def atomic_dir(path: str | Path):
-    """Yield a temporary directory beside ``path``; on success it replaces ``path`` whole."""
+def atomic_dir(path: str | Path, kind: str = "run", force: bool = False):
+    """Yield a temporary folder beside ``path``; on success its files, with their manifest, replace
+    the output at ``path`` by the ownership rule (``io.ownership``: whole where nothing foreign is
+    there; beside the foreign files with ``force``; refused (OutputError) where foreign files
+    appeared meanwhile without it)."""
     import signal
 
     path = Path(path)
@@ -144,6 +127,7 @@ def atomic_dir(path: str | Path):
     try:
         tmp = Path(tempfile.mkdtemp(prefix=f".{path.name}.pid-{os.getpid()}.", suffix=".partial", dir=path.parent))
         os.chmod(tmp, 0o755)
+        write_manifest(tmp, kind, partial=True)  # host and pid: only this process's partial folder
         if held:
             signal.pthread_sigmask(signal.SIG_UNBLOCK, held)
             held = set()
@@ -157,13 +141,15 @@ def atomic_dir(path: str | Path):
     finally:
         if held:
             signal.pthread_sigmask(signal.SIG_UNBLOCK, held)
-    old = None
-    if path.exists():
-        old = path.with_name(f".{path.name}.old-{os.getpid()}")
-        os.replace(path, old)
-    os.replace(tmp, path)
-    if old is not None:
-        shutil.rmtree(old, ignore_errors=True)
+    try:
+        write_manifest(tmp, kind)
+        install(tmp, claim(path, kind, force))
+    except OwnershipError as exc:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise OutputError(str(exc)) from None
+    except BaseException:
+        shutil.rmtree(tmp, ignore_errors=True)
+        raise
 
 
 def write_csv(path: str | Path, columns: dict[str, np.ndarray], description: str = "") -> Path:

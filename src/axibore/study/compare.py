@@ -70,8 +70,7 @@ def plot_wall_pressure(cmp: Comparison, path: Path) -> Path:
 
 
 def write_html(cmp: Comparison, out_dir: Path) -> Path:
-
-
+    """Write compare.html and its wall-pressure picture into ``out_dir``."""
     e = html.escape
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)

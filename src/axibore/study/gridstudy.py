@@ -13,6 +13,7 @@ from pathlib import Path
 from typing import Callable
 
 from ..io.files import atomic_write_text, is_run_directory
+from ..io.ownership import record, remove_own, replaceable
 from ..io.rundir import FIELD_FILES, resolved_case_text
 from .gci import gci, GCIResult
 from ..run import run_case
@@ -96,7 +97,8 @@ def _corner_notes(name: str, summary: dict, result: GCIResult) -> list[str]:
 
 def _reusable(run_dir: Path, case) -> dict | None:
     """The summary of a complete earlier run of exactly this resolved case, else None."""
-
+    if not is_run_directory(run_dir):
+        return None
     try:
         written = (run_dir / "case.toml").read_text(encoding="utf-8")
         summary = json.loads((run_dir / "summary.json").read_text(encoding="utf-8"))
@@ -126,13 +128,13 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
     executor = executor or SerialExecutor()
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
+    record(out_dir, "gridstudy", [])  # the folder is a grid study's from its first moment
     done = [LevelResult(level, out_dir / f"level-{level}") for level in levels]
     for stale in sorted(out_dir.glob("level-*")):  # levels of an earlier study that this one does not have
-        if stale.is_dir() and stale.name not in {lv.run_dir.name for lv in done} and is_run_directory(stale):
+        if stale.is_dir() and stale.name not in {lv.run_dir.name for lv in done} and replaceable(stale, "run"):
             shutil.rmtree(stale, ignore_errors=True)
             progress(f"removed {stale.name}: a level of an earlier study that this one does not include")
-    for err_file in out_dir.glob("level-*.error.txt"):
-        err_file.unlink(missing_ok=True)
+    remove_own(out_dir, "level-*.error.txt")
     cases = {lv.level: case.with_level(lv.level) for lv in done}
     todo = []
     for lv in done:
@@ -162,6 +164,7 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
         else:  # a failed level is reported; the study goes on with the others
             lv.error = error.message
             atomic_write_text(out_dir / f"level-{lv.level}.error.txt", error.traceback)
+            record(out_dir, "gridstudy", [f"level-{lv.level}.error.txt"])
             progress(f"[{k}/{len(todo)}] level {lv.level}: FAILED ({lv.error})")
     study = GridStudy(case.title, done)
     ok = [lv for lv in done if lv.summary]
@@ -207,6 +210,7 @@ def write_study(study: GridStudy, out_dir: Path) -> None:
     if len(ok) >= 2:
         plot_convergence(study, out_dir / "convergence.png")
     write_html(study, out_dir)
+    record(out_dir, "gridstudy", ["gridstudy.json", "gridstudy.csv", "convergence.png", "gridstudy.html"])
 
 
 def write_html(study: GridStudy, out_dir: Path) -> Path:

@@ -33,7 +33,8 @@ from pathlib import Path
 from typing import Any, Callable
 
 from ..case import Case, case_from_dict, CaseError, demo_case_path, load_case
-from ..io.files import atomic_write_text, check_output_dir, clean_stale_partials
+from ..io.files import atomic_write_text, check_output_dir, clean_stale_partials, is_run_directory
+from ..io.ownership import record, remove_own, replaceable, write_manifest
 from ..io.rundir import FIELD_FILES, resolved_case_text
 from ..run import run_case
 from ..safety import CAUTIONS
@@ -231,6 +232,8 @@ def run_point(job: tuple) -> dict:
 
 def complete_summary(run_dir: Path, text: str) -> dict | None:
     """The summary of a complete run directory of exactly this resolved case, else None."""
+    if not is_run_directory(run_dir):
+        return None
     try:
         if (run_dir / "case.toml").read_text(encoding="utf-8") != text:
             return None
@@ -255,6 +258,7 @@ def install_run(run_dir: Path, files: dict[str, bytes], text: str) -> bool:
             if "/" in name or name.startswith("."):
                 continue
             (tmp / name).write_bytes(files[name])
+        write_manifest(tmp, "run")
         for _ in range(5):
             if complete_summary(run_dir, text) is not None:
                 shutil.rmtree(tmp, ignore_errors=True)
@@ -266,6 +270,9 @@ def install_run(run_dir: Path, files: dict[str, bytes], text: str) -> bool:
                 pass
             if complete_summary(run_dir, text) is not None:
                 continue
+            if not replaceable(run_dir, "run"):
+                raise OSError(f"{run_dir}: holds files axibore did not write (or changed since): not replaced; move them "
+                              "away or give the sweep another --out")
             old = parent / f".{run_dir.name}.old-{os.getpid()}-{time.monotonic_ns()}"
             try:
                 os.rename(run_dir, old)
@@ -360,6 +367,7 @@ def run_sweep(case: Case, points: list[Point], out_dir: Path, executor=None, kee
     executor = executor or SerialExecutor()
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
+    record(out_dir, "sweep", [])  # the folder is a sweep's from its first moment
     for d in clean_stale_partials(out_dir):
         progress(f"removed {d.name}, left by an interrupted sweep")
     keys = list(points[0].values) if points else []
@@ -395,13 +403,14 @@ def run_sweep(case: Case, points: list[Point], out_dir: Path, executor=None, kee
             except OSError as exc:
                 error = JobError(f"{type(exc).__name__}: {exc}", str(exc))
         if error is None:
-            err_file.unlink(missing_ok=True)
+            remove_own(out_dir, err_file.name)
             status, why = _status(summary)
             for p in group:
                 rows[p.index] = _row(p, summary, status, why, out_dir / name, result["seconds"], False)
             done += 1
         else:
             atomic_write_text(err_file, f"{group[0].label()}\n{error.message}\n\n{error.traceback}")
+            record(out_dir, "sweep", [err_file])
             for p in group:
                 rows[p.index] = _row(p, None, "failed", error.message, out_dir / name, None, False)
             failed += 1
@@ -426,6 +435,7 @@ def _write_json(out_dir: Path, case: Case, keys: list[str], rows: list[dict], st
             "vary": {k: v for k, v in (vary or {}).items()}, "zip": zip_, "status": status,
             "outputs": list(OUTPUT_NAMES), "points": rows, "cautions": list(CAUTIONS)}
     atomic_write_text(out_dir / "sweep.json", json.dumps(data, indent=2, default=str) + "\n")
+    record(out_dir, "sweep", ["sweep.json"])
 
 
 def write_results(result: SweepResult, case: Case, out_dir: Path, plots: tuple[str, ...] | None = None,
@@ -440,7 +450,8 @@ def write_results(result: SweepResult, case: Case, out_dir: Path, plots: tuple[s
     atomic_write_text(out_dir / "sweep.csv", buf.getvalue())
     _write_json(out_dir, case, result.keys, result.rows, "complete" if result.ok else "some points failed", vary, zip_)
     pngs = plot_sweep(result, out_dir, plots or DEFAULT_PLOTS)
-    write_html(result, out_dir, pngs)
+    html_path = write_html(result, out_dir, pngs)
+    record(out_dir, "sweep", ["sweep.csv", html_path, *pngs])
 
 
 def _numeric(v) -> bool:
@@ -471,8 +482,7 @@ def _given_axis(rows: list[dict], key: str) -> tuple[list[float], str] | None:
 def plot_sweep(result: SweepResult, out_dir: Path, outputs: tuple[str, ...]) -> list[Path]:
     """One PNG per varied key: the chosen outputs against it, a line for each value of the other keys."""
 
-    for old in out_dir.glob("plot_*.png"):
-        old.unlink(missing_ok=True)
+    remove_own(out_dir, "plot_*.png")  # the earlier pass's plots (a user's file of that name is kept)
     paths = []
     rows = [r for r in result.rows if r["status"] == "ok"]
     outputs = tuple(o for o in outputs if any(_numeric(r.get(o)) for r in rows))
@@ -551,7 +561,7 @@ def sweep(case_or_path=None, vary: dict | None = None, zip_: bool = False, worke
         vary, zip_ = sweep_from_case(case)
     points = build_points(case, vary, zip_, source=case.source)
     stem = path.stem if path is not None else "case"
-    out_dir = check_output_dir(Path(out) if out is not None else Path("runs") / f"{stem}-sweep", force)
+    out_dir = check_output_dir(Path(out) if out is not None else Path("runs") / f"{stem}-sweep", "sweep", force)
     workers = max(1, os.cpu_count() or 1) if workers is None else workers
     plots = tuple(plot.split(",")) if isinstance(plot, str) else (tuple(plot) if plot else None)
     with executor(max(workers, 1), scheduler=scheduler, dask=workers > 0) as ex:

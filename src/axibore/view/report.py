@@ -15,6 +15,7 @@ from pathlib import Path
 
 from ..version import __version__
 from ..io.files import atomic_write_text
+from ..io.ownership import read_manifest, record
 from ..io.rundir import read_summary
 from ..describe import UNDERSTOOD, absolute_wall_pressure, deviation_text
 from ..post.joints import CAUTION as JOINT_CAUTION
@@ -277,7 +278,11 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
                  "<li>gauge pressure is relative to the ambient pressure outside the part</li></ul>")
     parts.append(f"<p class='meta'>axibore {e(__version__)}</p>")
     parts.append("</body></html>")
-    return atomic_write_text(run_dir / "report.html", "\n".join(parts))
+    path = atomic_write_text(run_dir / "report.html", "\n".join(parts))
+    written = [path] + [Path(f) for f in figs.values() if Path(f).parent == run_dir]
+    if read_manifest(run_dir) is not None:  # the run's folder: these files are the tool's
+        record(run_dir, "run", written)
+    return path
 
 
 def write_report(run_dir: Path, shown_dir: Path | None = None, unit: str = "bar") -> str | None:
@@ -289,4 +294,6 @@ def write_report(run_dir: Path, shown_dir: Path | None = None, unit: str = "bar"
         why = f"{type(exc).__name__}: {exc}"
         atomic_write_text(Path(run_dir) / "report_error.txt", f"report.html was not built: {why}\n"
                           "rebuild it with `axibore report RUN_DIR`\n")
+        if read_manifest(run_dir) is not None:
+            record(run_dir, "run", ["report_error.txt"])
         return why

@@ -1,0 +1,159 @@
+"""The ownership rule of output folders (io.ownership): the tool replaces only what it wrote.
+
+Each test is one way a user's file was lost before the manifest existed (issue 23)."""
+
+from __future__ import annotations
+
+import json
+import os
+import socket
+from pathlib import Path
+
+import pytest
+
+from axibore.cli import main
+from axibore.io.ownership import MANIFEST, Manifest, claim, OwnershipError, read_manifest
+
+CASES = Path(__file__).parents[1] / "cases"
+SMALL = {"mesh.size": 0.3}
+
+
+def small_case(tmp_path: Path) -> Path:
+    text = (CASES / "water_main_reducer.toml").read_text() + "\n[mesh]\nsize = 0.3\n"
+    path = tmp_path / "reducer.toml"
+    path.write_text(text)
+    return path
+
+
+def cli(argv, capsys):
+    rc = main([str(a) for a in argv])
+    cap = capsys.readouterr()
+    assert "Traceback" not in cap.err, cap.err
+    return rc, cap.out, cap.err
+
+
+@pytest.fixture(scope="module")
+def earlier_run(tmp_path_factory):
+    """A complete run folder of the small reducer (written once for the module; tests copy it)."""
+    base = tmp_path_factory.mktemp("earlier")
+    case = small_case(base)
+    assert main(["run", str(case), "--out", str(base / "run")]) == 0
+    return base / "run", case
+
+
+def copy_run(src: Path, dst: Path) -> Path:
+    import shutil
+
+    shutil.copytree(src, dst)
+    return dst
+
+
+def test_a_run_writes_a_manifest_of_every_file(earlier_run):
+    run_dir, _ = earlier_run
+    m = read_manifest(run_dir)
+    assert m.kind == "run" and not m.partial
+    on_disk = {p.relative_to(run_dir).as_posix() for p in run_dir.rglob("*") if p.is_file() and p.name != MANIFEST}
+    assert set(m.files) == on_disk and {"summary.json", "case.toml", "report.html"} <= on_disk
+
+
+def test_rerun_keeps_what_the_user_added(earlier_run, tmp_path, capsys):
+    run_dir = copy_run(earlier_run[0], tmp_path / "run")
+    (run_dir / "notes.txt").write_text("my notes")
+    (run_dir / "fea").mkdir()
+    (run_dir / "fea" / "model.inp").write_text("*NODE")
+    rc, _, err = cli(["run", earlier_run[1], "--out", run_dir], capsys)
+    assert rc == 2 and "notes.txt" in err and "fea/model.inp" in err
+    # --force writes beside them and keeps them
+    rc, out, _ = cli(["run", earlier_run[1], "--out", run_dir, "--force"], capsys)
+    assert rc == 0 and "kept" in out
+    assert (run_dir / "notes.txt").read_text() == "my notes" and (run_dir / "fea" / "model.inp").read_text() == "*NODE"
+    assert json.loads((run_dir / "summary.json").read_text())["software"]["name"] == "axibore"
+    # and they stay foreign for the next run
+    assert cli(["run", earlier_run[1], "--out", run_dir], capsys)[0] == 2
+
+
+def test_a_changed_file_is_no_longer_the_tools(earlier_run, tmp_path, capsys):
+    run_dir = copy_run(earlier_run[0], tmp_path / "run")
+    (run_dir / "case.toml").write_text((run_dir / "case.toml").read_text() + "\n# my edit\n")
+    rc, _, err = cli(["run", earlier_run[1], "--out", run_dir], capsys)
+    assert rc == 2 and "case.toml" in err and "# my edit" in (run_dir / "case.toml").read_text()
+
+
+def test_a_copied_summary_does_not_make_a_folder_a_run(earlier_run, tmp_path, capsys):
+    mine = tmp_path / "mine"
+    mine.mkdir()
+    (mine / "summary.json").write_bytes((earlier_run[0] / "summary.json").read_bytes())
+    (mine / "drawing.pdf").write_bytes(b"%PDF")
+    rc, _, err = cli(["run", earlier_run[1], "--out", mine], capsys)
+    assert rc == 2 and (mine / "drawing.pdf").exists() and (mine / "summary.json").exists()
+
+
+def test_a_run_never_replaces_a_sweep_folder(earlier_run, tmp_path, capsys):
+    from axibore.io.ownership import record
+
+    sweep_dir = tmp_path / "sw"
+    sweep_dir.mkdir()
+    (sweep_dir / "sweep.csv").write_text("a,b\n")
+    record(sweep_dir, "sweep", ["sweep.csv"])
+    rc, _, err = cli(["run", earlier_run[1], "--out", sweep_dir, "--force"], capsys)
+    assert rc == 2 and "sweep output" in err and (sweep_dir / "sweep.csv").exists()
+
+
+def test_mesh_keeps_a_users_mesh_and_obeys_the_cell_limit(earlier_run, tmp_path, capsys):
+    mine = tmp_path / "meshes"
+    mine.mkdir()
+    (mine / "mesh.msh").write_text("my own mesh")
+    rc, _, err = cli(["mesh", earlier_run[1], "--out", mine], capsys)
+    assert rc == 2 and "mesh.msh" in err and (mine / "mesh.msh").read_text() == "my own mesh"
+    rc, _, err = cli(["mesh", earlier_run[1], "--out", mine, "--force"], capsys)  # same name: never replaced
+    assert rc == 2 and "even with --force" in err and (mine / "mesh.msh").read_text() == "my own mesh"
+    fresh = tmp_path / "fresh"
+    assert cli(["mesh", earlier_run[1], "--out", fresh], capsys)[0] == 0 and read_manifest(fresh).kind == "mesh"
+    assert cli(["mesh", earlier_run[1], "--out", fresh], capsys)[0] == 0  # its own mesh is replaced
+    huge = tmp_path / "huge.toml"
+    huge.write_text(earlier_run[1].read_text().replace("size = 0.3", "size = 1e-9"))
+    rc, _, err = cli(["mesh", huge, "--out", tmp_path / "big"], capsys)
+    assert rc == 2 and "--max-cells" in err and not (tmp_path / "big").exists()
+
+
+def test_compare_does_not_overwrite_a_foreign_page(earlier_run, tmp_path, capsys):
+    out = tmp_path / "cmp"
+    out.mkdir()
+    (out / "compare.html").write_text("<p>mine</p>")
+    run = earlier_run[0]
+    rc, _, err = cli(["compare", run, run, "--out", out], capsys)
+    assert rc == 2 and (out / "compare.html").read_text() == "<p>mine</p>"
+    rc, _, err = cli(["compare", run, run, "--out", tmp_path / "cmp2"], capsys)
+    assert rc == 0 and read_manifest(tmp_path / "cmp2").kind == "compare"
+
+
+def test_stale_partials_only_of_this_host_and_a_dead_process(tmp_path):
+    from axibore.io.files import clean_stale_partials
+    from axibore.io.ownership import _save
+
+    def partial(name, host, pid, manifest=True):
+        d = tmp_path / name
+        d.mkdir()
+        (d / "summary.json").write_text("{}")
+        if manifest:
+            _save(d, Manifest("run", host=host, pid=pid, partial=True))
+        return d
+
+    dead = 2**22 + 12345  # above the default pid_max of Linux (4194304 = 2^22): no such process
+    mine_dead = partial(".run.pid-1.x.partial", socket.gethostname(), dead)
+    other_host = partial(".run.pid-2.x.partial", "another-host", dead)
+    alive = partial(".run.pid-3.x.partial", socket.gethostname(), os.getppid())
+    users = partial(f".notes.pid-{dead}.partial", "", 0, manifest=False)  # a user's folder with such a name
+    removed = clean_stale_partials(tmp_path)
+    assert removed == [mine_dead]
+    assert other_host.exists() and alive.exists() and users.exists()
+
+
+def test_claim_names_the_foreign_files(tmp_path):
+    d = tmp_path / "x"
+    d.mkdir()
+    (d / "a.txt").write_text("1")
+    with pytest.raises(OwnershipError, match="a.txt"):
+        claim(d, "run")
+    c = claim(d, "run", force=True)
+    assert [p.name for p in c.foreign] == ["a.txt"] and not c.own
