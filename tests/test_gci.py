@@ -96,16 +96,16 @@ def test_gridstudy_sharp_corner_flagged(tmp_path):
 
 
 def test_gridstudy_failed_level_reported(tmp_path, monkeypatch):
-    import axibore.run as run_mod
+    import axibore.study.gridstudy as study_mod
 
-    real = run_mod.run_case
+    real = study_mod.run_case
 
     def flaky(case, out, progress=None, report=True):
         if case.mesh.level == 1:
             raise RuntimeError("mesher crashed")
         return real(case, out, progress, report=report)
 
-    monkeypatch.setattr(run_mod, "run_case", flaky)
+    monkeypatch.setattr(study_mod, "run_case", flaky)
     case = load_case(CASES / "water_main_reducer.toml")
     study = run_grid_study(case, [0, 1, 2], tmp_path)
     data = json.loads((tmp_path / "gridstudy.json").read_text())

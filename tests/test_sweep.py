@@ -14,6 +14,7 @@ import pytest
 
 from axibore.case import CaseError, load_case
 from axibore.cli import main
+from axibore.io.ownership import MANIFEST, record
 from axibore.run import solve_case
 
 ROOT = Path(__file__).parents[1]
@@ -83,7 +84,7 @@ def test_refuses_a_foreign_folder(tmp_path, capsys):
     foreign.mkdir()
     (foreign / "notes.txt").write_text("keep me")
     code = main(["sweep", str(REDUCER), "--vary", "mesh.size=0.3", "--workers", "0", "--out", str(foreign)])
-    assert code == 2 and "not an earlier run" in capsys.readouterr().err
+    assert code == 2 and "did not write (notes.txt" in capsys.readouterr().err
     assert [p.name for p in foreign.iterdir()] == ["notes.txt"]
 
 
@@ -147,7 +148,7 @@ def test_two_sweeps_sharing_points(tmp_path):
     assert a.returncode == 0 and b.returncode == 0, outs
     dirs = complete_dirs(out)
     assert len(dirs) == 4
-    assert not [p for p in out.iterdir() if p.name.startswith(".")]  # no partial or old folders left
+    assert not [p for p in out.iterdir() if p.name.startswith(".") and p.name != MANIFEST]  # no partial or old folders
     for d in dirs:
         case = load_case(d / "case.toml")
         ref = solve_case(case).summary()
@@ -172,7 +173,7 @@ def test_concurrent_install_never_shows_half_a_directory(tmp_path):
         while not stop.is_set():
             target = current["target"]
             if target.is_dir():
-                seen.append({p.name for p in target.iterdir()} == set(files))
+                seen.append({p.name for p in target.iterdir()} == set(files) | {MANIFEST})
 
     t = threading.Thread(target=reader)
     t.start()
@@ -195,11 +196,19 @@ def test_concurrent_install_never_shows_half_a_directory(tmp_path):
     assert seen and all(seen)
     assert sum(installed) == rounds  # one writer per point; the others found it complete and dropped theirs
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")]
-    # a stale directory (another case, half written) is replaced whole
+    # a stale point of the tool's (another case) is replaced whole; a folder with a file the tool did not
+    # write is not touched
     stale = tmp_path / "stale"
     stale.mkdir()
     (stale / "case.toml").write_text("# another case\n")
-    assert install_run(stale, files, text) and {p.name for p in stale.iterdir()} == set(files)
+    record(stale, "run", ["case.toml"])
+    assert install_run(stale, files, text) and {p.name for p in stale.iterdir()} == set(files) | {MANIFEST}
+    foreign = tmp_path / "foreign"
+    foreign.mkdir()
+    (foreign / "notes.txt").write_text("mine")
+    with pytest.raises(OSError, match="did not write"):
+        install_run(foreign, files, text)
+    assert [p.name for p in foreign.iterdir()] == ["notes.txt"]
 
 
 def test_compare_two_runs(tmp_path, capsys):
