@@ -80,6 +80,13 @@ def test_a_run_that_does_not_converge_says_so(tmp_path, capsys):
     assert "not converged" in s["solver"]["criterion"]
     assert "NOT CONVERGED" in capsys.readouterr().out
     assert any("did not converge" in w for w in s["warnings"])
+    # no figure of merit from an iterate: the discharge coefficient is withheld, and the page says so
+    assert s["flow"]["discharge_coefficient"] is None and "flow.discharge_coefficient" in s["solver"]["withheld"]
+    assert "Not a result" in (out / "report.html").read_text()
+    # a grid study over such levels leaves them out and exits 1
+    assert main(["gridstudy", str(path), "--levels", "0,1", "--out", str(tmp_path / "study")]) == 1
+    study = json.loads((tmp_path / "study" / "gridstudy.json").read_text())
+    assert [lv["ok"] for lv in study["levels"]] == [False, False] and "not converged" in study["levels"][0]["error"]
 
 
 def test_air_demo_case_is_accepted():
@@ -107,3 +114,23 @@ def test_a_total_pressure_not_above_the_back_pressure_is_refused(tmp_path, capsy
     path.write_text(text)
     assert main(["run", str(path), "--out", str(tmp_path / "run")]) == 2
     assert "inlet.total_pressure" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("line, key, words", [
+    ('total_temperature = "1e30 K"', "inlet.total_temperature", "expected 50 to 3000 K"),
+    ('total_temperature = "10 K"', "inlet.total_temperature", "expected 50 to 3000 K"),
+    ('total_pressure = "0 bar"', "inlet.total_pressure", "more than the back pressure"),
+    ('total_pressure = "5000 bar"', "inlet.total_pressure", "at most 1000 bar absolute"),
+])
+def test_absurd_gas_inlet_is_refused_by_check(tmp_path, capsys, line, key, words):
+    import re
+
+    name = line.split(" =")[0]
+    text = re.sub(rf"^{name} = .*$", line, (CASES / "air_test_nozzle_cd.toml").read_text(), flags=re.M)
+    path = tmp_path / "gas.toml"
+    path.write_text(text)
+    for command in ("check", "run"):
+        assert main([command, str(path), "--out", str(tmp_path / "r")] if command == "run" else [command, str(path)]) == 2
+        err = capsys.readouterr().err
+        assert f"gas.toml: {key}:" in err and words in err, err
+    assert not (tmp_path / "r").exists()

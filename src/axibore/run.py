@@ -105,7 +105,7 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
         viscous = viscous_stage(case, profile, build.mesh, flow, tables, od, progress, build)
         chk.warnings.extend(viscous.warnings)
         sec["viscous"] = time.perf_counter() - t
-    jt = jet_table(flow, profile) if solved.jet is not None else None
+    jt = jet_table(flow, profile, solved.jet.lip_faces) if solved.jet is not None else None
     return RunResult(case, profile, build.mesh, build, flow, tables, frc, od, chk, sec, build.mesh.quality(),
                      joint_loads(case, profile, flow, tables), jet_reaction(case, flow), viscous, solved.jet,
                      solved.comparison, jt)

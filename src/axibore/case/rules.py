@@ -10,6 +10,12 @@ from ..solvers import SOLVERS
 from .schema import OPERATING_POINTS, CaseModel
 
 
+# total temperature and absolute total pressure of an ideal-gas case: beyond these a calorically perfect
+# ideal gas is not a model of the gas (liquefaction below, dissociation and real-gas effects above)
+GAS_T_RANGE = (50.0, 3000.0)  # K
+GAS_P_MAX = 1.0e8  # Pa absolute (1000 bar)
+
+
 def cross_checks(m: CaseModel) -> list[tuple[str, str]]:
     problems = []
     f = m.fluid
@@ -49,6 +55,19 @@ def cross_checks(m: CaseModel) -> list[tuple[str, str]]:
         for key in ("pressure", "flow_rate"):
             if getattr(i, key) is not None:
                 problems.append((f"inlet.{key}", "not used for an ideal-gas case (give total_pressure and total_temperature)"))
+        T0 = i.total_temperature
+        if T0 is not None and not GAS_T_RANGE[0] <= T0 <= GAS_T_RANGE[1]:
+            problems.append(("inlet.total_temperature", f"expected {GAS_T_RANGE[0]:g} to {GAS_T_RANGE[1]:g} K (an ideal gas of "
+                             f"constant gamma; common practice), got {T0:.6g} K"))
+        if i.total_pressure is not None:
+            back = o.pressure if o.pressure is not None else 0.0
+            if not i.total_pressure > back:
+                problems.append(("inlet.total_pressure", f"expected more than the back pressure ({back:.6g} Pa gauge, "
+                                 f"outlet.pressure) so that the gas flows in +x, got {i.total_pressure:.6g} Pa gauge"))
+            elif i.total_pressure + o.ambient_pressure > GAS_P_MAX:
+                problems.append(("inlet.total_pressure", f"expected at most {GAS_P_MAX / 1e5:g} bar absolute (the ideal-gas "
+                                 f"law; real-gas effects dominate above; common practice), got "
+                                 f"{(i.total_pressure + o.ambient_pressure) / 1e5:.6g} bar absolute"))
     else:
         for key in ("total_pressure", "total_temperature"):
             if getattr(i, key) is not None:

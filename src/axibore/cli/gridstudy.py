@@ -52,4 +52,7 @@ def run(args) -> int:
     out("")
     out("GCI: Celik et al. 2008, J. Fluids Eng. 130(7) 078001; safety factor 1.25 (three or more grids), 3 (two).")
     out(f"wrote {outdir}/ (gridstudy.html, gridstudy.json, gridstudy.csv, convergence.png, level-N/ run directories)")
-    return 0 if any(lv.summary for lv in study.levels) else 1
+    bad = [lv for lv in study.levels if lv.error]
+    for lv in bad:
+        err(f"level {lv.level}: {lv.error}")
+    return 1 if bad else 0

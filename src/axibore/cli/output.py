@@ -75,6 +75,8 @@ def headline(summary: dict, unit: str = "bar") -> list[str]:
     if not sv["converged"]:
         solve += "  NOT CONVERGED"
     rows.append(("mesh / solve", solve))
+    if sv.get("result_note"):
+        rows.insert(0, ("NOT A RESULT", sv["result_note"]))
     if (summary.get("geometry") or {}).get("per_unit_depth"):
         rows.insert(0, ("planar section", "flows, areas and forces are per metre of depth, for the half above the symmetry plane"))
     return table(rows)

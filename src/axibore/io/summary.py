@@ -36,7 +36,8 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("solver", "free_jet_settled", lambda r: r.jet.settled if r.jet else None),
     ("solver", "free_jet_speed_mismatch_max", lambda r: r.jet_table.mismatch()[0] if r.jet_table else None),
     ("solver", "free_jet_speed_mismatch_rms", lambda r: r.jet_table.mismatch()[1] if r.jet_table else None),
-    ("solver", "free_jet_lip_speed_mismatch", lambda r: float(r.jet_table.speed_mismatch[0]) if r.jet_table else None),
+    ("solver", "free_jet_lip_speed_mismatch", lambda r: max(abs(float(m)) for m in r.jet_table.speed_mismatch[:r.jet_table.lip_faces])
+     if r.jet_table else None),
     ("solver", "free_jet_residual", lambda r: r.jet.residual if r.jet else None),
     ("solver", "free_jet_tolerance", lambda r: r.jet.tolerance if r.jet else None),
     ("solver", "free_jet_condition", lambda r: r.jet.condition if r.jet else None),
@@ -116,7 +117,8 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
 FREE_JET_RULE = ("free streamline on one mesh whose nodes move with the jet: the jet a streamline, phi + V (s_end - s) = 0 "
                  "at every jet face centre (speed V along it), the jet speed V unknown (or, where the walls at the lip "
                  "have no axial projection, from the axial momentum balance), solved by Levenberg-Marquardt steps on "
-                 "the transpiration Jacobian to free_jet_tolerance of V r_lip; the lip face is reported apart "
+                 "the transpiration Jacobian to free_jet_tolerance of V r_lip; the elements within one cell size of the "
+                 "lip follow the free streamline's l^1/2 law and their faces are reported apart "
                  "(free_jet_lip_speed_mismatch); the reported flow is solved on the settled jet")
 
 NOTES = (
@@ -182,7 +184,27 @@ def build_summary(res) -> dict:
     out["cautions"] = list(CAUTIONS) + ([JOINT_CAUTION] if res.joints else []) + \
         ([VISCOUS_CAUTION] if getattr(res, "viscous", None) is not None else [])
     out["notes"] = list(NOTES)
+    if not res.flow.record.converged:
+        withhold_unconverged(out)
     return finite(out)
+
+
+# figures of merit a reader would take from an unconverged iterate as a result: withheld (null), the
+# forces and pressures kept for diagnosis beside the loud "converged": false
+WITHHELD = (("flow", "discharge_coefficient"), ("flow", "contraction_coefficient"), ("onedim", "force_dev_rel"))
+
+
+def withhold_unconverged(out: dict) -> None:
+    withheld = []
+    for section, key in WITHHELD:
+        if out.get(section, {}).get(key) is not None:
+            out[section][key] = None
+            withheld.append(f"{section}.{key}")
+    if "flow.discharge_coefficient" in withheld:
+        out["flow"]["discharge_coefficient_note"] = "withheld: the solution did not converge"
+    out["solver"]["withheld"] = withheld
+    out["solver"]["result_note"] = ("NOT CONVERGED: the numbers are those of the last iterate, not a solution; "
+                                    f"withheld: {', '.join(withheld) or 'none'}")
 
 
 def dumps(summary: dict) -> str:

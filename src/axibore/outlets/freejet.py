@@ -93,6 +93,7 @@ class JetSolution:
     tolerance: float
     cells: int
     seconds: float
+    lip_faces: int = 1  # the faces of the elements tied to the l^1/2 law at the lip (not enforced one by one)
 
     @property
     def contraction_coefficient(self) -> float:
@@ -165,21 +166,22 @@ class _JetProblem:
         self.mover = NodeMover(mesh0, np.r_[self.jet_nodes, self.outlet_nodes])
         self.service = service_cls(mesh0, self.jet_faces)
         self.momentum = momentum_condition(profile)
-        n = shape.n
-        # the first element's direction is tied to the second's by the free streamline's l^1/2 law at a
-        # sharp lip (it leaves tangent to the wall); the lip face is reported apart
-        tie = shape.lip_tie()
-        self.B = np.zeros((n, n - 1))  # theta = b0 + B u, u = theta_1 .. theta_n-1
-        self.B[1:, :] = np.eye(n - 1)
-        self.B[0, 0] = tie
+        self.condition = "momentum" if self.momentum else "local"
+        self.global_speed = self.momentum  # V from the balance, not an unknown
+        n, m = shape.n, shape.tied
+        # the first m elements follow the free streamline's l^1/2 law at a sharp lip (it leaves tangent
+        # to the wall), tied to element m; their faces, inside the lip's singular flow, are reported apart
+        tie = shape.lip_ties()
+        self.B = np.zeros((n, n - m))  # theta = b0 + B u, u = theta_m .. theta_n-1
+        self.B[m:, :] = np.eye(n - m)
+        self.B[:m, 0] = tie
         self.b0 = np.zeros(n)
-        self.b0[0] = shape.lip_direction * (1.0 - tie)
-        self.rows = np.arange(1, n) if self.momentum else np.arange(1, n + 1)
+        self.b0[:m] = shape.lip_direction * (1.0 - tie)
+        self.rows = np.arange(m, n) if self.global_speed else np.arange(m, n + 1)
         self.mesh0 = mesh0
 
-    @staticmethod
-    def unknowns(theta: np.ndarray) -> np.ndarray:
-        return theta[1:].copy()
+    def unknowns(self, theta: np.ndarray) -> np.ndarray:
+        return theta[self.shape.tied:].copy()
 
     def theta(self, u: np.ndarray) -> np.ndarray:
         return self.b0 + self.B @ u
@@ -236,18 +238,19 @@ class _JetProblem:
         dvalue, dm0 = self.service.response(field, g.T)
         d_end = dP[:, n, 0]  # the last element's end moves in x: the tail (and the arc length to the end) changes
         J = dvalue + q[:, None] * along.T - V * d_end[None, :]
+        dA_out = (1.0 if mesh.planar else P[-1, 1]) * dP[:, n + 1, 1]  # the outlet plane's area (per radian)
         if self.momentum:
-            dA_out = (1.0 if mesh.planar else P[-1, 1]) * dP[:, n + 1, 1]
             dV = -(dm0 + V * V * dA_out) / (2.0 * V * field.momentum2)
             J = J + rem[:, None] * dV[None, :]
+
         Ju = (J @ self.B)[self.rows]
         for j in range(min(FD_COLUMNS, Ju.shape[1])):  # near the lip: differences
             e = np.zeros_like(st["u"])
             e[j] = FD_STEP
-            other = self.evaluate(st["u"] + e, None if self.momentum else V)
+            other = self.evaluate(st["u"] + e, None if self.global_speed else V)
             if other is not None:
                 Ju[:, j] = (other["residual"] - st["residual"]) / FD_STEP
-        return Ju if self.momentum else np.column_stack([Ju, rem[self.rows]])
+        return Ju if self.global_speed else np.column_stack([Ju, rem[self.rows]])
 
 
 class FreeJetOutlet:
@@ -285,8 +288,8 @@ class FreeJetOutlet:
         if msh_path is not None:
             write_msh(mesh, msh_path)
         sol = JetSolution(st["P"], tuple(history), settled, shape.lip, exit_area(profile),
-                          far_area(profile, float(st["P"][-1, 1])), "momentum" if jp.momentum else "local",
-                          residual, tol, mesh.n_cells, time.perf_counter() - t_start)
+                          far_area(profile, float(st["P"][-1, 1])), jp.condition,
+                          residual, tol, mesh.n_cells, time.perf_counter() - t_start, shape.tied)
         build = replace(jp.build, mesh=mesh, method=jp.build.method + ", nodes moved with the jet")
         comparison = None
         if case.outlet.compare_exit_plane:
@@ -344,7 +347,7 @@ def _lm_step(jp: _JetProblem, st: dict, J: np.ndarray, lam: float):
     norm = float(np.linalg.norm(JtJ, 2))
     while lam <= LM_MAX * norm:
         step = np.linalg.solve(JtJ + lam * np.diag(np.diag(JtJ)), rhs)
-        du, V = (step, None) if jp.momentum else (step[:-1], st["V"] + step[-1])
+        du, V = (step, None) if jp.global_speed else (step[:-1], st["V"] + step[-1])
         new = jp.evaluate(st["u"] + du, V)
         if new is not None and float(np.linalg.norm(new["residual"])) < base:
             return new, step, max(lam / LM_DOWN, 1e-12 * norm)

@@ -158,7 +158,11 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
         if remote and error is None:
             install_run(lv.run_dir, summary["files"], resolved_case_text(cases[lv.level]))
             summary = json.loads(summary["files"]["summary.json"])
-        if error is None:
+        if error is None and not summary["solver"]["converged"]:  # kept for diagnosis, left out of the GCI
+            lv.error = (f"not converged (residual {summary['solver']['residual']:.2e}; "
+                        f"{summary['solver'].get('criterion', '')}): left out of the study")
+            progress(f"[{k}/{len(todo)}] level {lv.level}: NOT CONVERGED, left out of the study")
+        elif error is None:
             lv.summary = summary
             progress(f"[{k}/{len(todo)}] level {lv.level}: {summary['mesh']['cells']:,} cells, {lv.seconds:.1f} s")
         else:  # a failed level is reported; the study goes on with the others

@@ -212,6 +212,8 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>axibore report: {e(s['title'])}</title>",
              f"<style>{CSS}</style></head><body>"]
     parts.append(f"<h1>{e(s['title'])}</h1>")
+    if s["solver"].get("result_note"):
+        parts.append(f"<div class='caution'><strong>Not a result.</strong> {e(s['solver']['result_note'])}</div>")
     parts.append(f"<p class='meta'>axibore {e(s.get('software', {}).get('version', __version__))} · report built "
                  f"{dt.datetime.now().strftime('%Y-%m-%d %H:%M')} · run directory {e(str(shown))} · solver {e(s['solver']['kind'])}</p>")
     parts.append("<div class='caution'><strong>Caution.</strong> " + " ".join(e(c) for c in CAUTIONS) + "</div>")
