@@ -209,3 +209,60 @@ def test_no_import_cycles():
         if node not in state:
             visit(node, [node])
     assert not cycles, "import cycles:\n" + "\n".join(cycles)
+
+
+# ---- a solver is one module and one register call -----------------------------------------------
+def stub_solve(case, profile, mesh, progress=None):
+    """A registered solver for the test: the potential solver's flow, tagged, scaled by the stub's own
+    [solver] key ``scale`` (so the test can see that the key reached it)."""
+    from dataclasses import replace
+
+    from axibore.solvers.potential import solve
+
+    res = solve(case, profile, mesh, progress)
+    return replace(res, solver="stub", record=replace(res.record, solver="stub"),
+                   pressure=res.pressure * case.solver_settings.scale)
+
+
+def test_a_registered_solver_runs_end_to_end(tmp_path, capsys):
+    from pydantic import BaseModel, ConfigDict, Field
+
+    from axibore.budget import bytes_per_cell
+    from axibore.case import CaseError
+    from axibore.cli import main
+    from axibore.solvers import SOLVERS, register, unregister
+
+    class Settings(BaseModel):
+        model_config = ConfigDict(extra="forbid")
+        kind: str = "stub"
+        scale: float = Field(1.0, gt=0)
+
+    register("stub", f"{__name__}:stub_solve", ("liquid",), "a test solver", outlets=("pipe", "exit-plane"),
+             bytes_per_cell=1234.0, settings=Settings)
+    try:
+        base = load_case(CASES / "water_main_reducer.toml").with_updates({"mesh.size": 0.3})
+        ref = solve_case(base)
+        case = base.with_updates({"solver.kind": "stub", "solver.scale": 2.0})
+        assert bytes_per_cell("stub") == 1234.0  # the budget reads the entry
+        res = solve_case(case)
+        assert res.flow.solver == "stub" and res.summary()["solver"]["kind"] == "stub"
+        assert res.flow.pressure == pytest.approx(2.0 * ref.flow.pressure)  # its own key reached it
+        # its keys are validated with the case file's messages; what it cannot do is refused
+        with pytest.raises(CaseError, match="scale"):
+            base.with_updates({"solver.kind": "stub", "solver.scale": -1.0})
+        with pytest.raises(CaseError, match="tolerance"):
+            base.with_updates({"solver.kind": "stub", "solver.tolerance": 1e-9})
+        text = (CASES / "water_main_reducer.toml").read_text() + '\n[solver]\nkind = "stub"\n[mesh]\nsize = 0.3\n'
+        path = tmp_path / "stub.toml"
+        path.write_text(text)
+        assert main(["run", str(path), "--out", str(tmp_path / "run")]) == 0
+        assert json.loads((tmp_path / "run" / "summary.json").read_text())["solver"]["kind"] == "stub"
+        path.write_text((CASES / "tank_drain_orifice.toml").read_text() + '\n[solver]\nkind = "stub"\n')
+        capsys.readouterr()
+        assert main(["check", str(path)]) == 0  # check says what run will refuse ...
+        assert 'outlet.kind = "free-jet" with the solver "stub"' in capsys.readouterr().out
+        assert main(["run", str(path), "--out", str(tmp_path / "free")]) == 2  # ... and run refuses it
+        assert 'outlet.kind = "free-jet" with the solver "stub"' in capsys.readouterr().err
+    finally:
+        unregister("stub")
+    assert "stub" not in SOLVERS
