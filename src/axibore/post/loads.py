@@ -47,12 +47,17 @@ def onedim_force(flow: FlowResult) -> float:
     return p1 * flow.inlet_area - p2 * flow.outlet_area + flow.mass_flow * (V1 - V2)
 
 
+RECONCILIATION_FLOOR = 0.01
+
 def forces(flow: FlowResult, tables: dict[str, WallTable]) -> Forces:
     wall = tables[Boundary.WALL].total_force
     body = tables[Boundary.CENTERBODY].total_force if Boundary.CENTERBODY in tables else 0.0
     m_in, m_out = flow.inlet.momentum_flux, flow.outlet.momentum_flux
     momentum = m_in - m_out
-    scale = max(abs(momentum), 1e-12 * (abs(m_in) + abs(m_out)) + 1e-300)
+    # relative to the net force, but never to less than RECONCILIATION_FLOOR of the plane momentum
+    # fluxes: a venturi's net force is a small difference of large ones, and its discretisation error
+    # is a fraction of those, not of the difference
+    scale = max(abs(momentum), RECONCILIATION_FLOOR * (abs(m_in) + abs(m_out)), 1e-300)
     return Forces(
         wall_x_N=wall,
         centerbody_x_N=body,

@@ -86,7 +86,7 @@ def headline_rows(s: dict, unit: str = "bar") -> list[tuple[str, str, str]]:
         ("Wall axial force (on the part, +x downstream)", "forces.wall_x_N", _fmt(f["wall_x_N"], "N", 6)),
         ("Centre-body axial force", "forces.centerbody_x_N", _fmt(f["centerbody_x_N"], "N", 6)),
         ("Momentum balance (inlet - outlet planes)", "forces.momentum_x_N", _fmt(f["momentum_x_N"], "N", 6)),
-        ("Reconciliation (wall + body - momentum) / momentum", "forces.reconciliation_rel", _fmt(f["reconciliation_rel"], "", 3)),
+        ("Reconciliation (wall + body - momentum) / momentum (at least 1 % of the plane fluxes)", "forces.reconciliation_rel", _fmt(f["reconciliation_rel"], "", 3)),
         ("1D formula p1 A1 - p2 A2 + mdot (V1 - V2)", "forces.onedim_x_N", _fmt(f["onedim_x_N"], "N", 6)),
         ("Force deviation (2D - 1D) / |1D|", "onedim.force_dev_rel", _fmt(o.get("force_dev_rel"), "", 3)),
     ]
