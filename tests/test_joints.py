@@ -35,7 +35,8 @@ def test_reducer_joint_loads_from_the_momentum_theorem():
     assert inlet["part_force_N"] == pytest.approx(F, rel=2e-5)
     assert inlet["load_N"] == pytest.approx(F + annulus, rel=2e-5)
     assert inlet["per_bolt_N"] == pytest.approx((F + annulus) / 20, rel=2e-5)
-    # hydrostatic end force on the gasket circle, H = 0.785 G^2 P (ASME BPVC VIII-1 App. 2, from memory)
+    # hydrostatic end force on the gasket circle, H = (pi/4) G^2 P = 0.785 G^2 P (derived: the pressure on the
+    # circle's area; the form flange rules use, common practice)
     assert inlet["end_force_N"] == pytest.approx(0.785398 * 0.68**2 * p1, rel=1e-6)
     # nothing of the model lies beyond the outlet joint: the gasket annulus at the outlet pressure
     assert outlet["part_force_N"] == 0.0

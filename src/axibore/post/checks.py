@@ -127,7 +127,7 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
             warnings.append(
                 f"exit-plane outlet on a sharp lip: the wall meets the exit plane at {-math.degrees(a):.3g} deg to the axis, so "
                 f"the jet goes on contracting past it. A planar jet between walls at that angle contracts to about {cc:.2f} of "
-                f"the exit area (von Mises 1917, from memory): the flow rate and discharge coefficient here may be up to "
+                f"the exit area (free-streamline theory, derived from the hodograph in geometry.jet): the flow rate and discharge coefficient here may be up to "
                 f"{1 - cc:.0%} too high and the lip pressure too low; set outlet.kind = \"free-jet\" to solve the jet"
             )
         else:

@@ -9,7 +9,8 @@ F_wall(x > x_j) is the wall-pressure force on the part beyond the joint (from th
 p_j the gauge pressure at the joint, D_j the bore diameter there and G the gasket reaction
 diameter: the pressure inside the gasket circle but outside the bore pushes the flange faces
 apart. For a closed end (no flow) the load is the hydrostatic end force H = pi G^2 p / 4 of
-pressure-vessel flange rules (H = 0.785 G^2 P, ASME BPVC VIII-1 Appendix 2; from memory);
+pressure-vessel flange rules (derived: the pressure on the area of the gasket circle, pi/4 = 0.785;
+the form flange design rules use, common practice);
 ``end_force_N`` reports H at p_j for comparison. Positive load: the bolts are in tension.
 
 Jet reaction (exit-plane or free-jet outlet): the force of the jet on the holder,
