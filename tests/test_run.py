@@ -145,3 +145,29 @@ def test_with_updates_revalidates_and_names_the_key(nozzle_dict):
     with pytest.raises(CaseError) as exc:
         seg.with_updates({"bore.segment[3].to": ["0.3 m", "25 mm"]})
     assert "bore.segment[3]: no entry 3 (the case has 2; entries count from 1)" in str(exc.value)
+
+
+def test_the_hand_answer_is_the_textbook_one():
+    # A 100 mm hose converging conically to a 30 mm exit over 200 mm at 10 bar gauge, to air (the
+    # classical case of issue 22). By hand (derived, common practice): V2 = sqrt(2 p1 / (rho (1 - (A2/A1)^2)))
+    # = 44.9 m/s at rho = 1000; Q = A2 V2; p1 A1 = 7854 N; F = p1 A1 + rho Q (V1 - V2) = 6557 N; the jet
+    # reaction rho Q V2. Computed here with the case's water density.
+    import math
+
+    from axibore.case import case_from_dict
+    from axibore.run import solve_case
+
+    res = solve_case(case_from_dict({
+        "fluid": {"kind": "liquid", "density": "1000 kg/m^3", "vapour_pressure": "2.3 kPa"},
+        "bore": {"template": "conical", "inlet_diameter": "100 mm", "exit_diameter": "30 mm", "half_angle": "9.93 deg",
+                 "inlet_length": "20 mm", "tip_length": "0 mm"},
+        "inlet": {"pressure": "10 bar"}, "outlet": {"kind": "exit-plane"}, "mesh": {"size": 0.2}}))
+    h = res.hand
+    A1, A2 = math.pi * 0.05**2, math.pi * 0.015**2
+    V2 = math.sqrt(2e6 / (1000.0 * (1 - (A2 / A1) ** 2)))
+    assert h.exit_velocity == pytest.approx(V2, rel=1e-9) and V2 == pytest.approx(44.90, abs=0.01)
+    assert h.end_force == pytest.approx(7854.0, abs=0.5)
+    assert h.force_x == pytest.approx(6557.0, abs=1.0)
+    assert h.jet_reaction == pytest.approx(1000.0 * A2 * V2 * V2, rel=1e-9)
+    s = res.summary()["hand_1d"]
+    assert s["force_x_N"] == pytest.approx(h.force_x) and "Bernoulli" in s["note"]

@@ -28,7 +28,7 @@ from .post.checks import Checks, checks
 from .post.jet import JetTable, jet_table
 from .post.joints import JointLoad, jet_reaction, joint_loads
 from .post.loads import Forces, WallTable, forces, wall_tables
-from .post.onedim import OneDimComparison, compare
+from .post.onedim import HandAnswer, OneDimComparison, compare, hand_answer
 from .post.stream import stream_function
 from .solvers import SOLVERS
 from .solvers.base import FlowError, FlowResult
@@ -61,6 +61,7 @@ class RunResult:
     jet: JetSolution | None = None  # a free-jet outlet's jet
     exit_plane: ExitPlaneComparison | None = None  # free jet: the exit-plane model of the same bore
     jet_table: JetTable | None = None  # free jet: the values on the settled jet boundary
+    hand: HandAnswer | None = None  # the 1D answer by hand from the same inputs (liquids)
 
     def summary(self) -> dict:
         return build_summary(self)
@@ -108,7 +109,7 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
     jt = jet_table(flow, profile, solved.jet.lip_faces) if solved.jet is not None else None
     return RunResult(case, profile, build.mesh, build, flow, tables, frc, od, chk, sec, build.mesh.quality(),
                      joint_loads(case, profile, flow, tables), jet_reaction(case, flow), viscous, solved.jet,
-                     solved.comparison, jt)
+                     solved.comparison, jt, hand_answer(case, profile, flow))
 
 
 def _check_finite(case: Case, flow: FlowResult) -> None:

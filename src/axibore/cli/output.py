@@ -12,6 +12,20 @@ def table(rows: list[tuple[str, str]]) -> list[str]:
     return [f"  {k:<{width}}  {v}" for k, v in rows]
 
 
+def cavitation_verdict(p: dict) -> str:
+    """The cavitation margin with its verdict: sigma against the ideal inception index -Cp_min."""
+    sigma, sigma_i = p["cavitation_index"], p["inception_index"]
+    if sigma is None or sigma_i is None or sigma != sigma:
+        return "no vapour pressure known for this fluid: no verdict"
+    if sigma_i <= 0:
+        return (f"none expected: the wall pressure nowhere falls below the outlet pressure (inception index "
+                f"{sigma_i:.3g} <= 0; cavitation index {sigma:.4g})")
+    margin = sigma - sigma_i
+    verdict = "none expected" if margin > 0 else "EXPECTED"
+    return (f"{verdict}: cavitation index {sigma:.4g} against the inception index {sigma_i:.4g} (margin {margin:+.3g}; "
+            "cavitation where the index is below the inception index)")
+
+
 def headline(summary: dict, unit: str = "bar") -> list[str]:
     """The numbers an engineer signs off, as printed lines (pressures in ``unit``)."""
     fl, p, f, o = summary["flow"], summary["pressure"], summary["forces"], summary["onedim"]
@@ -39,6 +53,13 @@ def headline(summary: dict, unit: str = "bar") -> list[str]:
         ("1D formula x", f"{show(f['onedim_x_N'], 'force')}  (2D - 1D: {o['force_dev_rel']:+.3%})" if o["force_dev_rel"] is not None
          else show(f["onedim_x_N"], "force")),
     ]
+    hand = summary.get("hand_1d")
+    if hand:
+        jet = f", jet reaction {show(hand['jet_reaction_N'], 'force')}" if hand["jet_reaction_N"] is not None else ""
+        rows.append(("by hand (1D)", f"flow {show(hand['volume_flow_m3_s'], 'volume_flow')}, V in / out "
+                                     f"{hand['inlet_velocity_m_s']:.4g} / {hand['exit_velocity_m_s']:.4g} m/s, force "
+                                     f"{show(hand['force_x_N'], 'force')}{jet}; p1 A1 {show(hand['end_force_N'], 'force')} "
+                                     "(the same inputs, uniform planes: continuity, Bernoulli, momentum)"))
     for j in summary.get("joints", []):
         bolts = f", {show(j['per_bolt_N'], 'force')} per bolt ({j['bolts']} bolts)" if j["per_bolt_N"] is not None else ""
         rows.append((f"joint {j['name']}", f"{show(j['load_N'], 'force')}{bolts}; G {show(j['gasket_diameter_m'], 'length')}, "
@@ -59,8 +80,7 @@ def headline(summary: dict, unit: str = "bar") -> list[str]:
         ("min wall pressure abs", absolute_wall_pressure(p, unit)),
     ]
     if not gas:
-        rows.append(("cavitation index", f"{p['cavitation_index']:.4g} (cavitation where it is below the inception index "
-                                         f"{p['inception_index']:.4g})"))
+        rows.append(("cavitation", cavitation_verdict(p)))
     rows += [
         ("1D wall-pressure dev", deviation_text(o, unit)),
         (f"1D breakdown (> {o['breakdown_threshold']:.3g} q_out)",

@@ -178,6 +178,8 @@ def build_summary(res) -> dict:
         }
         out["exit_plane_model"] = asdict(res.exit_plane) if res.exit_plane is not None else {
             "note": "not solved (outlet.compare_exit_plane = false)"}
+    hand = getattr(res, "hand", None)
+    out["hand_1d"] = hand.as_dict() if hand is not None else None
     out["joints"] = [j.as_dict() for j in res.joints]
     out["seconds"] = dict(res.seconds)
     out["warnings"] = list(res.checks.warnings)

@@ -178,3 +178,60 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
         meaningful=profile.monotone,
         deviation=devs,
     )
+
+
+@dataclass(frozen=True)
+class HandAnswer:
+    """The 1D answer an engineer computes by hand for the same inputs, independent of the 2D flow:
+    continuity and Bernoulli between the inlet plane and the exit (the lip plane of a free jet,
+    the outlet plane otherwise), the control-volume momentum balance for the force on the part, and
+    the jet reaction of a discharge. Liquids only."""
+
+    volume_flow: float  # m3/s (planar: per m of depth)
+    mass_flow: float  # kg/s
+    inlet_velocity: float
+    exit_velocity: float
+    inlet_pressure: float  # gauge
+    exit_pressure: float  # gauge
+    force_x: float  # p1 A1 - p2 A2 + mdot (V1 - V2): the force on the part, +x downstream
+    end_force: float  # p1 A1: the force on a blind flange closing the inlet (no flow)
+    jet_reaction: float | None  # mdot V2 + p2 A2 of a discharge (None for a pipe outlet)
+    note: str
+
+    def as_dict(self) -> dict:
+        return {"volume_flow_m3_s": self.volume_flow, "mass_flow_kg_s": self.mass_flow,
+                "inlet_velocity_m_s": self.inlet_velocity, "exit_velocity_m_s": self.exit_velocity,
+                "inlet_gauge_Pa": self.inlet_pressure, "exit_gauge_Pa": self.exit_pressure, "force_x_N": self.force_x,
+                "end_force_N": self.end_force, "jet_reaction_N": self.jet_reaction, "note": self.note}
+
+
+def hand_answer(case, profile: Profile, flow: FlowResult) -> HandAnswer | None:
+    """The hand calculation (HandAnswer) from the case's own inputs: the inlet pressure or flow rate
+    as given, the exit at the given outlet pressure (0 gauge for a discharge). None for a gas (its
+    quasi-1D model is the gas section) or where the inputs do not fix it."""
+    if flow.compressible:
+        return None
+    rho = flow.inlet_density
+    A1 = flow.inlet_area
+    discharge = case.outlet.kind in ("exit-plane", "free-jet")
+    A2 = exit_area(profile) if case.outlet.kind == "free-jet" else flow.outlet_area
+    ratio2 = (A2 / A1) ** 2
+    p_in, p_out = case.inlet.pressure, (0.0 if discharge else case.outlet.pressure)
+    if case.inlet.flow_rate is not None:
+        kind, value = case.inlet.flow_rate
+        Q = value if kind == "volume" else value / rho
+        if p_in is None:
+            p_in = (p_out or 0.0) + 0.5 * rho * (Q / A2) ** 2 * (1.0 - ratio2)
+        elif p_out is None:
+            p_out = p_in - 0.5 * rho * (Q / A2) ** 2 * (1.0 - ratio2)
+    else:
+        if p_in is None or p_out is None or p_in <= p_out or ratio2 >= 1.0:
+            return None
+        Q = A2 * float(np.sqrt(2.0 * (p_in - p_out) / (rho * (1.0 - ratio2))))
+    V1, V2 = Q / A1, Q / A2
+    mdot = rho * Q
+    note = ("by hand: continuity and Bernoulli from the inlet plane to the "
+            + ("lip plane (no contraction)" if case.outlet.kind == "free-jet" else "outlet plane")
+            + ", uniform velocity on each; force p1 A1 - p2 A2 + mdot (V1 - V2)")
+    return HandAnswer(Q, mdot, V1, V2, p_in, p_out, p_in * A1 - p_out * A2 + mdot * (V1 - V2), p_in * A1,
+                      mdot * V2 + p_out * A2 if discharge else None, note)

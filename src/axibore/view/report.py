@@ -90,6 +90,13 @@ def headline_rows(s: dict, unit: str = "bar") -> list[tuple[str, str, str]]:
         ("1D formula p1 A1 - p2 A2 + mdot (V1 - V2)", "forces.onedim_x_N", _fmt(f["onedim_x_N"], "N", 6)),
         ("Force deviation (2D - 1D) / |1D|", "onedim.force_dev_rel", _fmt(o.get("force_dev_rel"), "", 3)),
     ]
+    hand = s.get("hand_1d")
+    if hand:
+        rows += [("By hand (1D, same inputs): volume flow", "hand_1d.volume_flow_m3_s", _fmt(hand["volume_flow_m3_s"], "m3/s", 6)),
+                 ("By hand (1D): force p1 A1 - p2 A2 + mdot (V1 - V2)", "hand_1d.force_x_N", _fmt(hand["force_x_N"], "N", 6)),
+                 ("By hand (1D): end force p1 A1 (a blind flange)", "hand_1d.end_force_N", _fmt(hand["end_force_N"], "N", 6))]
+        if hand["jet_reaction_N"] is not None:
+            rows.append(("By hand (1D): jet reaction mdot V2 + p2 A2", "hand_1d.jet_reaction_N", _fmt(hand["jet_reaction_N"], "N", 6)))
     if f.get("jet_reaction_N") is not None:
         rows.append(("Jet reaction on the holder (upstream): mdot V + p A at the exit", "forces.jet_reaction_N",
                      _fmt(f["jet_reaction_N"], "N", 6)))
