@@ -134,3 +134,19 @@ def test_absurd_gas_inlet_is_refused_by_check(tmp_path, capsys, line, key, words
         err = capsys.readouterr().err
         assert f"gas.toml: {key}:" in err and words in err, err
     assert not (tmp_path / "r").exists()
+
+
+def test_underexpanded_exit_is_said_and_the_jet_reaction_names_its_pressures():
+    # the cd test nozzle at its shipped back pressure: below the ratio that puts the quasi-1D normal shock
+    # in the exit plane (NACA Report 1135, 1953, eqs. 93-99 with the isentropic area ratio), so the flow
+    # adjusts outside; the jet reaction is mdot V_e + (p_e - p_a) A_e with the exit pressure it used
+    from axibore.run import solve_case
+
+    res = solve_case(load_case(CASES / "air_test_nozzle_cd.toml"))
+    s = res.summary()
+    assert any("where the quasi-1D normal shock reaches the exit" in w for w in s["warnings"])
+    f = s["forces"]
+    fl = res.flow
+    assert f["jet_reaction_N"] == pytest.approx(fl.mass_flow * fl.outlet_velocity + f["jet_reaction_exit_gauge_Pa"]
+                                                * f["jet_reaction_exit_area_m2"], rel=1e-12)
+    assert f["jet_reaction_exit_gauge_Pa"] > 0  # under-expanded: the exit pressure above the ambient

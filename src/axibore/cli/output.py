@@ -65,7 +65,10 @@ def headline(summary: dict, unit: str = "bar") -> list[str]:
         rows.append((f"joint {j['name']}", f"{show(j['load_N'], 'force')}{bolts}; G {show(j['gasket_diameter_m'], 'length')}, "
                      f"p {show(j['pressure_gauge_Pa'], 'pressure', unit=unit)} (hydrodynamic part)"))
     if f.get("jet_reaction_N") is not None:
-        rows.append(("jet reaction", f"{show(f['jet_reaction_N'], 'force')} on the holder, upstream (mdot V + p A at the exit)"))
+        pe = f.get("jet_reaction_exit_gauge_Pa")
+        used = f", p_e - p_a = {show(pe, 'pressure', unit=unit)}" if pe is not None else ""
+        rows.append(("jet reaction", f"{show(f['jet_reaction_N'], 'force')} on the holder, upstream (mdot V_e + (p_e - p_a) A_e "
+                                     f"at the exit{used})"))
     if fl.get("contraction_coefficient") is not None:
         rows.append(("free jet", f"contraction coefficient {fl['contraction_coefficient']:.4f}, far-jet radius "
                                  f"{show(fl['jet_radius_m'], 'length')}, vena contracta at x = {show(fl['vena_contracta_x_m'], 'length')}"))

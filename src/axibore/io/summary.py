@@ -94,6 +94,8 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("forces", "momentum_x_N", lambda r: r.forces.momentum_x_N),
     ("forces", "onedim_x_N", lambda r: r.forces.onedim_x_N),
     ("forces", "reconciliation_rel", lambda r: r.forces.reconciliation_rel),
+    ("forces", "jet_reaction_exit_gauge_Pa", lambda r: r.flow.outlet_pressure if r.jet_reaction_N is not None else None),
+    ("forces", "jet_reaction_exit_area_m2", lambda r: r.flow.outlet_area if r.jet_reaction_N is not None else None),
     ("forces", "per_bolt_N", lambda r: r.joints[0].per_bolt_N if r.joints else None),
     ("forces", "bolts", lambda r: r.joints[0].bolts if r.joints else None),
     ("forces", "jet_reaction_N", lambda r: r.jet_reaction_N),

@@ -53,6 +53,12 @@ def _gas_warnings(case, flow, onedim) -> list[str]:
         out.append(f"the exit plane is sonic or supersonic (Mach up to {m_exit:.3g}): the jet beyond it (expansion to the "
                    "ambient, shock cells) is not modelled; the flow upstream of the sonic line, and so the mass flow, does "
                    "not depend on it")
+    gas = onedim.gas or {}
+    if gas.get("regime") in ("overexpanded", "ideally expanded", "underexpanded"):
+        out.append(f"back pressure ratio p_b/p0 = {gas['back_pressure_ratio']:.4g} is at or below {gas['shock_at_exit_ratio']:.4g}, "
+                   f"where the quasi-1D normal shock reaches the exit ({gas['regime']}): the flow adjusts to the back "
+                   "pressure outside the nozzle (oblique shocks or expansion waves), which the outlet boundary here does "
+                   "not model; the flow inside up to the exit is not affected by it")
     if onedim.gas and onedim.gas.get("shock_x_m") is not None:
         out.append(f"the quasi-1D model puts a normal shock at x = {onedim.gas['shock_x_m'] * 1e3:.4g} mm in the diverging "
                    "part (compare with the 2D pressure along the wall)")

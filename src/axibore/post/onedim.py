@@ -138,13 +138,18 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
                    f"({model.area[it] * 1e6:.6g} mm^2) at the same inlet total conditions and back pressure")
         # the 1D force a hand calculation gives: uniform quasi-1D states on the two planes
         p_in, p_out = model.pressure[0] - amb, model.pressure[-1] - amb
+        p0_abs = case.inlet.total_pressure + amb
+        p_back_abs = (case.outlet.pressure or 0.0) + amb
         V_in = model.mass_flow / (model.density[0] * model.area[0])
         V_ex = model.mass_flow / (model.density[-1] * model.area[-1])
         force_1d_model = p_in * model.area[0] - p_out * model.area[-1] + model.mass_flow * (V_in - V_ex)
         force_1d = force_1d_model
         gas = {"ideal_mass_flow_kg_s": model.mass_flow, "choked": model.regime != "subsonic", "regime": model.regime,
                "throat_x_m": float(model.x[it]), "throat_area_m2": float(model.area[it]),
-               "shock_x_m": model.x_shock, "onedim_exit_mach": float(model.mach[-1])}
+               "shock_x_m": model.x_shock, "onedim_exit_mach": float(model.mach[-1]),
+               "back_pressure_ratio": float(p_back_abs / p0_abs),
+               "shock_at_exit_ratio": float(q1d.nozzle_regime(float(model.area[it]), float(model.area[-1]),
+                                                              p_back_abs / p0_abs, case.fluid.gamma).p_shock_at_exit)}
     elif free_jet:
         cd = float(Q / (a_exit * np.sqrt(2 * dp / rho))) if dp > 0 else None
         cd_note = ("Q / (A_exit sqrt(2 (p_inlet - p_ambient) / rho)), A_exit the flow area at the lip plane, p_inlet the "
