@@ -355,3 +355,10 @@ def test_killed_worker_and_client_then_rerun(cluster, tmp_path):
         assert f"{len(finished)} complete already (reused), {6 - len(finished)} to run" in again.stdout
     finally:
         cluster.kill_worker(w2)
+
+
+def test_vary_twice_for_one_key_is_refused(tmp_path, capsys):
+    code = main(["sweep", str(REDUCER), "--vary", "mesh.size=0.3", "--vary", "mesh.size=0.2", "--workers", "0",
+                 "--out", str(tmp_path / "sw")])
+    assert code == 2 and "mesh.size given more than once" in capsys.readouterr().err
+    assert not (tmp_path / "sw").exists()

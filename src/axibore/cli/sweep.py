@@ -39,7 +39,13 @@ def run(args) -> int:
 
     case = load(args)
     if args.vary:
-        vary = dict(parse_vary(v) for v in args.vary)
+        pairs = [parse_vary(v) for v in args.vary]
+        keys = [k for k, _ in pairs]
+        twice = sorted({k for k in keys if keys.count(k) > 1})
+        if twice:
+            err(f"--vary: {', '.join(twice)} given more than once; give each key once, with all its values in one list")
+            return 2
+        vary = dict(pairs)
         zip_ = args.zip
     else:
         vary, zip_ = sweep_from_case(case)
