@@ -271,3 +271,33 @@ def test_killed_grid_study_resumes_without_rerunning_finished_levels(tmp_path):
     # a study with other levels removes the level it no longer has
     res = subprocess.run(cmd[:-4] + ["--levels", "0,1", "--out", str(out)], capture_output=True, text=True, env=env)
     assert res.returncode == 0 and "removed level-6" in res.stdout and not (out / "level-6").exists()
+
+
+def test_scheduler_and_verify_out_are_checked_before_work(tmp_path, capsys):
+    case = write(tmp_path, REDUCER + "\n[mesh]\nsize = 0.3\n")
+    rc, _, err = run_cli(["sweep", str(case), "--vary", "mesh.size=0.3", "--scheduler", str(tmp_path / "missing.json"),
+                          "--out", str(tmp_path / "sw")], capsys)
+    assert rc == 2 and "--scheduler" in err and "no such scheduler file" in err
+    afile = tmp_path / "afile"
+    afile.write_text("data")
+    t = time.perf_counter()
+    rc, out, err = run_cli(["verify", "--quick", "--out", str(afile)], capsys)
+    assert rc == 2 and "is a file" in err and afile.read_text() == "data"
+    assert "pass" not in out and time.perf_counter() - t < 5  # refused before the verification ran
+
+
+def test_an_internal_error_is_one_line_and_a_saved_traceback(tmp_path, capsys, monkeypatch):
+    import axibore.cli.check as check_cmd
+
+    def broken(args):
+        raise RuntimeError("a fault of the tool")
+
+    monkeypatch.setattr(check_cmd, "run", broken)
+    from axibore.cli import main
+
+    rc = main(["check", str(write(tmp_path, REDUCER))])
+    err = capsys.readouterr().err
+    assert rc == 3 and "internal error (RuntimeError: a fault of the tool)" in err and "Traceback" not in err
+    saved = Path(err.split("the traceback is in ")[1].strip())
+    assert "Traceback" in saved.read_text() and "a fault of the tool" in saved.read_text()
+    saved.unlink()

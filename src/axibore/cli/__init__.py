@@ -16,6 +16,7 @@ from importlib import import_module
 from ..version import __version__
 from ..case import CaseError
 from ..io.files import OutputError
+from ..study.runner import SchedulerError
 from .common import err
 
 NAMES = ("run", "check", "mesh", "gridstudy", "sweep", "compare", "view", "report", "verify")
@@ -64,6 +65,9 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except OutputError as exc:
         err(f"--out: {exc}")
+        return 2
+    except SchedulerError as exc:
+        err(f"--scheduler: {exc}")
         return 2
     except MemoryError:
         err("out of memory: give a coarser mesh (mesh.size, --level) or a smaller --max-cells")

@@ -5,6 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..version import __version__
+from ..io.files import check_output_dir
 from .common import out
 
 HELP = "run the verification set (exact solutions, published values) and tabulate the errors"
@@ -19,7 +20,8 @@ def run(args) -> int:
     from ..study.verify import run_verification, table_lines
 
     out(f"axibore {__version__}: verification against exact solutions and published values")
-    rows = run_verification(Path(args.out), quick=args.quick, progress=out)
+    outdir = check_output_dir(Path(args.out), "verify")  # before any work (OutputError: exit 2)
+    rows = run_verification(outdir, quick=args.quick, progress=out)
     out("")
     for line in table_lines(rows):
         out(line)

@@ -104,5 +104,8 @@ def expected_cells(profile: Profile, size: float, level: int, cells: str = "quad
         return int(rough), "from the area"
     scale = max(1.0, math.sqrt(rough / ESTIMATE_MESH_CELLS))
     corners = [(c.x, c.r) for c in profile.corners() if c.convex]
-    m = mesh_loop(profile.loop(), h * scale, cells, corners, tol=0.1 * profile.tol, planar=profile.planar)
+    try:
+        m = mesh_loop(profile.loop(), h * scale, cells, corners, tol=0.1 * profile.tol, planar=profile.planar)
+    except Exception as exc:  # Gmsh cannot mesh the outline this coarse (a thin wall): the area estimate says enough
+        return int(rough), f"from the area (a coarse estimate mesh failed: {str(exc).splitlines()[0][:80]})"
     return int(round(m.n_cells * scale * scale)), ("meshed" if scale == 1.0 else f"meshed at {scale:.3g} x the size, scaled")

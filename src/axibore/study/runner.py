@@ -20,6 +20,10 @@ from dataclasses import dataclass
 from typing import Any, Callable, Iterable, Iterator
 
 
+class SchedulerError(ValueError):
+    """A --scheduler that names no reachable Dask scheduler."""
+
+
 @dataclass(frozen=True)
 class JobError:
     message: str  # "TypeName: message"
@@ -76,10 +80,18 @@ class DaskExecutor:
 
         self.cluster = None
         if scheduler:
-            if Path(scheduler).is_file():
-                self.client = Client(scheduler_file=str(scheduler), timeout=timeout)
-            else:
-                self.client = Client(scheduler, timeout=timeout)
+            looks_like_file = "://" not in scheduler and (scheduler.endswith(".json") or "/" in scheduler)
+            if looks_like_file and not Path(scheduler).is_file():
+                raise SchedulerError(f"{scheduler}: no such scheduler file; give a scheduler file or an address "
+                                     "such as tcp://10.0.0.5:8786")
+            try:
+                if Path(scheduler).is_file():
+                    self.client = Client(scheduler_file=str(scheduler), timeout=timeout)
+                else:
+                    self.client = Client(scheduler, timeout=timeout)
+            except (OSError, ValueError, TimeoutError) as exc:
+                raise SchedulerError(f"{scheduler}: cannot connect to a Dask scheduler there ({exc}); give a running "
+                                     "scheduler's address (tcp://host:port) or its scheduler file") from None
         else:
             self.cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, host="127.0.0.1",
                                         dashboard_address=None, silence_logs=logging.ERROR)

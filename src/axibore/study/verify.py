@@ -17,6 +17,7 @@ from typing import Callable
 import numpy as np
 
 from ..io.files import atomic_write_text
+from ..io.ownership import record
 from .. import fluids
 from ..case import case_from_dict
 from ..run import solve_case
@@ -156,6 +157,7 @@ def run_verification(out_dir: Path, quick: bool = False, progress: Callable[[str
 
 def write_rows(rows: list[Row], out: Path) -> None:
     out.mkdir(parents=True, exist_ok=True)
+    record(out, "verify", [])
     atomic_write_text(out / "verify.json", json.dumps([asdict(r) for r in rows], indent=2) + "\n")
     lines = ["quantity,exact,computed,error,observed_order,expected_order,passed,source"]
     for r in rows:
@@ -163,6 +165,7 @@ def write_rows(rows: list[Row], out: Path) -> None:
         eo = "" if r.expected_order is None else f"{r.expected_order:g}"
         lines.append(f'"{r.quantity}",{r.exact:.10g},{r.computed:.10g},{r.error:.4g},{po},{eo},{r.passed},"{r.source}"')
     atomic_write_text(out / "verify.csv", "\n".join(lines) + "\n")
+    record(out, "verify", ["verify.json", "verify.csv"])
 
 
 def table_lines(rows: list[Row]) -> list[str]:
