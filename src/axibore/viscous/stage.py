@@ -58,7 +58,6 @@ import numpy as np
 from ..names import Boundary
 from . import layer as L
 
-PIPE_TRANSITION_RE = 2300.0  # pipe flow is turbulent above about this Reynolds number (common practice)
 DEFAULT_UPSTREAM_DIAMETERS = 10.0  # a turbulent start's layer grown over this many inlet diameters (a setting)
 RESTART_CORNER_DEG = 30.0  # concave corners turning at least this much restart the layer (stagnation)
 SMOOTH_FACES = 2.0  # least width (in faces) of the local linear smoothing of the wall speed
@@ -89,11 +88,20 @@ class ViscousSettings:
                    v.displacement, v.displacement_tolerance, v.taps, v.coupling)
 
     def resolve(self, reynolds: float, d_h: float) -> "ViscousSettings":
-        """The settings with the defaults that depend on the flow filled in: a start turbulent above the
-        pipe-flow Reynolds number, with the layer grown over 10 inlet diameters of straight pipe."""
+        """The settings with the defaults that depend on the flow filled in.
+
+        Default (no ``start``, no start thickness, no upstream length): the layer starts from zero
+        thickness at the inlet plane, laminar, and undergoes transition by Michel's criterion. The
+        inlet plane is where the inviscid solution imposes a uniform stream; a layer already grown
+        there would contradict that inflow (its displacement would speed up the core at the upstream
+        station, and its kinetic-energy excess, the approach-velocity-profile effect, would raise the
+        discharge coefficient above the inviscid one without any loss: the quasi-1D view cannot tell it
+        from a wall effect). The layer thus models a bore fed from a uniform stream, e.g. through a
+        bellmouth, as the inviscid solution does. An approach layer is modelled with ``upstream_length``
+        or ``start_momentum_thickness``; ``start = "turbulent"`` alone grows it over 10 inlet diameters."""
         from dataclasses import replace
 
-        start = self.start or ("turbulent" if reynolds >= PIPE_TRANSITION_RE else "laminar")
+        start = self.start or "laminar"
         upstream = self.upstream_length
         if start == "turbulent" and upstream is None and self.start_momentum_thickness is None:
             upstream = DEFAULT_UPSTREAM_DIAMETERS * d_h
@@ -137,6 +145,16 @@ class ChainLayer:
     momentum_friction_x_N: float  # the same force from the momentum integral of the layer
     start_deficit_W: float  # kinetic-energy deficit flux (rho/2) P ue^3 delta_3 entering at the inlet plane [W]
     end_deficit_W: float  # ... leaving at the downstream end (NaN when separated there)
+    carried_delta_star: np.ndarray  # displacement of the fluid of earlier runs (ended at a restart) per face [m]
+    carried_deficit_W: float  # kinetic-energy deficit flux of the runs that ended at a restart [W]
+    start_displacement_m2: float  # P delta* at the upstream end of the chain (the inlet plane) [m^2 or m]
+    corner_separations: int = 0  # separations that end in a concave corner where a new layer starts
+
+    @property
+    def displacement(self) -> np.ndarray:
+        """The displacement thickness of all the deficit fluid at each face: the current layer's and
+        the carried one of the layers that ended upstream at a restart [m]."""
+        return self.delta_star + self.carried_delta_star
 
     @property
     def shear_x(self) -> np.ndarray:
@@ -150,6 +168,7 @@ class ChainLayer:
     def columns(self) -> dict[str, np.ndarray]:
         return {"tau_w_Pa": self.tau_w, "cf": self.cf, "theta_m": self.theta, "delta_star_m": self.delta_star,
                 "shape_factor": self.H, "re_theta": self.re_theta, "layer_state": self.state.astype(float),
+                "carried_delta_star_m": self.carried_delta_star,
                 "edge_speed_m_s": self.ue, "cumulative_friction_x_N": np.cumsum(self.shear_x)}
 
 
@@ -317,6 +336,10 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, settings: Vis
     runs, transitions, separations = [], [], []
     mom_fx = 0.0
     start_def, end_def = 0.0, float("nan")
+    start_disp = 0.0
+    carried = np.zeros(n)  # displacement of the deficit fluid of the runs that ended upstream
+    carried_E, carried_U = 0.0, 0.0  # their kinetic-energy deficit flux [W], and the edge speed where it was taken
+    corner_seps = 0
 
     chain0 = profile.chain_points(name)[0]
     bounds = [(float(0.0), float(chain0[0]), float(chain0[1]), "start")]
@@ -375,6 +398,15 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, settings: Vis
                 break
             w_run = width_run
         ue_all[sel] = u
+        if carried_E > 0.0:
+            # The fluid of the layers that ended upstream at a restart (into a concave corner) passes on
+            # beside the new layer with the total-pressure deficit it carried: int dp0 dQ = E, its kinetic-
+            # energy deficit flux (rho/2) P ue^3 delta_3 (derived). Where the edge speed is Uc >> the deficit
+            # speed scale, its speed is Uc - dp0/(rho Uc) and its displacement area int (1 - u/Uc) dA =
+            # E/(rho Uc^3) (first order in dp0/(rho Uc^2); derived). Uc is not taken below the edge speed
+            # where E was taken (the corner flow, where the deficit fluid turns in the corner vortex).
+            Uc = np.maximum(u[: sel.size], carried_U)
+            carried[sel] = carried_E / (rho[sel] * Uc**3 * perim[sel])
         i = slice(1, None)
         theta[face_in_run], dstar[face_in_run], H[face_in_run] = w.theta[i], w.delta_star[i], w.H[i]
         cf[face_in_run], tau[face_in_run], re_th[face_in_run] = w.cf[i], w.tau_w[i], w.Re_theta[i]
@@ -399,12 +431,23 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, settings: Vis
         if how == "start" and th0:
             H0 = w.H[0] if np.isfinite(w.H[0]) else L.TURBULENT_START_H
             start_def = 0.5 * rho_run[0] * P0 * ue_run[0] ** 3 * float(_energy_thickness(th0, H0))
+            start_disp = P0 * th0 * H0
+        if k < len(bounds) - 1:
+            # the run ends at the next restart: its deficit (at its last attached face) is carried on
+            att_f = np.flatnonzero(np.isfinite(theta[face_in_run]) & (state[face_in_run] != L.SEPARATED))
+            if att_f.size:
+                j = face_in_run[att_f[-1]]
+                carried_E += 0.5 * rho[j] * perim[j] * ue_all[j] ** 3 * float(_energy_thickness(theta[j], H[j]))
+                carried_U = max(carried_U, float(ue_all[j]))
+            if w.separation_s is not None:
+                corner_seps += 1
         if k == len(bounds) - 1:
             j = face_in_run[-1]
             end_def = (0.5 * rho[j] * perim[j] * ue_all[j] ** 3 * float(_energy_thickness(theta[j], H[j]))
                        if state[j] != L.SEPARATED else float("nan"))
     return ChainLayer(name, table.faces, x_all, r_all, s_all, ue_all, theta, dstar, H, cf, tau, state, re_th, tx, area,
-                      rho, perim, tuple(runs), tuple(transitions), tuple(separations), mom_fx, start_def, end_def), width_next
+                      rho, perim, tuple(runs), tuple(transitions), tuple(separations), mom_fx, start_def, end_def,
+                      carried, carried_E, start_disp, corner_seps), width_next
 
 
 # --- the stage -----------------------------------------------------------------------------------
@@ -420,7 +463,7 @@ def face_blockage(chains: dict[str, ChainLayer], profile, planar: bool) -> dict[
     last attached face; chains counted where they span the face's x)."""
     parts = []
     for c in chains.values():
-        ds = c.delta_star
+        ds = c.displacement
         fin = np.isfinite(ds)
         if not fin.any():
             continue
@@ -473,15 +516,22 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
 
 
 def blockage(chains: dict[str, ChainLayer], profile, x: float, planar: bool) -> float:
-    """sum P delta* / A at axial station x (chains that cross it; NaN where a layer there is separated)."""
+    """sum P delta* / A at axial station x (chains that cross it; NaN where a layer there is separated),
+    delta* of all the deficit fluid (the current layer and the carried one). On a wall that runs forward
+    in x the value is interpolated in x, from the chain's start value at its upstream end (the inlet
+    plane: zero for a layer that starts there) to its last face; else the nearest face's."""
     A = float(profile.flow_area(np.atleast_1d(x))[0])
     total = 0.0
     for c in chains.values():
         margin = float(c.s[-1] - c.s[0]) / max(c.x.size - 1, 1)  # the planes lie half a face beyond the end faces
         if c.x.size < 2 or not (min(c.x[0], c.x[-1]) - margin <= x <= max(c.x[0], c.x[-1]) + margin):
             continue
-        j = int(np.argmin(np.abs(c.x - x)))
-        total += c.perimeter[j] * c.delta_star[j]
+        pd = c.perimeter * c.displacement
+        if np.all(np.diff(c.x) > 0.0) and x <= c.x[-1]:
+            x0 = c.x[0] - 0.5 * (c.x[1] - c.x[0])  # the chain's upstream end (half a face before the first face)
+            total += float(np.interp(x, np.r_[x0, c.x], np.r_[c.start_displacement_m2, pd]))
+        else:
+            total += float(pd[int(np.argmin(np.abs(c.x - x)))])
     return total / A
 
 
@@ -506,7 +556,10 @@ def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False
         for k, (x, u) in enumerate(((x1, u1), (x2, u2))):
             B = blockage(chains, profile, x, planar)
             if not np.isfinite(B):
-                return None, f"the layer is separated at x = {x * 1e3:.4g} mm (a station of the discharge coefficient)"
+                return None, f"none: the layer is separated at x = {x * 1e3:.4g} mm (a station of the discharge coefficient)"
+            if not B < MAX_BLOCKAGE:
+                return None, (f"none: the layer fills {B:.0%} of the flow area at x = {x * 1e3:.4g} mm (a station of the "
+                              f"discharge coefficient), beyond the {MAX_BLOCKAGE:.0%} a thin-layer estimate can carry")
             dp = 0.5 * rho * u * u * (1.0 / (1.0 - B) ** 2 - 1.0)
             if k == 0:
                 p1 -= dp
@@ -580,25 +633,45 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
         cd_inv, _ = discharge_coefficient(flow, profile, tables, settings.taps, None, planar)
         cd, cd_note = discharge_coefficient(flow, profile, tables, settings.taps, chains, planar)
         if cd is not None:
-            cd_note += "; the layer's displacement raises the core speed at each station by 1/(1 - B), B = sum P delta* / A"
+            cd_note += ("; the layer's displacement raises the core speed at each station by 1/(1 - B), B = sum P delta* / A "
+                        "(delta* of the current layer and of the deficit fluid carried past restarts)")
+        if cd is not None and cd_inv is not None and cd > cd_inv:
+            # only possible when the upstream station lies in a layer already grown there (an approach layer
+            # or taps downstream of the inlet plane): its displacement speeds up the core more than the losses
+            # downstream lower it, the approach-velocity-profile effect, not a loss of the wall layer
+            cd, cd_note = None, (f"none: with the layer the quasi-1D estimate gives {cd:.6g}, above the inviscid "
+                                 f"{cd_inv:.6g}: the upstream station lies in a layer already grown there, whose "
+                                 "displacement lowers the pressure read there more than the layers' losses lower it "
+                                 "downstream (the approach-velocity-profile effect); a wall layer cannot raise the flow, "
+                                 "so no value is given; move the upstream tap (viscous.taps) to the inlet plane or "
+                                 "drop the approach layer (viscous.upstream_length, start_momentum_thickness)")
 
     # loss coefficient
     K = dp0 = head = None
     if flow.compressible:
         k_note = "computed for liquids only in this version"
-    elif seps:
+    elif any(len(c.separations) > c.corner_separations for c in chains.values()):
         k_note = "not computed: the layer separates (a separated flow's loss is beyond a boundary-layer estimate)"
     else:
-        end = sum(c.end_deficit_W for c in chains.values())
+        end = sum(c.end_deficit_W + c.carried_deficit_W for c in chains.values())
         start = sum(c.start_deficit_W for c in chains.values())
         dp0 = float((end - start) / flow.volume_flow)
         V = max(flow.inlet_velocity, flow.outlet_velocity)
-        K = float(dp0 / (0.5 * rho_in * V * V))
-        head = float(dp0 / (rho_in * G_STANDARD))
-        k_note = ("K = dp_0 / (rho V^2 / 2), dp_0 the mass-averaged total-pressure loss from the inlet to the outlet "
-                  "plane (the growth of the layers' kinetic-energy deficit), V = "
-                  f"{'outlet' if flow.outlet_velocity >= flow.inlet_velocity else 'inlet'} mean velocity (the larger); "
-                  "includes the friction of the straight lengths of the bore")
+        corner = any(c.corner_separations for c in chains.values())
+        if not dp0 >= 0.0:
+            k_note = (f"not computed: the layers' kinetic-energy deficit leaving ({end:.4g} W) is below the one entering "
+                      f"({start:.4g} W); a wall layer only dissipates, so the integral closure is outside its range here")
+            dp0 = None
+        else:
+            K = float(dp0 / (0.5 * rho_in * V * V))
+            head = float(dp0 / (rho_in * G_STANDARD))
+            k_note = ("K = dp_0 / (rho V^2 / 2), dp_0 the mass-averaged total-pressure loss from the inlet to the outlet "
+                      "plane (the growth of the layers' kinetic-energy deficit, with the deficit of layers that ended at a "
+                      "restart carried on), V = "
+                      f"{'outlet' if flow.outlet_velocity >= flow.inlet_velocity else 'inlet'} mean velocity (the larger); "
+                      "includes the friction of the straight lengths of the bore"
+                      + ("; a lower bound: a layer separates into a concave corner, and the corner vortex's own loss is "
+                         "not included" if corner else ""))
 
     warnings = []
     still = coupling_note.split("B still changes by ")[-1].split(" ")[0] if "NOT converged" in coupling_note else "0"
