@@ -697,7 +697,7 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
                             "the thin-layer estimate is stretched there")
     notes = [
         "wall layer: Thwaites (laminar, axisymmetric form of Rott & Crabtree), Michel's transition, Head's entrainment "
-        "method with the Ludwieg-Tillmann skin friction (turbulent), marched on the smoothed inviscid wall speed",
+        "method with the flat-plate friction of Schlichting in Re_theta and the shape dependence of Ludwieg & Tillmann (turbulent), marched on the smoothed inviscid wall speed",
         "friction_x_N: wall shear integrated over the wall, by the fluid on the part, +x downstream; separated faces "
         "count with no shear",
     ]
