@@ -262,7 +262,7 @@ class ViscousSpec(_Section):
     """The wall layer (viscous/stage.py): integral boundary layer on every wall chain."""
 
     model: Literal["integral", "none"] | None = None  # None: "integral" where the fluid's viscosity is known
-    start: Literal["laminar", "turbulent"] | None = None  # None: laminar from zero thickness at the inlet plane (viscous/stage.py)
+    start: Literal["laminar", "turbulent"] | None = None  # None: from zero thickness at the inlet plane, turbulent above Re 2300 (viscous/stage.py)
     start_momentum_thickness: PosLength | None = None
     upstream_length: NonNegLength | None = None
     transition: Annotated[Union[str, float], BeforeValidator(_transition)] = "michel"

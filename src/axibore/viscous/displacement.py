@@ -151,7 +151,7 @@ def _deltas(layer, tables) -> dict[str, tuple[np.ndarray, np.ndarray]]:
 
     out = {}
     for name, c in layer.chains.items():
-        d = _held(np.asarray(c.delta_star, float))
+        d = _held(np.asarray(c.displacement, float))  # the layer's and the carried deficit fluid's
         out[name] = (np.asarray(tables[name].faces), np.maximum(smooth_speed(d, 3.0), 0.0))
     return out
 
