@@ -268,6 +268,32 @@ def _gas_mu(case, T: np.ndarray) -> np.ndarray:
     return mu0 * (T / t0) ** 1.5 * (t0 + s) / (T + s)
 
 
+AIR_PRANDTL = 0.71  # Prandtl number of air near room temperature (a property; White, Viscous Fluid Flow, table 1-2)
+RECOVERY_EXPONENT = 1.0 / 3.0  # r = Pr^(1/3), turbulent layers (laminar: Pr^(1/2), 0.84 for air; T* changes < 0.5 % at M 1)
+
+
+def _reference_state(case, p_abs: np.ndarray, rho_e: np.ndarray, ue: np.ndarray):
+    """A gas layer by the reference-temperature method: the incompressible integral relations with the
+    density and viscosity at Eckert's reference temperature (Eckert 1955, J. Aeronaut. Sci. 22(8),
+    "Engineering relations for friction and heat transfer to surfaces in high velocity flow"; as given by
+    Anderson, Fundamentals of Aerodynamics, ch. 18, eq. 18.53):
+        T*/Te = 1 + 0.032 Me^2 + 0.58 (Tw/Te - 1),
+    on an adiabatic wall, Tw = Taw = Te (1 + r (gamma - 1)/2 Me^2), r the recovery factor. The edge state
+    (p, rho, speed) is the Euler solution's at the wall face; Te = p/(rho R). Returns the reference
+    density rho* = rho_e Te/T* (same pressure), nu* = mu(T*)/rho*, and k = r (gamma - 1)/2 Me^2, for the
+    shape factor of the compressible layer H = H_i + k (H_i + 1): from delta* = int (T/Te - u/Ue) dY and
+    theta = int u/Ue (1 - u/Ue) dY in Howarth-Dorodnitsyn's variable dY = rho/rho_e dy, with the Crocco-
+    Busemann temperature T/Te = 1 + r (gamma - 1)/2 Me^2 (1 - u^2/Ue^2) of an adiabatic wall (derived)."""
+    f = case.fluid
+    Te = p_abs / (rho_e * f.gas_constant)
+    M2 = ue**2 / (f.gamma * f.gas_constant * Te)
+    r = AIR_PRANDTL**RECOVERY_EXPONENT
+    k = r * 0.5 * (f.gamma - 1.0) * M2
+    T_ref = Te * (1.0 + 0.032 * M2 + 0.58 * k)  # Taw/Te - 1 = k
+    rho_ref = rho_e * Te / T_ref
+    return rho_ref, _gas_mu(case, T_ref) / rho_ref, k
+
+
 def _tangent_x(table) -> np.ndarray:
     """x component of the unit tangent of each face, in the direction of increasing arc length."""
     nx, nr = table.nx, table.nr
@@ -314,7 +340,7 @@ def _energy_thickness(theta, H):
 # --- one chain -----------------------------------------------------------------------------------
 
 
-def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, settings: ViscousSettings, profile,
+def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.ndarray, settings: ViscousSettings, profile,
                 planar: bool, speed: np.ndarray | None = None, width: np.ndarray | None = None
                 ) -> tuple[ChainLayer, np.ndarray]:
     """The layer on one chain from the wall speed ``speed`` (default the table's), smoothed over
@@ -410,7 +436,11 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, settings: Vis
             Uc = np.maximum(u[: sel.size], carried_U)
             carried[sel] = carried_E / (rho[sel] * Uc**3 * perim[sel])
         i = slice(1, None)
-        theta[face_in_run], dstar[face_in_run], H[face_in_run] = w.theta[i], w.delta_star[i], w.H[i]
+        theta[face_in_run], H[face_in_run] = w.theta[i], w.H[i]
+        # a gas layer's displacement: H = H_i + k (H_i + 1) (see _reference_state; k = 0 for liquids)
+        kf = kcomp[face_in_run]
+        dstar[face_in_run] = w.delta_star[i] + kf * (w.H[i] + 1.0) * w.theta[i]
+        H[face_in_run] = w.H[i] + kf * (w.H[i] + 1.0)
         cf[face_in_run], tau[face_in_run], re_th[face_in_run] = w.cf[i], w.tau_w[i], w.Re_theta[i]
         state[face_in_run] = w.state[i]
         if w.transition_s is not None:
@@ -600,11 +630,10 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
         bv = flow.boundary[name]
         rho = bv.density[_face_index(bv.faces, table.faces)]
         if flow.compressible:
-            T = (table.pressure + case.ambient_pressure) / (rho * case.fluid.gas_constant)
-            nu = _gas_mu(case, T) / rho
+            rho, nu, k = _reference_state(case, table.pressure + case.ambient_pressure, rho, table.speed)
         else:
-            nu = np.full(table.s.size, mu_in / rho_in)
-        props[name] = (rho, nu)
+            nu, k = np.full(table.s.size, mu_in / rho_in), np.zeros(table.s.size)
+        props[name] = (rho, nu, k)
     chains, coupling_note = coupled_layers(tables, props, settings, profile, planar)
 
     friction = sum(c.friction_x_N for c in chains.values())
