@@ -56,6 +56,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..names import Boundary
+from ..solvers.base import FlowError
 from . import layer as L
 
 PIPE_TRANSITION_RE = 2300.0  # pipe flow is turbulent above about this Reynolds number (common practice)
@@ -245,11 +246,29 @@ def _face_index(bv_faces: np.ndarray, faces: np.ndarray) -> np.ndarray:
     return pos[np.searchsorted(bv_faces[pos], faces)]
 
 
+WATER_P_MAX = 100e6  # Pa, upper end of IAPWS-IF97 region 1 (Wagner et al. 2000), which the water viscosity uses
+MIN_LAYER_RE = 1000.0  # below it a bore flow has no inviscid core and thin wall layer: a laminar layer grown over one
+# diameter is already 5/sqrt(Re_D) = 0.16 D thick at Re_D = 1000 (Blasius, delta_99 = 5 x/sqrt(Re_x); Schlichting ch. 7)
+
+
 def _viscosity(case, flow) -> tuple[float, str]:
     from ..fluids.viscosity import viscosity
 
     f = case.fluid
     p_abs = flow.inlet_pressure + case.ambient_pressure
+    if f.kind in ("water", "seawater") and not p_abs <= WATER_P_MAX:
+        key = "inlet.flow_rate" if getattr(case.inlet, "flow_rate", None) is not None else "inlet.pressure"
+        raise FlowError(key, f"the inlet pressure of this operating point, {p_abs / 1e6:.4g} MPa (absolute), is above the "
+                        f"{WATER_P_MAX / 1e6:g} MPa of the water properties (IAPWS-IF97 region 1) that the wall layer's "
+                        "viscosity needs: lower the flow or pressure, or give the fluid as kind = \"liquid\" with its viscosity")
+    try:
+        return _viscosity_of(case, flow, f, p_abs, viscosity)
+    except (ValueError, NotImplementedError) as exc:
+        raise FlowError("fluid", f"no viscosity for the wall layer at the inlet state ({p_abs / 1e6:.4g} MPa absolute): "
+                        f"{exc}") from None
+
+
+def _viscosity_of(case, flow, f, p_abs, viscosity) -> tuple[float, str]:
     if f.kind == "water":
         return viscosity(f, None, p_abs), "IAPWS 2008 (Huber et al. 2009), at the fluid temperature and inlet pressure"
     if f.kind == "seawater":
@@ -328,7 +347,8 @@ def _start_theta(settings: ViscousSettings, ue0: float, nu0: float, r0: float, p
         # forgotten by Re_x = 1e5, where the flat-plate friction is within 1 % of Schlichting's, tests/test_viscous.py)
         return TURBULENT_ORIGIN_RE_THETA * nu0 / ue0 if settings.start == "turbulent" else None
     if settings.start == "laminar":
-        return math.sqrt(0.45 * nu0 * Lu / ue0)  # Thwaites' flat plate (the method's own value)
+        theta = math.sqrt(0.45 * nu0 * Lu / ue0)  # Thwaites' flat plate (the method's own value)
+        return theta if planar else min(theta, 2.0 / 15.0 * r0)  # at most Poiseuille's developed profile (rules.py)
     theta = 0.036 * Lu * (ue0 * Lu / nu0) ** -0.2  # one-seventh law, theta = (7/72) delta, delta = 0.37 x Re_x^-0.2
     return theta if planar else min(theta, 7.0 / 72.0 * r0)  # at most a fully developed pipe layer (delta = r)
 
@@ -624,6 +644,11 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
     re = rho_in * flow.inlet_velocity * d_h / mu_in
     basis = ("rho V d_h / mu on the inlet plane: mean velocity, hydraulic diameter 4 A / P (the bore diameter of a "
              "round pipe), viscosity at the inlet")
+    if not re >= MIN_LAYER_RE:
+        raise FlowError("fluid.viscosity" if case.fluid.kind == "liquid" else "fluid",
+                        f"the Reynolds number of this flow is {re:.3g} (viscosity {mu_in:.4g} Pa s), below the {MIN_LAYER_RE:g} "
+                        "where a bore flow has an inviscid core and a thin wall layer; neither the inviscid solution nor the "
+                        'wall layer describes it (set viscous.model = "none" to get the inviscid answer alone)')
     settings = settings.resolve(re, d_h)
     props = {}
     for name, table in tables.items():
