@@ -62,15 +62,14 @@ def iso_equation(re_D: float, beta: float = BETA) -> float:
 
 
 # --- ISO 5167-3 long-radius nozzle ---------------------------------------------------------------
-# The model: an inviscid core (discharge coefficient 1: computed C_inv = 1.0000) and the nozzle's own
-# wall layer, which starts afresh at the stagnation point in the concave corner of the inlet face
-# (laminar, Thwaites; Michel's transition in the throat at the highest Re). What it does not contain:
-# the standard's constant 0.9965 (rather than 1) and the part of its Re term that comes from the
-# approach flow: the fully developed pipe profile upstream of the calibrated nozzles, the tapping
-# geometry and the real transition. The approach layer here is thin (laminar from the upstream
-# tapping plane), so that the comparison is of the nozzle's own layer.
+# The model on the default settings: an inviscid core (discharge coefficient 1: computed C_inv = 1.0000),
+# the approach layer from the inlet plane (turbulent above Re 2300), which runs into the concave corner of
+# the inlet face, its deficit carried on through the nozzle, and the nozzle's own layer, which starts
+# afresh at the stagnation point in that corner (laminar, Thwaites; Michel's transition). What it does not
+# contain: a fully developed approach profile (the inviscid inflow is uniform), the tapping geometry and the
+# real transition. tests/test_wall_layer_physics.py checks the same on cases written as a user writes them.
 
-ISO_START = {"start": "laminar"}
+ISO_START = {}  # the default settings (the approach layer from the inlet plane)
 
 
 def test_iso_long_radius_nozzle_discharge_coefficient_at_re_1e6():

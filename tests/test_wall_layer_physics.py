@@ -59,7 +59,7 @@ def iso_run(tmp_path: Path, beta: float, re_D: float) -> dict:
     # 100 MPa): D = 100 mm up to Re_D = 1e6, 500 mm above
     D = 0.1 if re_D <= 1e6 else 0.5
     v = solve_case(load_case(iso_nozzle_case(tmp_path / f"b{beta}_re{re_D:g}", beta, re_D, D))).summary()["viscous"]
-    assert v["reynolds_number"] == pytest.approx(re_D, rel=2e-3)
+    assert v["reynolds_number"] == pytest.approx(re_D, rel=1e-2)  # viscosity at the inlet pressure (up to 25 MPa)
     assert v["discharge_coefficient_inviscid"] == pytest.approx(1.0, abs=3e-4)  # the well-rounded nozzle's inviscid C
     return v
 
