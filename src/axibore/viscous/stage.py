@@ -451,10 +451,12 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
             # beside the new layer with the total-pressure deficit it carried: int dp0 dQ = E, its kinetic-
             # energy deficit flux (rho/2) P ue^3 delta_3 (derived). Where the edge speed is Uc >> the deficit
             # speed scale, its speed is Uc - dp0/(rho Uc) and its displacement area int (1 - u/Uc) dA =
-            # E/(rho Uc^3) (first order in dp0/(rho Uc^2); derived). Uc is not taken below the edge speed
-            # where E was taken (the corner flow, where the deficit fluid turns in the corner vortex).
-            Uc = np.maximum(u[: sel.size], carried_U)
-            carried[sel] = carried_E / (rho[sel] * Uc**3 * perim[sel])
+            # E/(rho Uc^3) (first order in dp0/(rho Uc^2); derived). Where the edge speed is still below the one
+            # at which E was taken, the deficit fluid is still turning in the corner flow (the corner vortex): its
+            # displacement there is blended in with the edge speed, ue/U_E E/(rho U_E^3) (a blend, not a law; the
+            # stations of the discharge coefficient lie downstream, where ue is well above U_E).
+            ur = u[: sel.size]
+            carried[sel] = carried_E * np.minimum(ur / carried_U, 1.0) / (rho[sel] * np.maximum(ur, carried_U) ** 3 * perim[sel])
         i = slice(1, None)
         theta[face_in_run], H[face_in_run] = w.theta[i], w.H[i]
         # a gas layer's displacement: H = H_i + k (H_i + 1) (see _reference_state; k = 0 for liquids)
