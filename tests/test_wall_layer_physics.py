@@ -101,8 +101,10 @@ def test_iso_nozzle_reynolds_trend_on_the_default_path(tmp_path):
 @pytest.mark.slow
 @pytest.mark.parametrize("beta", [0.3, 0.5, 0.6])
 def test_iso_nozzle_over_the_standards_range(tmp_path, beta, capsys):
-    # C_inviscid - C_viscous against the standard's 1 - C over Re_D 1e4 to 1e7: within 20 % or 0.003
-    # (the larger; 1 - C is 0.005 to 0.054 here), and falling with Re_D as the standard's does
+    # C_inviscid - C_viscous against the standard's 1 - C over Re_D 1e4 to 1e7: within 20 % or 0.0035
+    # (the larger; 1 - C is 0.0046 to 0.054 here, so an inviscid C = 1 fails everywhere), and falling with
+    # Re_D as the standard's does. 0.0035 is the standard's own constant (0.9965 rather than 1), which is
+    # not a Reynolds-number effect: at beta 0.3 and Re_D 1e7 the model gives 0.0014 against 0.0046.
     res = [1e4, 1e5, 1e6, 1e7]
     dC = []
     for re in res:
@@ -113,7 +115,7 @@ def test_iso_nozzle_over_the_standards_range(tmp_path, beta, capsys):
         with capsys.disabled():
             print(f"\nISO 5167-3 beta {beta} Re_D {re:.0e}: C_inv - C_visc {d:.5f}, standard 1 - C {1 - iso_C(beta, re):.5f}, "
                   f"K {v['loss_coefficient']:.4g}")
-        assert abs(d - (1.0 - iso_C(beta, re))) <= max(0.003, 0.2 * (1.0 - iso_C(beta, re)))
+        assert abs(d - (1.0 - iso_C(beta, re))) <= max(0.0035, 0.2 * (1.0 - iso_C(beta, re)))
     assert np.all(np.diff(dC) < 0.0)
 
 
