@@ -116,7 +116,10 @@ class ViscousSettings:
                 "displacement_tolerance": self.displacement_tolerance,
                 "taps_x_m": list(self.taps) if self.taps else None, "coupling": self.coupling,
                 "restart_corner_deg": RESTART_CORNER_DEG, "smoothing_faces": SMOOTH_FACES,
-                "turbulent_start_shape_factor": L.TURBULENT_START_H}
+                "turbulent_start_shape_factor": L.TURBULENT_START_H,
+                "approach_layer": ("from zero thickness at the inlet plane, where the inviscid solution has a uniform stream"
+                                   if self.start_momentum_thickness is None and not self.upstream_length else
+                                   "given (start_momentum_thickness or upstream_length)")}
 
 
 @dataclass(frozen=True, eq=False)
