@@ -125,7 +125,27 @@ def test_iso_nozzle_high_ratio_keeps_the_bounds(tmp_path, re_D):
     # beta 0.75: the model's viscous change exceeds the standard's by 40-50 % (its 1/(1 - beta^4)
     # amplification of the throat blockage, derived from C = (1 - B) sqrt(1 - beta^4)/sqrt(1 - beta^4 (1 -
     # B)^2), is absent from the standard's equation); the bounds hold
-    _check_bounds(iso_run(tmp_path, 0.75, re_D))
+    v = iso_run(tmp_path, 0.75, re_D)
+    _check_bounds(v)
+    # the approach layer decelerating into the inlet face's corner blew up in the coupling before (momentum
+    # thickness exploding, the carried deficit 5e4 times too large, 25 iterations without settling)
+    assert v["coupling_state"]["converged"] and v["coupling_state"]["iterations"] <= 10
+
+
+def test_a_layer_never_thicker_than_a_quarter_of_the_channel():
+    # a turbulent layer (theta0 = 1 mm) in a mild deceleration grows; in a channel of half-height 10 mm it is
+    # ended where delta* reaches 2.5 mm (blockage 2 delta*/r = 0.5 of a round bore), marked separated
+    from axibore.viscous.layer import SEPARATED, march
+
+    s = np.linspace(0.0, 2.0, 201)
+    w = march(s, None, 10.0 * (1.0 - 0.3 * s / 2.0), 1e-6, planar=True, start="turbulent", theta0=1e-3, rho=1000.0)
+    assert w.separation_s is None and np.nanmax(w.delta_star) > 2.5e-3  # the unbounded march goes beyond
+    b = stage._bounded_by_channel(w, np.full(s.size, 0.01), np.zeros(s.size))
+    j = int(np.argmax(w.delta_star > 2.5e-3))
+    assert b.separation_kind == "thick" and b.separation_s == s[j]
+    assert np.all(b.state[j:] == SEPARATED) and np.all(np.isnan(b.delta_star[j:]))
+    assert np.nanmax(b.delta_star) <= 2.5e-3
+    np.testing.assert_array_equal(b.theta[:j], w.theta[:j])
 
 
 # --- bounds on other shapes -----------------------------------------------------------------------
