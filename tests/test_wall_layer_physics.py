@@ -273,6 +273,18 @@ def test_a_flow_without_thin_layers_is_refused(tmp_path, capsys):
     assert rc == 2 and "Traceback" not in err and "fluid.viscosity" in err and "Reynolds number" in err
 
 
+def test_water_pressure_beyond_its_property_range_stops_before_any_work(tmp_path, capsys):
+    # IAPWS-IF97 region 1 ends at 100 MPa (Wagner et al. 2000): a 2000 bar supply is refused by the case check
+    path = tmp_path / "hp.toml"
+    path.write_text('title = "hp"\n[fluid]\nkind = "water"\ntemperature = "20 degC"\n[bore]\ntemplate = "conical"\n'
+                    'inlet_diameter = "100 mm"\nexit_diameter = "50 mm"\nhalf_angle = "30 deg"\ninlet_length = "100 mm"\n'
+                    'tip_length = "30 mm"\n[inlet]\npressure = "2000 bar"\n[outlet]\nkind = "exit-plane"\n')
+    rc = main(["run", str(path), "--out", str(tmp_path / "run")])
+    err = capsys.readouterr().err
+    assert rc == 2 and "Traceback" not in err and "inlet.pressure" in err and "200 MPa" in err and "100 MPa" in err
+    assert not (tmp_path / "run").exists()
+
+
 def test_water_beyond_its_property_range_is_a_message(tmp_path, capsys):
     # beta 0.3 at Re_D 1e7 in a 100 mm pipe needs about 600 MPa: beyond IAPWS-IF97 region 1 (100 MPa,
     # Wagner et al. 2000), where the water viscosity is not defined

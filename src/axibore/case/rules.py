@@ -66,6 +66,13 @@ def cross_checks(m: CaseModel) -> list[tuple[str, str]]:
         elif i.pressure is not None and i.flow_rate is not None and o.pressure is not None:
             problems.append(("outlet.pressure", "over-determined: inlet.pressure and inlet.flow_rate already fix the outlet "
                              f"pressure; give two of the three. {OPERATING_POINTS}"))
+        if f.kind in ("water", "seawater"):
+            # the water properties (density, vapour pressure, viscosity) are those of IAPWS-IF97 region 1, which ends at
+            # 100 MPa (Wagner et al. 2000)
+            if i.pressure is not None and not i.pressure + o.ambient_pressure <= 100e6:
+                problems.append(("inlet.pressure", f"expected at most {(100e6 - o.ambient_pressure) / 1e6:.6g} MPa gauge "
+                                 f"for {f.kind} (its properties, IAPWS-IF97 region 1, end at 100 MPa absolute), got "
+                                 f"{i.pressure / 1e6:.6g} MPa"))
         if i.pressure is not None and i.flow_rate is None:
             p_out = o.pressure if o.pressure is not None else 0.0
             if not i.pressure > p_out:
