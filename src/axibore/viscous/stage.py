@@ -20,8 +20,24 @@ How a chain is marched (the methods are in ``layer.py``)
   ``RESTART_CORNER_DEG`` or more (the inviscid flow stagnates in such a corner, e.g. the inlet
   face of a flow nozzle in its pipe): the layer arriving there decelerates to zero speed and
   separates (a corner vortex), and a new laminar layer grows from the stagnation point.
+  By default the layer at the inlet plane has zero thickness (see ``ViscousSettings.resolve``).
+- The deficit of a run that ends at a restart is carried on: its fluid passes on beside the new
+  layer with the total-pressure deficit it had, displacing the core by E/(rho ue^3) (E its kinetic-
+  energy deficit flux; derived in ``march_chain``) and counting in the loss.
 - Separation ends a run: the faces up to the next restart (or the end of the chain) are marked
-  separated, their values NaN, and counted with no wall shear.
+  separated, their values NaN, and counted with no wall shear. So does a layer whose displacement
+  thickness reaches a quarter of the wall's distance from the axis (it would fill the channel).
+
+Bounds by construction
+----------------------
+With the layer starting at zero thickness at the upstream station, the blockage there is zero and
+it is positive downstream, so the pressure difference only grows: the viscous discharge
+coefficient is at most the inviscid one. Where an approach layer given by the user sits at the
+upstream station, the quasi-1D estimate could exceed the inviscid value (the approach-velocity-
+profile effect); the number is then withheld with the reason. The loss coefficient comes from the
+growth of the deficit fluxes (each run's largest, the energy equation allowing no fall), withheld
+if the total would be negative. Gases: the reference-temperature method of Eckert (1955) on an
+adiabatic wall (``_reference_state``).
 
 Derived quantities
 ------------------
@@ -95,8 +111,8 @@ class ViscousSettings:
         Default (no ``start``, no start thickness, no upstream length): the layer starts from zero
         thickness at the inlet plane, turbulent above the pipe-flow Reynolds number 2300 (from a virtual
         origin at the inlet plane, Re_theta = 10, as Schlichting's flat-plate formula assumes), else
-        laminar (then Michel's transition). The inlet plane is where the inviscid solution imposes a uniform stream; a layer already grown
-        there would contradict that inflow (its displacement would speed up the core at the upstream
+        laminar (then Michel's transition). The inlet plane is where the inviscid solution imposes a
+        uniform stream; a layer already grown there would contradict that inflow (its displacement would speed up the core at the upstream
         station, and its kinetic-energy excess, the approach-velocity-profile effect, would raise the
         discharge coefficient above the inviscid one without any loss: the quasi-1D view cannot tell it
         from a wall effect). The layer thus models a bore fed from a uniform stream, e.g. through a
@@ -838,7 +854,8 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
                             "the thin-layer estimate is stretched there")
     notes = [
         "wall layer: Thwaites (laminar, axisymmetric form of Rott & Crabtree), Michel's transition, Head's entrainment "
-        "method with the flat-plate friction of Schlichting in Re_theta and the shape dependence of Ludwieg & Tillmann (turbulent), marched on the smoothed inviscid wall speed",
+        "method with the flat-plate friction of Schlichting in Re_theta and the shape dependence of Ludwieg & "
+        "Tillmann (turbulent), marched on the smoothed inviscid wall speed; gases at Eckert's reference temperature",
         "friction_x_N: wall shear integrated over the wall, by the fluid on the part, +x downstream; separated faces "
         "count with no shear",
     ]
