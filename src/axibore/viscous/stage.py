@@ -559,8 +559,12 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
                 corner_seps += 1
         if k == len(bounds) - 1:
             j = face_in_run[-1]
-            end_def = (0.5 * rho[j] * perim[j] * ue_all[j] ** 3 * float(_energy_thickness(theta[j], H[j]))
-                       if state[j] != L.SEPARATED else float("nan"))
+            if state[j] != L.SEPARATED:
+                # the largest along the run (the deficit flux only grows; see the carried deficit above)
+                jj = face_in_run[np.isfinite(theta[face_in_run]) & (state[face_in_run] != L.SEPARATED)]
+                end_def = float(np.max(0.5 * rho[jj] * perim[jj] * ue_all[jj] ** 3 * _energy_thickness(theta[jj], H[jj])))
+            else:
+                end_def = float("nan")
     return ChainLayer(name, table.faces, x_all, r_all, s_all, ue_all, theta, dstar, H, cf, tau, state, re_th, tx, area,
                       rho, perim, tuple(runs), tuple(transitions), tuple(separations), mom_fx, start_def, end_def,
                       carried, carried_E, start_disp, corner_seps), width_next
