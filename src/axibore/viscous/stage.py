@@ -266,6 +266,10 @@ def _face_index(bv_faces: np.ndarray, faces: np.ndarray) -> np.ndarray:
     return pos[np.searchsorted(bv_faces[pos], faces)]
 
 
+class LayerWithheld(Exception):
+    """The wall layer is not computed for this flow (the reason is the message); the run goes on without it."""
+
+
 WATER_P_MAX = 100e6  # Pa, upper end of IAPWS-IF97 region 1 (Wagner et al. 2000), which the water viscosity uses
 MIN_LAYER_RE = 1000.0  # below it a bore flow has no inviscid core and thin wall layer: a laminar layer grown over one
 # diameter is already 5/sqrt(Re_D) = 0.16 D thick at Re_D = 1000 (Blasius, delta_99 = 5 x/sqrt(Re_x); Schlichting ch. 7)
@@ -749,10 +753,10 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
     basis = ("rho V d_h / mu on the inlet plane: mean velocity, hydraulic diameter 4 A / P (the bore diameter of a "
              "round pipe), viscosity at the inlet")
     if not re >= MIN_LAYER_RE:
-        raise FlowError("fluid.viscosity" if case.fluid.kind == "liquid" else "fluid",
-                        f"the Reynolds number of this flow is {re:.3g} (viscosity {mu_in:.4g} Pa s), below the {MIN_LAYER_RE:g} "
-                        "where a bore flow has an inviscid core and a thin wall layer; neither the inviscid solution nor the "
-                        'wall layer describes it (set viscous.model = "none" to get the inviscid answer alone)')
+        raise LayerWithheld(f"no wall layer: the Reynolds number of this flow is {re:.3g} (fluid viscosity {mu_in:.4g} Pa s), "
+                            f"below the {MIN_LAYER_RE:g} where a bore flow has a thin wall layer beside an inviscid core; "
+                            "no friction, viscous discharge coefficient or loss coefficient is given, and the inviscid "
+                            "answer itself is far from such a viscous flow")
     settings = settings.resolve(re, d_h)
     props = {}
     for name, table in tables.items():
