@@ -85,7 +85,8 @@ def describe(case: Case, cells: int | None = None) -> list[str]:
     if case.viscous_model == "integral":
         start = v.start or "turbulent above Re 2300, else laminar"
         grown = (f", start momentum thickness {show(v.start_momentum_thickness, 'length')}" if v.start_momentum_thickness
-                 else f", grown over {show(v.upstream_length, 'length')} upstream" if v.upstream_length is not None else "")
+                 else f", grown over {show(v.upstream_length, 'length')} upstream" if v.upstream_length
+                 else ", from zero thickness at the inlet plane (uniform inflow)")
         tr = v.transition if isinstance(v.transition, str) else f"forced at x = {show(v.transition, 'length')}"
         lines.append(f"viscous   wall layer (integral): start {start}{grown}; transition {tr}; turbulent separation at "
                      f"H = {v.separation_shape_factor:g}; coupling {v.coupling}; displacement pass {v.displacement}")

@@ -33,7 +33,7 @@ from .post.stream import stream_function
 from .solvers import SOLVERS
 from .solvers.base import FlowError, FlowResult
 from .view.report import write_report
-from .viscous.stage import ViscousResult, viscous_stage
+from .viscous.stage import LayerWithheld, ViscousResult, viscous_stage
 
 Progress = Callable[[str, str], None]
 
@@ -103,8 +103,11 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
     viscous = None
     if case.viscous_model == "integral":  # the wall layer: adds results, changes no inviscid number
         t = time.perf_counter()
-        viscous = viscous_stage(case, profile, build.mesh, flow, tables, od, progress, build)
-        chk.warnings.extend(viscous.warnings)
+        try:
+            viscous = viscous_stage(case, profile, build.mesh, flow, tables, od, progress, build)
+            chk.warnings.extend(viscous.warnings)
+        except LayerWithheld as exc:  # the flow has no thin wall layer: the run goes on without it, saying why
+            chk.warnings.append(str(exc))
         sec["viscous"] = time.perf_counter() - t
     jt = jet_table(flow, profile, solved.jet.lip_faces) if solved.jet is not None else None
     return RunResult(case, profile, build.mesh, build, flow, tables, frc, od, chk, sec, build.mesh.quality(),

@@ -85,6 +85,13 @@ def cross_checks(m: CaseModel) -> list[tuple[str, str]]:
         elif i.pressure is not None and i.flow_rate is not None and o.pressure is not None:
             problems.append(("outlet.pressure", "over-determined: inlet.pressure and inlet.flow_rate already fix the outlet "
                              f"pressure; give two of the three. {OPERATING_POINTS}"))
+        if f.kind in ("water", "seawater"):
+            # the water properties (density, vapour pressure, viscosity) are those of IAPWS-IF97 region 1, which ends at
+            # 100 MPa (Wagner et al. 2000)
+            if i.pressure is not None and not i.pressure + o.ambient_pressure <= 100e6:
+                problems.append(("inlet.pressure", f"expected at most {(100e6 - o.ambient_pressure) / 1e6:.6g} MPa gauge "
+                                 f"for {f.kind} (its properties, IAPWS-IF97 region 1, end at 100 MPa absolute), got "
+                                 f"{i.pressure / 1e6:.6g} MPa"))
         if i.pressure is not None and i.flow_rate is None:
             p_out = o.pressure if o.pressure is not None else 0.0
             if not i.pressure > p_out:
@@ -123,8 +130,25 @@ def viscous_checks(m: CaseModel) -> list[tuple[str, str]]:
     return problems
 
 
+# The thickest momentum thickness a pipe layer reaches: Poiseuille's fully developed profile,
+# u/Uc = 2 eta - eta^2 (eta = y/r), theta = r int_0^1 (2 eta - eta^2)(1 - eta)^2 d eta = 2 r/15 (derived; the
+# one-seventh-law turbulent profile filling the pipe gives 7 r/72, less)
+MAX_START_THETA_FRACTION = 2.0 / 15.0
+MAX_UPSTREAM_DIAMETERS = 1000.0  # an approach pipe longer than this is fully developed many times over
+
+
 def viscous_position_checks(m: CaseModel, profile) -> list[tuple[str, str]]:
     v, problems = m.viscous, []
+    r_in = float(profile.r_inlet)
+    if v.start_momentum_thickness is not None and not v.start_momentum_thickness <= MAX_START_THETA_FRACTION * r_in:
+        problems.append(("viscous.start_momentum_thickness",
+                         f"expected at most {MAX_START_THETA_FRACTION * r_in * 1e3:.4g} mm (2/15 of the inlet radius "
+                         f"{r_in * 1e3:.4g} mm: a fully developed laminar pipe profile, the thickest layer a pipe carries), "
+                         f"got {v.start_momentum_thickness * 1e3:.6g} mm"))
+    if v.upstream_length is not None and not v.upstream_length <= MAX_UPSTREAM_DIAMETERS * 2.0 * r_in:
+        problems.append(("viscous.upstream_length",
+                         f"expected at most {MAX_UPSTREAM_DIAMETERS * 2.0 * r_in:.6g} m ({MAX_UPSTREAM_DIAMETERS:g} inlet "
+                         f"diameters; the approach layer is fully developed long before), got {v.upstream_length:.6g} m"))
     lo, hi = profile.x_inlet - profile.tol, profile.x_outlet + profile.tol
     for key, xs in (("viscous.taps", v.taps or ()), ("viscous.transition", [v.transition] if isinstance(v.transition, float) else [])):
         for x in xs:

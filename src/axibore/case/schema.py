@@ -87,7 +87,20 @@ Temperature = Annotated[float, _quantity("temperature"), AfterValidator(_positiv
 Density = Annotated[float, _quantity("density"), AfterValidator(_positive)]
 HalfAngle = Annotated[float, _quantity("angle"), AfterValidator(_half_angle)]
 GasConstant = Annotated[float, _quantity("specific_gas_constant"), AfterValidator(_positive)]
-Viscosity = Annotated[float, _quantity("dynamic_viscosity"), AfterValidator(_positive)]
+# A liquid's dynamic viscosity, bounded by physics: from 1e-6 Pa s (below liquid helium's, about 3e-6 Pa s,
+# the thinnest liquid) to 1e4 Pa s (a molten polymer or bitumen; a thicker fluid in a bore of some centimetres
+# flows at a Reynolds number far below one, where no thin wall layer and no inviscid core exist)
+VISCOSITY_MIN, VISCOSITY_MAX = 1e-6, 1e4
+
+
+def _plausible_viscosity(value: float) -> float:
+    if not VISCOSITY_MIN <= value <= VISCOSITY_MAX:
+        raise PydanticCustomError("plausible", f"expected a dynamic viscosity from {VISCOSITY_MIN:g} to {VISCOSITY_MAX:g} Pa s "
+                                  f"(the thinnest to the thickest liquids a wall layer can describe), got {value:.6g} Pa s")
+    return value
+
+
+Viscosity = Annotated[float, _quantity("dynamic_viscosity"), AfterValidator(_positive), AfterValidator(_plausible_viscosity)]
 
 
 def _flow_rate(value: Any) -> tuple[str, float]:
@@ -262,7 +275,7 @@ class ViscousSpec(_Section):
     """The wall layer (viscous/stage.py): integral boundary layer on every wall chain."""
 
     model: Literal["integral", "none"] | None = None  # None: "integral" where the fluid's viscosity is known
-    start: Literal["laminar", "turbulent"] | None = None  # None: turbulent above the pipe-flow Reynolds number 2300
+    start: Literal["laminar", "turbulent"] | None = None  # None: from zero thickness at the inlet plane, turbulent above Re 2300 (viscous/stage.py)
     start_momentum_thickness: PosLength | None = None
     upstream_length: NonNegLength | None = None
     transition: Annotated[Union[str, float], BeforeValidator(_transition)] = "michel"

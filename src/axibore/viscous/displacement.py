@@ -25,9 +25,12 @@ import numpy as np
 
 from ..names import Boundary
 from ..solvers import SOLVERS
+from ..solvers.base import FlowError
 from ..solvers.walls import wall_tables
+from .march import discharge_coefficient, smooth_speed, wall_layers
 
 CLIP_FRACTION = 0.2  # delta* applied at most this share of the local channel height
+FACE_FRACTION = 0.5  # ... and of the wall face's own length (a thick layer in a concave corner would fold cells)
 BLEND_CELLS = 3.0  # the displacement fades to zero over this many cells from the wall (at least)
 MAX_PASSES = 8
 NEIGHBOURS = 16  # wall nodes whose displacement an interior node takes (inverse-distance weighted)
@@ -105,8 +108,9 @@ def displaced_mesh(mesh, delta: dict[str, tuple[np.ndarray, np.ndarray]], channe
     cap = CLIP_FRACTION * channel
     for name, (faces, d) in delta.items():
         d = np.asarray(d, float)
-        clipped |= bool(np.any(d > cap))
-        d = np.clip(d, 0.0, cap)
+        cap_f = np.minimum(cap, FACE_FRACTION * mesh.face_length[faces])
+        clipped |= bool(np.any(d > cap_f))
+        d = np.clip(d, 0.0, cap_f)
         fn = mesh.face_nodes[faces]
         vec = -mesh.face_normal[faces] * d[:, None]  # into the fluid
         for k in (0, 1):
@@ -149,18 +153,16 @@ def displaced_mesh(mesh, delta: dict[str, tuple[np.ndarray, np.ndarray]], channe
 
 
 def _deltas(layer, tables) -> dict[str, tuple[np.ndarray, np.ndarray]]:
-    from .stage import smooth_speed
-
+    """(faces, displacement thickness) of every chain, smoothed and never negative."""
     out = {}
     for name, c in layer.chains.items():
-        d = _held(np.asarray(c.delta_star, float))
+        d = _held(np.asarray(c.displacement, float))  # the layer's and the carried deficit fluid's
         out[name] = (np.asarray(tables[name].faces), np.maximum(smooth_speed(d, 3.0), 0.0))
     return out
 
 
 def displacement_pass(case, profile, mesh, flow, tables, onedim, layer, progress=None) -> DisplacementResult:
-    from .stage import discharge_coefficient, wall_layers
-
+    """The flow solved again on the wall displaced by the layer (module docstring)."""
     t0 = time.perf_counter()
     s = layer.settings
     mode = s.displacement
@@ -177,7 +179,12 @@ def displacement_pass(case, profile, mesh, flow, tables, onedim, layer, progress
     clipped_any = False
     dmax = 0.0
     for k in range(1, passes_max + 1):
-        mesh_k, dmax, clipped = displaced_mesh(mesh, deltas, channel, h)
+        try:
+            mesh_k, dmax, clipped = displaced_mesh(mesh, deltas, channel, h)
+        except ValueError as exc:
+            raise FlowError("viscous.displacement", f"the wall cannot be displaced on this mesh: {exc}; refine the mesh "
+                            '(mesh.level) or set viscous.displacement = "none" (the blockage coupling of the wall layer '
+                            "still gives the viscous discharge coefficient)") from None
         clipped_any |= clipped
         flow_k = solver(case, profile, mesh_k, None)
         p_wall, F = {}, {}
@@ -218,7 +225,8 @@ def displacement_pass(case, profile, mesh, flow, tables, onedim, layer, progress
         cd, _ = discharge_coefficient(flow_k, profile, real, s.taps, None, planar)
     if clipped_any:
         warnings.append(f"displacement pass: delta* clipped at {CLIP_FRACTION:.0%} of the narrowest channel height "
-                        f"({channel * 1e3:.4g} mm): the layer is too thick there for a displacement correction")
+                        f"({channel * 1e3:.4g} mm) or {FACE_FRACTION:.0%} of a wall face's length: the layer is too thick "
+                        "there for a displacement correction on this mesh")
     if mode == "iterate" and not converged:
         warnings.append(f"displacement pass: not converged in {MAX_PASSES} passes to {s.displacement_tolerance:g}")
     return DisplacementResult(

@@ -1,0 +1,308 @@
+"""The wall layer on the default path, on cases written as a user writes them: physical bounds,
+the flow-measurement standard's Reynolds trend, gas layers and bad input.
+
+Each check names its source beside it.
+"""
+
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from axibore.case import CaseError, load_case
+from axibore.cli import main
+from axibore.fluids import resolve_water
+from axibore.fluids.viscosity import viscosity
+from axibore.run import solve_case
+from axibore.viscous import march as stage
+
+CASES = Path(__file__).resolve().parents[1] / "cases"
+
+
+# --- ISO 5167-3 long-radius nozzle, written as a user writes it --------------------------------------
+
+
+def iso_nozzle_case(folder: Path, beta: float, re_D: float, D: float = 0.1, extra: str = "") -> Path:
+    """A high-ratio long-radius nozzle (ISO 5167-3:2003 as SOURCES.md describes its text): a quarter
+    ellipse from the pipe wall at the inlet face, semi-axes D/2 along the axis and (D - d)/2 across,
+    then a cylindrical throat 0.6 d long; the pipe from the upstream tapping, D before the inlet face.
+    The outline goes into a points file in mm, the flow rate for Re_D into the case file, all else
+    default. The outlet is the throat's exit plane: the downstream tapping D/2 after the inlet face
+    lies in the pipe wall, in the dead space around the nozzle, and reads the jet's pressure."""
+    folder.mkdir(parents=True, exist_ok=True)
+    d = beta * D
+    a, b = D / 2, (D - d) / 2
+    rows = [(-D, D / 2), (0.0, D / 2)]
+    rows += [(D / 2 - a * math.cos(u), D / 2 - b * math.sin(u)) for u in np.linspace(0.0, math.pi / 2, 41)[1:]]
+    rows.append((D / 2 + 0.6 * d, d / 2))
+    (folder / "nozzle.csv").write_text("x,r\n" + "\n".join(f"{x * 1e3:.6f},{r * 1e3:.6f}" for x, r in rows) + "\n")
+    water = resolve_water(293.15, 101325.0)
+    V = re_D * viscosity(water, 293.15, 101325.0) / (water.density * D)
+    (folder / "case.toml").write_text(
+        f'title = "ISO 5167-3 long-radius nozzle, beta {beta}"\n'
+        '[fluid]\nkind = "water"\ntemperature = "20 degC"\n'
+        '[bore]\ntemplate = "points"\nfile = "nozzle.csv"\nunit = "mm"\n'
+        f'[inlet]\nflow_rate = "{V * math.pi * D**2 / 4 * 1e3:.9g} l/s"\n'
+        '[outlet]\nkind = "exit-plane"\n' + extra)
+    return folder / "case.toml"
+
+
+def iso_C(beta: float, re_D: float) -> float:
+    # ISO 5167-3:2003, long-radius nozzles: C = 0.9965 - 0.00653 beta^0.5 (1e6/Re_D)^0.5
+    return 0.9965 - 0.00653 * beta**0.5 * (1e6 / re_D) ** 0.5
+
+
+def iso_run(tmp_path: Path, beta: float, re_D: float) -> dict:
+    # a pipe large enough that the throat speed stays that of a water meter (the water properties end at
+    # 100 MPa): D = 100 mm up to Re_D = 1e6, 500 mm above
+    D = 0.1 if re_D <= 1e6 else 0.5
+    v = solve_case(load_case(iso_nozzle_case(tmp_path / f"b{beta}_re{re_D:g}", beta, re_D, D))).summary()["viscous"]
+    assert v["reynolds_number"] == pytest.approx(re_D, rel=1e-2)  # viscosity at the inlet pressure (up to 25 MPa)
+    assert v["discharge_coefficient_inviscid"] == pytest.approx(1.0, abs=3e-4)  # the well-rounded nozzle's inviscid C
+    return v
+
+
+def _check_bounds(v: dict):
+    assert v["discharge_coefficient"] is not None, v["discharge_coefficient_note"]
+    assert v["discharge_coefficient"] < v["discharge_coefficient_inviscid"]
+    assert v["loss_coefficient"] is not None and v["loss_coefficient"] > 0.0, v["loss_coefficient_note"]
+
+
+def test_iso_nozzle_reynolds_trend_on_the_default_path(tmp_path):
+    # beta 0.5, Re_D 1e4 and 1e6. The standard's C rises by 0.0413 between them; the viscous change
+    # C_inviscid - C_viscous must follow it within 25 % (0.010, a quarter of the effect), and at each
+    # Re_D lie within 20 % of the standard's 1 - C (which includes its constant 0.0035, the approach
+    # layer's deficit carried through the nozzle in the model). Before this work, the default path gave
+    # C = 1.0051 (above the inviscid 1.0000) and K = -0.016 at beta 0.6, Re_D 3e5.
+    lo, hi = (iso_run(tmp_path, 0.5, re) for re in (1e4, 1e6))
+    for v in (lo, hi):
+        _check_bounds(v)
+    d_lo = lo["discharge_coefficient_inviscid"] - lo["discharge_coefficient"]
+    d_hi = hi["discharge_coefficient_inviscid"] - hi["discharge_coefficient"]
+    std = iso_C(0.5, 1e6) - iso_C(0.5, 1e4)
+    assert d_lo - d_hi == pytest.approx(std, rel=0.25)
+    assert d_lo == pytest.approx(1.0 - iso_C(0.5, 1e4), rel=0.2)
+    assert d_hi == pytest.approx(1.0 - iso_C(0.5, 1e6), rel=0.25)
+    # where the layers start: the approach layer at the inlet plane, a new laminar one at the stagnation
+    # point of the inlet face's concave corner
+    runs = hi["layers"]["wall"]["runs"]
+    assert runs[0]["start"] == "inlet plane" and runs[1]["start"] == "stagnation point in a concave corner"
+    assert hi["settings"]["start"] == "turbulent" and hi["settings"]["upstream_length_m"] is None
+    # the blockage coupling settles, and says so in numbers (before: not settled after 25 iterations, B still
+    # changing by 0.061, at beta 0.6 Re_D 3e5)
+    for v in (lo, hi):
+        c = v["coupling_state"]
+        assert c["mode"] == "blockage" and c["converged"] and c["iterations"] <= 10
+        assert c["last_change"] < c["tolerance"] and 0.0 < c["largest_blockage"] < 0.1
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("beta", [0.3, 0.5, 0.6])
+def test_iso_nozzle_over_the_standards_range(tmp_path, beta, capsys):
+    # C_inviscid - C_viscous against the standard's 1 - C over Re_D 1e4 to 1e7: within 20 % or 0.0035
+    # (the larger; 1 - C is 0.0046 to 0.054 here, so an inviscid C = 1 fails everywhere), and falling with
+    # Re_D as the standard's does. 0.0035 is the standard's own constant (0.9965 rather than 1), which is
+    # not a Reynolds-number effect: at beta 0.3 and Re_D 1e7 the model gives 0.0014 against 0.0046.
+    res = [1e4, 1e5, 1e6, 1e7]
+    dC = []
+    for re in res:
+        v = iso_run(tmp_path, beta, re)
+        _check_bounds(v)
+        d = v["discharge_coefficient_inviscid"] - v["discharge_coefficient"]
+        dC.append(d)
+        with capsys.disabled():
+            print(f"\nISO 5167-3 beta {beta} Re_D {re:.0e}: C_inv - C_visc {d:.5f}, standard 1 - C {1 - iso_C(beta, re):.5f}, "
+                  f"K {v['loss_coefficient']:.4g}")
+        assert abs(d - (1.0 - iso_C(beta, re))) <= max(0.0035, 0.2 * (1.0 - iso_C(beta, re)))
+    assert np.all(np.diff(dC) < 0.0)
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("re_D", [1e4, 1e6])
+def test_iso_nozzle_high_ratio_keeps_the_bounds(tmp_path, re_D):
+    # beta 0.75: the model's viscous change exceeds the standard's by 40-50 % (its 1/(1 - beta^4)
+    # amplification of the throat blockage, derived from C = (1 - B) sqrt(1 - beta^4)/sqrt(1 - beta^4 (1 -
+    # B)^2), is absent from the standard's equation); the bounds hold
+    v = iso_run(tmp_path, 0.75, re_D)
+    _check_bounds(v)
+    # the approach layer decelerating into the inlet face's corner blew up in the coupling before (momentum
+    # thickness exploding, the carried deficit 5e4 times too large, 25 iterations without settling)
+    assert v["coupling_state"]["converged"] and v["coupling_state"]["iterations"] <= 10
+
+
+def test_a_layer_never_thicker_than_a_quarter_of_the_channel():
+    # a turbulent layer (theta0 = 1 mm) in a mild deceleration grows; in a channel of half-height 10 mm it is
+    # ended where delta* reaches 2.5 mm (blockage 2 delta*/r = 0.5 of a round bore), marked separated
+    from axibore.viscous.layer import SEPARATED, march
+
+    s = np.linspace(0.0, 2.0, 201)
+    w = march(s, None, 10.0 * (1.0 - 0.3 * s / 2.0), 1e-6, planar=True, start="turbulent", theta0=1e-3, rho=1000.0)
+    assert w.separation_s is None and np.nanmax(w.delta_star) > 2.5e-3  # the unbounded march goes beyond
+    b = stage._bounded_by_channel(w, np.full(s.size, 0.01), np.zeros(s.size))
+    j = int(np.argmax(w.delta_star > 2.5e-3))
+    assert b.separation_kind == "thick" and b.separation_s == s[j]
+    assert np.all(b.state[j:] == SEPARATED) and np.all(np.isnan(b.delta_star[j:]))
+    assert np.nanmax(b.delta_star) <= 2.5e-3
+    np.testing.assert_array_equal(b.theta[:j], w.theta[:j])
+
+
+# --- bounds on other shapes -----------------------------------------------------------------------
+
+
+@pytest.mark.parametrize("name", ["deck_wash_nozzle", "water_main_reducer"])
+def test_demo_cases_respect_the_bounds(name):
+    v = solve_case(load_case(CASES / f"{name}.toml")).summary()["viscous"]
+    if v["discharge_coefficient"] is not None:
+        assert v["discharge_coefficient"] <= v["discharge_coefficient_inviscid"]
+    assert v["loss_coefficient"] is None or v["loss_coefficient"] >= 0.0
+    for c in v["layers"].values():
+        assert c["friction_x_N"] != 0.0
+
+
+def test_an_approach_layer_at_the_upstream_station_withholds_a_c_above_the_inviscid(tmp_path):
+    # a thick approach layer given at the inlet plane (the upstream station) speeds up the core there;
+    # the quasi-1D estimate would give C above the inviscid one (the approach-velocity-profile effect,
+    # not a loss): the number is withheld with the reason, never printed
+    case = iso_nozzle_case(tmp_path / "approach", 0.6, 3e5, extra='[viscous]\nupstream_length = "1 m"\n')
+    v = solve_case(load_case(case)).summary()["viscous"]
+    if v["discharge_coefficient"] is None:
+        assert "above the inviscid" in v["discharge_coefficient_note"]
+    else:
+        assert v["discharge_coefficient"] <= v["discharge_coefficient_inviscid"]
+    assert v["loss_coefficient"] is None or v["loss_coefficient"] >= 0.0
+
+
+# --- gas layers -------------------------------------------------------------------------------------
+
+
+def test_gas_nozzle_layer_is_thin_and_attached(tmp_path):
+    # The shipped air test nozzle (40 mm bore, 20 mm throat, 6 bar): an accelerating nozzle keeps a thin,
+    # attached layer. A turbulent layer grown over the 45 mm wall at Re_x up to about 2e6 has theta of
+    # order 0.036 x Re_x^-0.2 (one-seventh law, Schlichting ch. XXI) = 0.09 mm at most; before this work the
+    # wall table showed theta = 31 m at the second face and the layer separated from 6.5 mm on.
+    case = load_case(CASES / "air_test_nozzle_cd.toml")
+    res = solve_case(case)
+    v = res.summary()["viscous"]
+    assert not v["separated"]
+    c = res.viscous.chains["wall"]
+    assert np.all(np.isfinite(c.theta)) and np.nanmax(c.theta) < 2e-4
+    assert np.nanmax(c.delta_star / c.r) < 0.02
+    # the edge speed is the Euler wall speed (smoothed over a few faces), raised by the blockage only (B
+    # below 2 %); before, it fell to 8e-7 m/s at the second face
+    # (compared where the flow is fast: the concave corner at the cone's start, a local dip of the wall speed
+    # at the scale of a few faces, is smoothed over the layer's thickness on purpose)
+    speed = res.tables["wall"].speed
+    fast = speed > 150.0
+    assert fast.sum() > 20
+    np.testing.assert_allclose(c.ue[fast][1:-1], speed[fast][1:-1], rtol=0.03)
+    assert v["discharge_coefficient"] < v["discharge_coefficient_inviscid"]
+
+
+def test_reference_temperature_of_an_adiabatic_wall():
+    # Eckert (1955, J. Aeronaut. Sci. 22): T*/Te = 1 + 0.032 Me^2 + 0.58 (Tw/Te - 1), with the adiabatic
+    # wall Tw/Te = 1 + r (gamma - 1)/2 Me^2, r = Pr^(1/3) = 0.71^(1/3) = 0.8921: at Me = 1,
+    # Tw/Te = 1.17843 and T*/Te = 1.13549 (hand-evaluated here)
+    class Air:
+        gas_constant, gamma, name = 287.05, 1.4, "air"
+
+    class Case:
+        fluid = Air()
+
+    Te = 250.0
+    p = np.array([1e5, 1e5])
+    rho = p / (287.05 * Te)
+    ue = np.array([0.0, math.sqrt(1.4 * 287.05 * Te)])
+    rho_ref, nu_ref, k = stage._reference_state(Case(), p, rho, ue)
+    assert k[0] == 0.0 and rho_ref[0] == pytest.approx(rho[0], rel=1e-12)
+    assert k[1] == pytest.approx(0.17843, abs=2e-5)
+    assert rho[1] / rho_ref[1] == pytest.approx(1.13549, abs=2e-5)
+
+
+# --- bad input ------------------------------------------------------------------------------------------
+
+
+OIL = """title = "oil nozzle"
+[fluid]
+kind = "liquid"
+density = "870 kg/m^3"
+vapour_pressure = "1 kPa"
+viscosity = "{mu}"
+[bore]
+template = "conical"
+inlet_diameter = "600 mm"
+exit_diameter = "400 mm"
+half_angle = "30 deg"
+inlet_length = "600 mm"
+tip_length = "100 mm"
+[inlet]
+flow_rate = "0.5 m3/s"
+[outlet]
+kind = "exit-plane"
+"""
+
+
+@pytest.mark.parametrize("extra, key, words", [
+    ("", "fluid.viscosity", ["1e+30 Pa s", "1e-06 to 10000 Pa s"]),
+    ("", "fluid.viscosity", ["1e-30 Pa s", "1e-06 to 10000 Pa s"]),
+    ('[viscous]\nstart_momentum_thickness = "10 m"\n', "viscous.start_momentum_thickness", ["10000 mm", "at most 40 mm"]),
+    ('[viscous]\nupstream_length = "10 km"\n', "viscous.upstream_length", ["10000 m", "at most 600 m"]),
+])
+def test_bad_wall_layer_input_stops_before_any_work(tmp_path, capsys, extra, key, words):
+    mu = "1e-30 Pa*s" if "1e-30" in words[0] else ("1e30 Pa*s" if "1e+30" in words[0] else "10 mPa*s")
+    path = tmp_path / "oil.toml"
+    path.write_text(OIL.format(mu=mu) + extra)
+    with pytest.raises(CaseError) as exc:
+        load_case(path)
+    assert any(k == key for k, _ in exc.value.problems)
+    rc = main(["run", str(path), "--out", str(tmp_path / "run")])
+    err = capsys.readouterr().err
+    assert rc == 2 and "Traceback" not in err and key in err
+    for w in words:
+        assert w in err
+    assert not (tmp_path / "run").exists()
+
+
+def test_a_flow_without_thin_layers_gets_no_wall_layer(tmp_path, capsys):
+    # 5000 Pa s: Re_D = 870 x 1.77 x 0.6 / 5000 = 0.18, far below 1000 (a laminar layer over one diameter would be 5/sqrt(Re_D) D thick):
+    # no friction force of 1e15 kN added to the total, no number at all from the layer, and the reason told
+    path = tmp_path / "tar.toml"
+    path.write_text(OIL.format(mu="5000 Pa*s"))
+    rc = main(["run", str(path), "--out", str(tmp_path / "run")])
+    out = capsys.readouterr().out
+    assert rc == 0 and "no wall layer: the Reynolds number of this flow is 0.18" in out and "below the 1000" in out
+    s = json.loads((tmp_path / "run" / "summary.json").read_text())
+    assert s["viscous"]["model"] == "none"
+    assert any("no wall layer" in w for w in s["warnings"])
+
+
+def test_water_pressure_beyond_its_property_range_stops_before_any_work(tmp_path, capsys):
+    # IAPWS-IF97 region 1 ends at 100 MPa (Wagner et al. 2000): a 2000 bar supply is refused by the case check
+    path = tmp_path / "hp.toml"
+    path.write_text('title = "hp"\n[fluid]\nkind = "water"\ntemperature = "20 degC"\n[bore]\ntemplate = "conical"\n'
+                    'inlet_diameter = "100 mm"\nexit_diameter = "50 mm"\nhalf_angle = "30 deg"\ninlet_length = "100 mm"\n'
+                    'tip_length = "30 mm"\n[inlet]\npressure = "2000 bar"\n[outlet]\nkind = "exit-plane"\n')
+    rc = main(["run", str(path), "--out", str(tmp_path / "run")])
+    err = capsys.readouterr().err
+    assert rc == 2 and "Traceback" not in err and "inlet.pressure" in err and "200 MPa" in err and "100 MPa" in err
+    assert not (tmp_path / "run").exists()
+
+
+def test_water_beyond_its_property_range_is_a_message(tmp_path, capsys):
+    # beta 0.3 at Re_D 1e7 in a 100 mm pipe needs about 600 MPa: beyond IAPWS-IF97 region 1 (100 MPa,
+    # Wagner et al. 2000), where the water viscosity is not defined
+    path = iso_nozzle_case(tmp_path / "hp", 0.3, 1e7)
+    rc = main(["run", str(path), "--out", str(tmp_path / "run")])
+    err = capsys.readouterr().err
+    assert rc == 2 and "Traceback" not in err and "inlet.flow_rate" in err and "100 MPa" in err
+
+
+def test_displacement_pass_that_cannot_displace_the_wall_is_a_message(tmp_path, capsys):
+    # on the default path the approach layer is held across its separation into the inlet face's concave
+    # corner; displacing the wall by it may fold a cell of the corner's fine mesh: never a traceback
+    path = iso_nozzle_case(tmp_path / "disp", 0.5, 1e6, extra='[viscous]\ndisplacement = "one-pass"\n')
+    rc = main(["run", str(path), "--out", str(tmp_path / "run")])
+    err = capsys.readouterr().err
+    assert "Traceback" not in err
+    assert rc == 0 or (rc == 2 and "viscous.displacement" in err)
