@@ -1,8 +1,8 @@
 """The wall layer along every wall chain of a solved flow: properties at the wall, the march of
 each chain (laminar, transition, turbulent, restarts, carried deficit), the blockage coupling with
 the core flow and the viscous discharge and loss coefficients (``wall_layers``). The stage of a run
-(``stage.viscous_stage``) calls it and, when asked, the displacement pass.
-The viscous stage: an integral wall layer on every wall chain of a solved flow (not a solver).
+(``stage.viscous_stage``) calls it and, when asked, the displacement pass. An integral wall layer
+on every wall chain of a solved flow (not a solver).
 
 ``wall_layers(case, profile, flow, tables, onedim)`` takes the inviscid result and returns a
 ``ViscousResult``: per wall face the momentum and displacement thickness, shape factor, skin
