@@ -118,3 +118,47 @@ def test_verify_quick(tmp_path):
     assert main(["verify", "--quick", "--out", str(tmp_path)]) == 0
     rows = json.loads((tmp_path / "verify.json").read_text())
     assert len(rows) >= 10 and all(r["passed"] for r in rows) and all(r["source"] for r in rows)
+
+
+def test_uncertainty_of_the_headline_numbers(tmp_path, capsys):
+    # The deck-wash nozzle discharging to air at 7 bar: by Bernoulli the flow goes as sqrt(p1), so its
+    # sensitivity to the inlet pressure is Q / (2 p1) (derived) and an inlet-pressure uncertainty u gives
+    # u_Q = Q u / (2 p1); the jet reaction goes as p1, u_R = R u / p1 (R = rho Q V2 = 2 p1 A2 / (1 - beta^2),
+    # derived). Two levels: the GCI with the factor of safety 3.
+    from axibore.cli import main
+
+    case = tmp_path / "nozzle.toml"
+    case.write_text((CASES / "deck_wash_nozzle.toml").read_text() + '\n[uncertainty]\n"inlet.pressure" = "0.1 bar"\n')
+    assert main(["uncertainty", str(case), "--levels", "0,1", "--out", str(tmp_path / "u")]) == 0
+    data = json.loads((tmp_path / "u" / "uncertainty.json").read_text())
+    q = {d["name"]: d for d in data["quantities"]}
+    p1, u = 7e5, 1e4
+    flow = q["volume flow [m3/s]"]
+    assert flow["contributions"]["inlet.pressure"] == pytest.approx(flow["value"] * u / (2 * p1), rel=2e-3)
+    jet = q["jet reaction [N]"]
+    assert jet["contributions"]["inlet.pressure"] == pytest.approx(jet["value"] * u / p1, rel=2e-3)
+    for d in q.values():  # combined and expanded as V&V 20 / GUM state them
+        assert d["u_combined"] == pytest.approx(math.hypot(d["u_numerical"], d["u_input"]), rel=1e-12)
+        assert d["expanded_k2"] == pytest.approx(2 * d["u_combined"], rel=1e-12)
+    force = q["wall force on the part [N]"]
+    assert force["u_numerical"] == pytest.approx(force["gci_fine_rel"] * abs(force["value"]) / 2, rel=1e-12)
+    # the runs are ordinary run folders: a second call reuses all of them
+    assert main(["uncertainty", str(case), "--levels", "0,1", "--out", str(tmp_path / "u")]) == 0
+    assert "4 complete already (reused), 0 to run" in capsys.readouterr().out
+
+
+@pytest.mark.parametrize("entry, words", [
+    ('"inlet.pressur" = "0.1 bar"', "not a key of this case"),
+    ('"inlet.pressure" = "-0.1 bar"', "positive standard uncertainty"),
+    ('"inlet.pressure" = "0.1 mm"', "positive standard uncertainty"),
+    ('"bore.template" = "1 %"', "cannot vary"),
+])
+def test_bad_uncertainty_entries_are_refused_before_work(tmp_path, capsys, entry, words):
+    from axibore.cli import main
+
+    case = tmp_path / "nozzle.toml"
+    case.write_text((CASES / "deck_wash_nozzle.toml").read_text() + f"\n[uncertainty]\n{entry}\n")
+    assert main(["uncertainty", str(case), "--levels", "0,1", "--out", str(tmp_path / "u")]) == 2
+    err = capsys.readouterr().err
+    assert "uncertainty." in err and words in err, err
+    assert not (tmp_path / "u").exists()

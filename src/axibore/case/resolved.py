@@ -67,6 +67,7 @@ def resolved_dict(case) -> dict:
     """The case as it ran, every key explicit, quantities with units; loads back to the same case."""
     data = _unit_dump(case.model)
     data.pop("sweep", None)  # a run is one point: the sweep that made it is not part of it
+    data.pop("uncertainty", None)  # nor the study of its uncertainty
     if data["bore"]["template"] == "points":
         data["bore"]["file"] = str(case.resolve_path(data["bore"]["file"]).resolve())
     if case.solver_kind is not None:

@@ -337,5 +337,7 @@ class CaseModel(_Section):
     flange: FlangeSpec = FlangeSpec()
     joint: list[JointSpec] = Field(default_factory=list)
     sweep: SweepSpec | None = None  # read by `axibore sweep`; not part of a run
+    # read by `axibore uncertainty`: dotted key -> standard uncertainty ("0.1 bar", "1 %"); not part of a run
+    uncertainty: dict[str, str] | None = None
 
 

@@ -19,7 +19,7 @@ from ..io.files import OutputError
 from ..study.runner import SchedulerError
 from .common import err
 
-NAMES = ("run", "check", "mesh", "gridstudy", "sweep", "compare", "view", "report", "verify")
+NAMES = ("run", "check", "mesh", "gridstudy", "sweep", "uncertainty", "compare", "view", "report", "verify")
 COMMANDS = {name: import_module(f"{__name__}.{name}") for name in NAMES}
 
 

@@ -26,7 +26,7 @@ from pathlib import Path
 from ..version import __version__
 
 MANIFEST = ".axibore-manifest.json"
-KINDS = ("run", "mesh", "sweep", "gridstudy", "compare", "verify")
+KINDS = ("run", "mesh", "sweep", "gridstudy", "compare", "verify", "uncertainty")
 CHUNK = 1 << 20
 
 

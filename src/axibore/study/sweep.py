@@ -177,9 +177,9 @@ class Point:
 
 
 def without_sweep(case: Case) -> Case:
-    if "sweep" not in case.data:
+    if "sweep" not in case.data and "uncertainty" not in case.data:
         return case
-    data = {k: v for k, v in case.data.items() if k != "sweep"}
+    data = {k: v for k, v in case.data.items() if k not in ("sweep", "uncertainty")}
     return case_from_dict(data, source=case.source, base_dir=case.base_dir)
 
 
@@ -321,7 +321,7 @@ class SweepResult:
         heads = ["#"] + self.keys + [o.split(".", 1)[1] for o in outputs] + ["status"]
         body = []
         for r in self.rows:
-            cells = [str(r["point"])] + [str(r[k]) for k in self.keys]
+            cells = [str(r["point"])] + [str(r.get(k, "")) for k in self.keys]
             cells += ["-" if r.get(o) is None else f"{r[o]:.6g}" for o in outputs]
             cells.append(r["status"] + (f": {r['error']}" if r.get("error") else ""))
             body.append(cells)
@@ -370,7 +370,7 @@ def run_sweep(case: Case, points: list[Point], out_dir: Path, executor=None, kee
     record(out_dir, "sweep", [])  # the folder is a sweep's from its first moment
     for d in clean_stale_partials(out_dir):
         progress(f"removed {d.name}, left by an interrupted sweep")
-    keys = list(points[0].values) if points else []
+    keys = list(dict.fromkeys(k for p in points for k in p.values))  # every varied key, in order of first use
     rows: dict[int, dict] = {}
     todo: dict[str, list[Point]] = {}  # run directory name -> the points that share it
     reused = 0
@@ -446,10 +446,10 @@ def write_results(result: SweepResult, case: Case, out_dir: Path, plots: tuple[s
     cols = result.columns()
     w.writerow(cols)
     for r in result.rows:
-        w.writerow(["" if r[c] is None else (repr(r[c]) if isinstance(r[c], float) else r[c]) for c in cols])
+        w.writerow(["" if r.get(c) is None else (repr(r[c]) if isinstance(r[c], float) else r[c]) for c in cols])
     atomic_write_text(out_dir / "sweep.csv", buf.getvalue())
     _write_json(out_dir, case, result.keys, result.rows, "complete" if result.ok else "some points failed", vary, zip_)
-    pngs = plot_sweep(result, out_dir, plots or DEFAULT_PLOTS)
+    pngs = plot_sweep(result, out_dir, DEFAULT_PLOTS if plots is None else plots)
     html_path = write_html(result, out_dir, pngs)
     record(out_dir, "sweep", ["sweep.csv", html_path, *pngs])
 
@@ -471,7 +471,7 @@ def _given_axis(rows: list[dict], key: str) -> tuple[list[float], str] | None:
     """The values of ``key`` as the user gave them, when all are numbers in one unit ("8 deg", ...)."""
     units, nums = set(), []
     for r in rows:
-        m = _NUMBER_UNIT.match(str(r[key]))
+        m = _NUMBER_UNIT.match(str(r.get(key, "")))
         if not m:
             return None
         nums.append(float(m.group(1)))
@@ -499,7 +499,7 @@ def plot_sweep(result: SweepResult, out_dir: Path, outputs: tuple[str, ...]) -> 
         for ax, o in zip(axes[:, 0], outputs):
             groups: dict[tuple, list] = {}
             for r in rows:
-                groups.setdefault(tuple(r[k] for k in others), []).append(r)
+                groups.setdefault(tuple(r.get(k) for k in others), []).append(r)
             for g, members in groups.items():
                 k_o = _plot_unit(o)[0]
                 pts = sorted((xval[id(r)], r[o] * k_o) for r in members if _numeric(r.get(o)))
@@ -534,7 +534,7 @@ def write_html(result: SweepResult, out_dir: Path, pngs: list[Path]) -> Path:
              "<h2>Points</h2><table><tr><th>#</th>" + "".join(f"<th>{e(k)}</th>" for k in result.keys)
              + "".join(f"<th>{e(s)}</th>" for s in shown) + "<th>status</th><th>run directory</th></tr>"]
     for r in result.rows:
-        cells = "".join(f"<td>{e(str(r[k]))}</td>" for k in result.keys)
+        cells = "".join(f"<td>{e(str(r.get(k, '')))}</td>" for k in result.keys)
         cells += "".join(f"<td class='num'>{'-' if r.get(s) is None else f'{r[s]:.6g}'}</td>" for s in shown)
         status = e(r["status"]) + (f": {e(str(r['error']))}" if r.get("error") else "")
         cls = "" if r["status"] == "ok" else " class='warn'"
