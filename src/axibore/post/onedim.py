@@ -226,7 +226,8 @@ def hand_answer(case, profile: Profile, flow: FlowResult) -> HandAnswer | None:
         kind, value = case.inlet.flow_rate
         Q = value if kind == "volume" else value / rho
         if p_in is None:
-            p_in = (p_out or 0.0) + 0.5 * rho * (Q / A2) ** 2 * (1.0 - ratio2)
+            p_out = 0.0 if p_out is None else p_out  # the outlet's default: 0 gauge
+            p_in = p_out + 0.5 * rho * (Q / A2) ** 2 * (1.0 - ratio2)
         elif p_out is None:
             p_out = p_in - 0.5 * rho * (Q / A2) ** 2 * (1.0 - ratio2)
     else:

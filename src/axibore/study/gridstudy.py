@@ -21,7 +21,7 @@ from ..safety import CAUTIONS
 from ..view.plots import figure, save
 from ..view.report import CSS, write_report
 from .runner import SerialExecutor
-from .sweep import install_run, run_point
+from .runstore import install_run, run_point
 
 # (name, summary section, summary key)
 QUANTITIES = (

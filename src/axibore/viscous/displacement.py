@@ -27,7 +27,8 @@ from ..names import Boundary
 from ..solvers import SOLVERS
 from ..solvers.base import FlowError
 from ..solvers.walls import wall_tables
-from .march import discharge_coefficient, smooth_speed, wall_layers
+from .layers import discharge_coefficient, wall_layers
+from .march import smooth_speed
 
 CLIP_FRACTION = 0.2  # delta* applied at most this share of the local channel height
 FACE_FRACTION = 0.5  # ... and of the wall face's own length (a thick layer in a concave corner would fold cells)

@@ -1,6 +1,6 @@
-"""The wall-layer stage of a run: the layers of every chain (``march.wall_layers``), then the
+"""The wall-layer stage of a run: the layers of every chain (``layers.wall_layers``), then the
 displacement pass when the case asks for it (``displacement.displacement_pass``), and the summary
-section. See ``march`` for the method and its defaults."""
+section. See ``march`` for the method and its defaults, ``results`` for what is handed on."""
 
 from __future__ import annotations
 
@@ -8,9 +8,10 @@ import time
 from dataclasses import replace
 
 from ..names import Boundary
-
 from .displacement import displacement_pass
-from .march import CAUTION, STATE_CODES, LayerWithheld, ViscousResult, wall_layers  # noqa: F401  (the stage's names)
+from .layers import wall_layers
+from .results import CAUTION, STATE_CODES, LayerWithheld, ViscousResult  # noqa: F401  (the stage's names)
+
 
 
 def viscous_stage(case, profile, mesh, flow, tables, onedim, progress=None, mesh_build=None) -> ViscousResult:

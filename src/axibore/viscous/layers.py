@@ -1,0 +1,303 @@
+"""The layers of every wall chain of a solved flow and what they do to it: the blockage coupling
+with the core flow (quasi-simultaneous, relaxed), the viscous discharge and loss coefficients,
+the friction force (``wall_layers``). The march of one chain is ``march.march_chain``."""
+
+from __future__ import annotations
+
+import math
+import time
+
+import numpy as np
+
+from ..names import Boundary
+from . import layer as L
+from .march import MIN_LAYER_RE, _face_index, _reference_state, _viscosity, march_chain
+from .results import CAUTION, G_STANDARD, THICK_LAYER, ChainLayer, Coupling, LayerWithheld, ViscousResult, ViscousSettings
+
+
+COUPLING_MAX_ITERATIONS = 25
+COUPLING_RELAXATION = 0.5
+COUPLING_TOLERANCE = 1e-3  # on the blockage B at every face
+MAX_BLOCKAGE = 0.5
+
+
+def face_blockage(chains: dict[str, ChainLayer], profile, planar: bool) -> dict[str, np.ndarray]:
+    """B = sum over the chains of P delta* / A at the x of every face (separated values held from the
+    last attached face; chains counted where they span the face's x)."""
+    parts = []
+    for c in chains.values():
+        ds = c.displacement
+        fin = np.isfinite(ds)
+        if not fin.any():
+            continue
+        ds = np.interp(np.arange(ds.size), np.flatnonzero(fin), ds[fin])
+        order = np.argsort(c.x)
+        parts.append((c.x[order], (c.perimeter * ds)[order]))
+    out = {}
+    for name, c in chains.items():
+        A = profile.flow_area(np.atleast_1d(c.x))
+        total = np.zeros(c.x.size)
+        for xs, pd in parts:
+            inside = (c.x >= xs[0] - 1e-9) & (c.x <= xs[-1] + 1e-9)
+            total += np.where(inside, np.interp(c.x, xs, pd), 0.0)
+        out[name] = np.clip(total / np.maximum(A, 1e-300), 0.0, MAX_BLOCKAGE)
+    return out
+
+
+def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile, planar: bool
+                   ) -> tuple[dict[str, ChainLayer], Coupling]:
+    """The layers of all chains. With ``coupling = "blockage"`` the edge speed is the inviscid wall
+    speed over (1 - B), B the displacement blockage of the section (continuity in the core: a
+    quasi-1D interaction), found by under-relaxed fixed-point iteration."""
+    first = {n: march_chain(n, t, *props[n], settings, profile, planar) for n, t in tables.items()}
+    chains = {n: v[0] for n, v in first.items()}
+    widths = {n: v[1] for n, v in first.items()}
+    if settings.coupling != "blockage":
+        return chains, Coupling("none", True, 0, 0.0, COUPLING_TOLERANCE, 0.0,
+                                "none: the layer is marched on the inviscid wall speed")
+    if not profile.monotone:
+        return chains, Coupling("none", True, 0, 0.0, COUPLING_TOLERANCE, 0.0,
+                                "none: the wall runs backwards in x, so a section's blockage is not defined")
+    B = {n: np.zeros(t.s.size) for n, t in tables.items()}
+    change, last, omega = float("inf"), float("inf"), COUPLING_RELAXATION
+    def attached(c):  # attached, and not within two faces upstream of a separation
+        sep = c.state == L.SEPARATED
+        near = sep.copy()
+        near[:-1] |= sep[1:]
+        near[:-2] |= sep[2:]
+        return ~near
+
+    attached_before = {n: attached(c) for n, c in chains.items()}
+    for it in range(1, COUPLING_MAX_ITERATIONS + 1):
+        Bn = face_blockage(chains, profile, planar)
+        # measured on the faces attached in this march and the one before: where the separation point moves by a
+        # face between iterations, that face's blockage jumps between the attached layer's and the value held
+        # across the separated range (the position of a separation is resolved to a face, no better)
+        # (and on faces running within 60 deg of the axis: on a wall facing the flow, the inlet face of a nozzle,
+        # a cross-section's blockage is not defined and the layer there is the stagnation flow's)
+        att = {n: attached_before[n] & attached(c) & (np.abs(c.tx) >= 0.5) for n, c in chains.items()}
+        attached_before = {n: attached(c) for n, c in chains.items()}
+        change = max(float(np.max(np.abs(Bn[n] - B[n])[att[n]])) if att[n].any() else 0.0 for n in B)
+        if change < COUPLING_TOLERANCE:
+            break
+        if change > last or abs(change - last) < 0.02 * last:  # growing, or stuck in a cycle: relax harder
+            omega = max(0.5 * omega, 0.05)
+        last = change
+        B = {n: B[n] + omega * (Bn[n] - B[n]) for n in B}
+        res = {n: march_chain(n, t, *props[n], settings, profile, planar, t.speed / (1.0 - B[n]), widths[n])
+               for n, t in tables.items()}
+        chains = {n: v[0] for n, v in res.items()}
+        widths = {n: v[1] for n, v in res.items()}
+    state = f"converged in {it} iterations" if change < COUPLING_TOLERANCE else \
+        f"NOT converged in {COUPLING_MAX_ITERATIONS} iterations (B still changes by {change:.2g} between iterations)"
+    Bmax = max(float(b.max()) for b in B.values()) if B else 0.0
+    return chains, Coupling("blockage", bool(change < COUPLING_TOLERANCE), it, float(change), COUPLING_TOLERANCE, Bmax,
+                            f"blockage: edge speed = inviscid wall speed / (1 - B), B = sum P delta* / A (continuity in "
+                            f"the core), {state} to {COUPLING_TOLERANCE:g} in B; largest B {Bmax:.3g}")
+
+
+def blockage(chains: dict[str, ChainLayer], profile, x: float, planar: bool) -> float:
+    """sum P delta* / A at axial station x (chains that cross it; NaN where a layer there is separated),
+    delta* of all the deficit fluid (the current layer and the carried one). On a wall that runs forward
+    in x the value is interpolated in x, from the chain's start value at its upstream end (the inlet
+    plane: zero for a layer that starts there) to its last face; else the nearest face's."""
+    A = float(profile.flow_area(np.atleast_1d(x))[0])
+    total = 0.0
+    for c in chains.values():
+        margin = float(c.s[-1] - c.s[0]) / max(c.x.size - 1, 1)  # the planes lie half a face beyond the end faces
+        if c.x.size < 2 or not (min(c.x[0], c.x[-1]) - margin <= x <= max(c.x[0], c.x[-1]) + margin):
+            continue
+        pd = c.perimeter * c.displacement
+        if np.all(np.diff(c.x) > 0.0) and x <= c.x[-1]:
+            x0 = c.x[0] - 0.5 * (c.x[1] - c.x[0])  # the chain's upstream end (half a face before the first face)
+            total += float(np.interp(x, np.r_[x0, c.x], np.r_[c.start_displacement_m2, pd]))
+        else:
+            total += float(pd[int(np.argmin(np.abs(c.x - x)))])
+    return total / A
+
+
+def _station_pressures(flow, tables, taps):
+    """Inviscid (p, core speed) at the two stations: wall taps, or the inlet and outlet plane means."""
+    if taps is None:
+        return [(flow.inlet_pressure, flow.inlet_velocity), (flow.outlet_pressure, flow.outlet_velocity)]
+    t = tables[Boundary.WALL]
+    return [(float(np.interp(x, t.x, t.pressure)), float(np.interp(x, t.x, t.speed))) for x in taps]
+
+
+def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False) -> tuple[float | None, str]:
+    """C = Q / (E A_m sqrt(2 dp / rho)) between two stations (see the module text); with ``chains``
+    the pressures carry the first-order displacement of the layer (core speed / (1 - B))."""
+    x1, x2 = taps if taps is not None else (profile.x_inlet, profile.x_outlet)
+    xs = np.linspace(x1, x2, 801)
+    A = profile.flow_area(np.atleast_1d(xs))
+    A_m, A_1 = float(A.min()), float(A[0])
+    rho = flow.inlet_density
+    (p1, u1), (p2, u2) = _station_pressures(flow, tables, taps)
+    if chains is not None:
+        for k, (x, u) in enumerate(((x1, u1), (x2, u2))):
+            B = blockage(chains, profile, x, planar)
+            if not np.isfinite(B):
+                return None, f"none: the layer is separated at x = {x * 1e3:.4g} mm (a station of the discharge coefficient)"
+            if not B < MAX_BLOCKAGE:
+                return None, (f"none: the layer fills {B:.0%} of the flow area at x = {x * 1e3:.4g} mm (a station of the "
+                              f"discharge coefficient), beyond the {MAX_BLOCKAGE:.0%} a thin-layer estimate can carry")
+            dp = 0.5 * rho * u * u * (1.0 / (1.0 - B) ** 2 - 1.0)
+            if k == 0:
+                p1 -= dp
+            else:
+                p2 -= dp
+    where = (f"wall taps at x = {x1 * 1e3:.4g} mm and {x2 * 1e3:.4g} mm" if taps is not None
+             else "mean pressures of the inlet and outlet planes")
+    if not p1 - p2 > 0:
+        return None, f"none: no pressure drop between the stations ({where}); see the loss coefficient"
+    E = 1.0 / math.sqrt(1.0 - (A_m / A_1) ** 2) if A_m < A_1 else float("inf")
+    if not math.isfinite(E):
+        return None, f"none: the narrowest section is the upstream station ({where})"
+    C = flow.volume_flow / (E * A_m * math.sqrt(2.0 * (p1 - p2) / rho))
+    return float(C), (f"Q / (E A_m sqrt(2 dp / rho)), E = 1/sqrt(1 - (A_m/A_1)^2), A_m = {A_m * 1e6:.6g} mm^2 the "
+                      f"narrowest flow area, dp between the {where}")
+
+
+def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult:
+    """The wall layer of every wall chain of a solved flow (the stage; see the module text)."""
+    t0 = time.perf_counter()
+    settings = ViscousSettings.from_case(case)
+    planar = bool(getattr(profile, "planar", False))
+    mu_in, source = _viscosity(case, flow)
+    rho_in = flow.inlet_density
+    # Reynolds number on the inlet plane: mean velocity and hydraulic diameter 4 A / P (wetted perimeter)
+    P_in = sum((1.0 if planar else 2.0 * math.pi * float(t.r[0])) for t in tables.values() if t.x.size
+               and abs(t.x[0] - profile.x_inlet) <= t.length[0])
+    A_in = flow.inlet_area
+    d_h = 4.0 * A_in / P_in if P_in > 0 else 2.0 * profile.r_inlet
+    re = rho_in * flow.inlet_velocity * d_h / mu_in
+    basis = ("rho V d_h / mu on the inlet plane: mean velocity, hydraulic diameter 4 A / P (the bore diameter of a "
+             "round pipe), viscosity at the inlet")
+    if not re >= MIN_LAYER_RE:
+        raise LayerWithheld(f"no wall layer: the Reynolds number of this flow is {re:.3g} (fluid viscosity {mu_in:.4g} Pa s), "
+                            f"below the {MIN_LAYER_RE:g} where a bore flow has a thin wall layer beside an inviscid core; "
+                            "no friction, viscous discharge coefficient or loss coefficient is given, and the inviscid "
+                            "answer itself is far from such a viscous flow")
+    settings = settings.resolve(re, d_h)
+    props = {}
+    for name, table in tables.items():
+        bv = flow.boundary[name]
+        rho = bv.density[_face_index(bv.faces, table.faces)]
+        if flow.compressible:
+            rho, nu, k = _reference_state(case, table.pressure + case.ambient_pressure, rho, table.speed)
+        else:
+            nu, k = np.full(table.s.size, mu_in / rho_in), np.zeros(table.s.size)
+        props[name] = (rho, nu, k)
+    chains, coupling = coupled_layers(tables, props, settings, profile, planar)
+    coupling_note = coupling.note
+
+    friction = sum(c.friction_x_N for c in chains.values())
+    mom_friction = sum(c.momentum_friction_x_N for c in chains.values())
+    seps, kinds = [], []
+    for c in chains.values():
+        for a, b, kind in c.separations:
+            seps.append([min(a, b), max(a, b)])
+            kinds.append(f"{c.name}: {kind}")
+    transitions = sorted(x for c in chains.values() for x in c.transitions_x)
+    allH = [(float(np.nanmax(c.H)), float(c.x[int(np.nanargmax(c.H))])) for c in chains.values()
+            if np.any(np.isfinite(c.H))]
+    hmax = max(allH) if allH else (None, None)
+
+    # discharge coefficient
+    if flow.compressible:
+        cd_inv = onedim.discharge_coefficient if onedim is not None else None
+        xs = np.linspace(profile.x_inlet, profile.x_outlet, 801)
+        x_t = float(xs[int(np.argmin(profile.flow_area(np.atleast_1d(xs))))])
+        B = blockage(chains, profile, x_t, planar)
+        if cd_inv is None or not np.isfinite(B):
+            cd, cd_note = None, "none: the layer is separated at the narrowest section"
+        else:
+            cd = float(cd_inv * (1.0 - B))
+            cd_note = (f"the inviscid discharge coefficient (against quasi-1D isentropic flow) times (1 - B), B = "
+                       f"{B:.4g} the displacement blockage sum P delta* / A at the narrowest section x = {x_t * 1e3:.4g} mm")
+    else:
+        cd_inv, _ = discharge_coefficient(flow, profile, tables, settings.taps, None, planar)
+        cd, cd_note = discharge_coefficient(flow, profile, tables, settings.taps, chains, planar)
+        if cd is not None:
+            cd_note += ("; the layer's displacement raises the core speed at each station by 1/(1 - B), B = sum P delta* / A "
+                        "(delta* of the current layer and of the deficit fluid carried past restarts)")
+        if cd is not None and cd_inv is not None and cd > cd_inv:
+            # only possible when the upstream station lies in a layer already grown there (an approach layer
+            # or taps downstream of the inlet plane): its displacement speeds up the core more than the losses
+            # downstream lower it, the approach-velocity-profile effect, not a loss of the wall layer
+            cd, cd_note = None, (f"none: with the layer the quasi-1D estimate gives {cd:.6g}, above the inviscid "
+                                 f"{cd_inv:.6g}: the upstream station lies in a layer already grown there, whose "
+                                 "displacement lowers the pressure read there more than the layers' losses lower it "
+                                 "downstream (the approach-velocity-profile effect); a wall layer cannot raise the flow, "
+                                 "so no value is given; move the upstream tap (viscous.taps) to the inlet plane or "
+                                 "drop the approach layer (viscous.upstream_length, start_momentum_thickness)")
+
+    # loss coefficient
+    K = dp0 = head = None
+    if flow.compressible:
+        k_note = "computed for liquids only in this version"
+    elif any(len(c.separations) > c.corner_separations for c in chains.values()):
+        k_note = "not computed: the layer separates (a separated flow's loss is beyond a boundary-layer estimate)"
+    else:
+        end = sum(c.end_deficit_W + c.carried_deficit_W for c in chains.values())
+        start = sum(c.start_deficit_W for c in chains.values())
+        dp0 = float((end - start) / flow.volume_flow)
+        V = max(flow.inlet_velocity, flow.outlet_velocity)
+        corner = any(c.corner_separations for c in chains.values())
+        if not dp0 >= 0.0:
+            k_note = (f"not computed: the layers' kinetic-energy deficit leaving ({end:.4g} W) is below the one entering "
+                      f"({start:.4g} W); a wall layer only dissipates, so the integral closure is outside its range here")
+            dp0 = None
+        else:
+            K = float(dp0 / (0.5 * rho_in * V * V))
+            head = float(dp0 / (rho_in * G_STANDARD))
+            k_note = ("K = dp_0 / (rho V^2 / 2), dp_0 the mass-averaged total-pressure loss from the inlet to the outlet "
+                      "plane (the growth of the layers' kinetic-energy deficit, with the deficit of layers that ended at a "
+                      "restart carried on), V = "
+                      f"{'outlet' if flow.outlet_velocity >= flow.inlet_velocity else 'inlet'} mean velocity (the larger); "
+                      "includes the friction of the straight lengths of the bore"
+                      + ("; a lower bound: a layer separates into a concave corner, and the corner vortex's own loss is "
+                         "not included" if corner else ""))
+
+    warnings = []
+    if not coupling.converged and coupling.last_change > 10 * COUPLING_TOLERANCE:
+        warnings.append(f"wall layer: the blockage coupling did not settle (the blockage B still changes by "
+                        f"{coupling.last_change:.2g} between "
+                        "iterations): the layer near its separation or in a thick-layer region is uncertain")
+    for c in chains.values():
+        restarts = [x for x, how in c.runs if how.endswith("concave corner")]
+        for a, b, kind in c.separations:
+            nxt = [x for x in restarts if x > a]
+            where = (f"from x = {a * 1e3:.4g} to {b * 1e3:.4g} mm, into the concave corner at x = {nxt[0] * 1e3:.4g} mm "
+                     "where a new layer starts" if nxt else f"from x = {a * 1e3:.4g} mm to the end of the {c.name} "
+                     f"(x = {b * 1e3:.4g} mm)")
+            warnings.append(
+                f"the {kind} wall layer on the {c.name} separates at x = {a * 1e3:.4g} mm (separated {where}): the "
+                f"inviscid wall pressure and force {'in that range' if nxt else f'downstream of x = {a * 1e3:.4g} mm'} "
+                f"are not reliable. {CAUTION}")
+        h_loc = np.maximum(c.r if not planar else np.abs(c.r), 1e-300)
+        thick = np.isfinite(c.delta_star) & (c.delta_star > THICK_LAYER * h_loc)
+        if np.any(thick) and not planar:
+            warnings.append(f"the wall layer on the {c.name} is thick (displacement thickness above {THICK_LAYER:.0%} of "
+                            f"the radius from x = {c.x[thick].min() * 1e3:.4g} to {c.x[thick].max() * 1e3:.4g} mm): "
+                            "the thin-layer estimate is stretched there")
+    notes = [
+        "wall layer: Thwaites (laminar, axisymmetric form of Rott & Crabtree), Michel's transition, Head's entrainment "
+        "method with the flat-plate friction of Schlichting in Re_theta and the shape dependence of Ludwieg & "
+        "Tillmann (turbulent), marched on the smoothed inviscid wall speed; gases at Eckert's reference temperature",
+        "friction_x_N: wall shear integrated over the wall, by the fluid on the part, +x downstream; separated faces "
+        "count with no shear",
+    ]
+    return ViscousResult(
+        model="integral", settings=settings, viscosity_Pa_s=float(mu_in), kinematic_viscosity_m2_s=float(mu_in / rho_in),
+        viscosity_source=source, chains=chains, reynolds_number=float(re), reynolds_length_m=float(d_h),
+        reynolds_basis=basis, friction_x_N=float(friction), momentum_friction_x_N=float(mom_friction),
+        discharge_coefficient=cd, discharge_coefficient_inviscid=cd_inv, discharge_coefficient_note=cd_note,
+        loss_coefficient=K, loss_coefficient_note=k_note, total_pressure_loss_Pa=dp0, head_loss_m=head,
+        transition_x_m=transitions, separation_x_ranges_m=seps, separation_kind=kinds,
+        max_shape_factor=hmax[0], max_shape_factor_x_m=hmax[1], warnings=warnings,
+        seconds=time.perf_counter() - t0, notes=notes, coupling_note=coupling_note, coupling=coupling,
+    )
+
+
+# --- the stage as a run uses it, and its part of summary.json ---------------------------------------
