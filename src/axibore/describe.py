@@ -8,6 +8,7 @@ from .budget import budget, refusal
 from .case import Case
 from .geometry.jet import estimated_contraction, lip_angle
 from .mesh import target_size
+from .names import free_jet
 from .units import show
 
 UNDERSTOOD = "understood.txt"  # a run directory's copy of what was understood from its case (``describe``)
@@ -37,7 +38,7 @@ def describe(case: Case, cells: int | None = None) -> list[str]:
     if b.symmetry == "planar":
         lines.append("symmetry  planar section: the axis is a symmetry plane; areas, flow rates and forces are per metre of "
                      "depth for the half above it")
-    if case.outlet.kind == "free-jet":
+    if free_jet(case.outlet.kind):
         a = lip_angle(case.profile)
         lines.append(f"free jet  from the lip at x = {show(case.profile.wall[-1].end[0], 'length')}, r = "
                      f"{show(case.profile.wall[-1].end[1], 'length')}; the wall meets it at {-math.degrees(a):.3g} deg to the "
@@ -77,7 +78,7 @@ def describe(case: Case, cells: int | None = None) -> list[str]:
                      f"about {b.memory_bytes / 1e9:.2g} GB of memory")
         if not b.within:
             lines.append(f"note      {refusal(b)}; `run` will refuse this case")
-        if case.outlet.kind == "free-jet":
+        if free_jet(case.outlet.kind):
             lines.append("note      free jet: meshed with unstructured triangles (more cells than the count above, which is "
                          "for the bore alone) once; the nodes move with the jet, usually 4 to 12 steps")
     lines.append(f"solver    {case.solver_kind} (linear tolerance {case.linear_settings.tolerance:g}); 1D breakdown threshold {case.onedim.threshold:.3g} of the outlet dynamic pressure")

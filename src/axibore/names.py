@@ -28,6 +28,17 @@ PLANES = (Boundary.INLET, Boundary.OUTLET)
 # outlet models (outlets/): through a plane inside a continuing pipe, through the exit plane to
 # ambient, or a free jet solved past the lip
 OUTLET_KINDS = ("pipe", "exit-plane", "free-jet")
+# what the rest of the tool asks of an outlet kind (the outlet models themselves are in outlets/)
+DISCHARGE_OUTLETS = frozenset({"exit-plane", "free-jet"})  # the bore discharges a jet to the surroundings
+FREE_JET_OUTLETS = frozenset({"free-jet"})  # the jet boundary past the lip is solved (a free streamline)
+
+
+def discharges(outlet_kind: str) -> bool:
+    return outlet_kind in DISCHARGE_OUTLETS
+
+
+def free_jet(outlet_kind: str) -> bool:
+    return outlet_kind in FREE_JET_OUTLETS
 
 # Measures of an FVMesh are per radian; full axisymmetric values are 2 pi times them.
 TWO_PI = 2.0 * math.pi

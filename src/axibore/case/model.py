@@ -14,6 +14,7 @@ from pydantic import ValidationError
 
 from .. import fluids
 from ..geometry import Profile, ProfileError, build_profile
+from ..names import free_jet
 from ..numerics.linear import LinearSettings
 from ..solvers import SOLVERS, default_for
 from ..textin import InputError, read_input_text
@@ -183,7 +184,7 @@ def case_from_dict(data: dict, source: str = "<memory>", base_dir: Path | None =
         raise CaseError(source, problems)
     # the bore must be a valid profile: built once here, so `check` reports it with the rest
     try:
-        profile = build_profile(m.bore, base_dir or Path.cwd(), free_jet=m.outlet.kind == "free-jet")
+        profile = build_profile(m.bore, base_dir or Path.cwd(), free_jet=free_jet(m.outlet.kind))
     except ProfileError as exc:
         raise CaseError(source, [(exc.key, exc.message)]) from None
     problems = joint_checks(m, profile) + viscous_position_checks(m, profile)

@@ -6,6 +6,7 @@ from __future__ import annotations
 import numpy as np
 
 from .. import fluids
+from ..names import discharges
 from ..solvers import SOLVERS
 from .schema import OPERATING_POINTS, CaseModel
 
@@ -74,7 +75,7 @@ def cross_checks(m: CaseModel) -> list[tuple[str, str]]:
                 problems.append((f"inlet.{key}", "only for ideal-gas cases (a liquid takes inlet.pressure or inlet.flow_rate)"))
         if i.pressure is None and i.flow_rate is None:
             problems.append(("inlet", "missing: give inlet.pressure (gauge) or inlet.flow_rate"))
-        discharge = o.kind in ("exit-plane", "free-jet")
+        discharge = discharges(o.kind)
         if discharge and i.pressure is not None and i.flow_rate is not None:
             problems.append(("inlet.flow_rate", f'over-determined: with outlet.kind = "{o.kind}" the jet leaves at the ambient '
                              "pressure, so inlet.pressure fixes the flow rate (and a flow rate fixes the pressure): give "

@@ -24,6 +24,7 @@ def run(args) -> int:
     from ..geometry.jet import first_trial
     from ..io.files import OutputError, atomic_dir, check_output_dir, write_vtu
     from ..mesh import mesh_profile, target_size
+    from ..names import free_jet
 
     case = load(args)
     try:
@@ -36,7 +37,7 @@ def run(args) -> int:
         err(f"{case.source}: {refusal(b)}")
         return 2
     profile = case.profile
-    if case.outlet.kind == "free-jet":  # the bore with the first trial jet, as the free-jet solve meshes it
+    if free_jet(case.outlet.kind):  # the bore with the first trial jet, as the free-jet solve meshes it
         profile = first_trial(profile, target_size(profile, case.mesh.size, case.mesh.level))
         out("free jet: the bore with the first trial jet (the run keeps this mesh and moves its nodes with the jet)")
     with atomic_dir(outdir, "mesh", args.force) as tmp:

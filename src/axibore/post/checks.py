@@ -14,6 +14,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..geometry.jet import estimated_contraction, lip_angle
+from ..names import discharges, free_jet
 
 
 # A polygonal wall (points with smooth = false) with this many gentle vertices (turns between
@@ -49,7 +50,7 @@ def _gas_warnings(case, flow, onedim) -> list[str]:
     out = []
     m_exit = float(np.max(flow.outlet.speed / np.sqrt(case.fluid.gamma * (flow.outlet.pressure + flow.ambient_pressure)
                                                       / flow.outlet.density)))
-    if m_exit >= 0.99 and case.outlet.kind == "exit-plane":
+    if m_exit >= 0.99 and discharges(case.outlet.kind) and not free_jet(case.outlet.kind):
         out.append(f"the exit plane is sonic or supersonic (Mach up to {m_exit:.3g}): the jet beyond it (expansion to the "
                    "ambient, shock cells) is not modelled; the flow upstream of the sonic line, and so the mass flow, does "
                    "not depend on it")
@@ -126,7 +127,7 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
     warnings += polygon_warnings(profile)
     if not onedim.meaningful:
         warnings.append("the wall runs backwards in x: the 1D model along x is not meaningful for this bore")
-    if case.outlet.kind == "exit-plane" and not flow.compressible:
+    if discharges(case.outlet.kind) and not free_jet(case.outlet.kind) and not flow.compressible:
         a = lip_angle(profile)
         if a < -math.radians(SHARP_LIP_DEG):
             cc = estimated_contraction(a)

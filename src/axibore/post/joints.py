@@ -24,7 +24,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..names import Boundary
+from ..names import Boundary, discharges
 
 CAUTION = ("Joint loads are the hydrodynamic part of the joint load only, not a flange design: bolt preload, gasket "
            "seating and operating stresses, external loads, water hammer and fatigue are outside them; defer to the "
@@ -85,6 +85,6 @@ def joint_loads(case, profile, flow, tables) -> list[JointLoad]:
 
 def jet_reaction(case, flow) -> float | None:
     """mdot V_out + p_out A_out for a bore discharging to ambient; None for a pipe outlet."""
-    if case.outlet.kind not in ("exit-plane", "free-jet"):
+    if not discharges(case.outlet.kind):
         return None
     return flow.mass_flow * flow.outlet_velocity + flow.outlet_pressure * flow.outlet_area

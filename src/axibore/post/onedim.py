@@ -20,6 +20,7 @@ import numpy as np
 from ..geometry import Profile
 from ..geometry.jet import exit_area
 from ..geometry.profile import min_flow_area
+from ..names import discharges, free_jet
 from ..solvers import onedim_gas as q1d
 from ..solvers.base import FlowResult
 
@@ -117,9 +118,9 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
     beta = float(np.sum(ux**2 * a) / (A * V_out**2))
     alpha = float(np.sum(ux * q2 * a) / (A * V_out**3))
 
-    free_jet = outlet_kind == "free-jet" and profile.jet
+    jet_outlet = free_jet(outlet_kind) and profile.jet
     a_exit = flow.outlet_area
-    if free_jet:
+    if jet_outlet:
         a_exit = exit_area(profile)  # m2 (planar: m2 per m of depth)
     ratio = a_exit / flow.inlet_area
     dp = flow.inlet_pressure - flow.outlet_pressure
@@ -150,7 +151,7 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
                "back_pressure_ratio": float(p_back_abs / p0_abs),
                "shock_at_exit_ratio": float(q1d.nozzle_regime(float(model.area[it]), float(model.area[-1]),
                                                               p_back_abs / p0_abs, case.fluid.gamma).p_shock_at_exit)}
-    elif free_jet:
+    elif jet_outlet:
         cd = float(Q / (a_exit * np.sqrt(2 * dp / rho))) if dp > 0 else None
         cd_note = ("Q / (A_exit sqrt(2 (p_inlet - p_ambient) / rho)), A_exit the flow area at the lip plane, p_inlet the "
                    "static inlet pressure, no velocity-of-approach factor (with the factor 1/sqrt(1 - (A_exit/A_inlet)^2) it is "
@@ -159,7 +160,7 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
         V1 = flow.inlet_velocity
         force_1d = flow.inlet_pressure * flow.inlet_area + flow.mass_flow * (V1 - Q / a_exit)
         force_1d_model = force_1d
-    elif outlet_kind == "pipe":
+    elif not discharges(outlet_kind):
         cd_note = "none for a pipe outlet (inviscid flow between two planes has no losses)"
     else:
         cd_note = "1 by the inviscid exit-plane model (an inviscid jet leaving through the exit plane has no losses and no contraction)"
@@ -218,8 +219,8 @@ def hand_answer(case, profile: Profile, flow: FlowResult) -> HandAnswer | None:
         return None
     rho = flow.inlet_density
     A1 = flow.inlet_area
-    discharge = case.outlet.kind in ("exit-plane", "free-jet")
-    A2 = exit_area(profile) if case.outlet.kind == "free-jet" else flow.outlet_area
+    discharge = discharges(case.outlet.kind)
+    A2 = exit_area(profile) if free_jet(case.outlet.kind) else flow.outlet_area
     ratio2 = (A2 / A1) ** 2
     p_in, p_out = case.inlet.pressure, (0.0 if discharge else case.outlet.pressure)
     if case.inlet.flow_rate is not None:
@@ -237,7 +238,7 @@ def hand_answer(case, profile: Profile, flow: FlowResult) -> HandAnswer | None:
     V1, V2 = Q / A1, Q / A2
     mdot = rho * Q
     note = ("by hand: continuity and Bernoulli from the inlet plane to the "
-            + ("lip plane (no contraction)" if case.outlet.kind == "free-jet" else "outlet plane")
+            + ("lip plane (no contraction)" if free_jet(case.outlet.kind) else "outlet plane")
             + ", uniform velocity on each; force p1 A1 - p2 A2 + mdot (V1 - V2)")
     return HandAnswer(Q, mdot, V1, V2, p_in, p_out, p_in * A1 - p_out * A2 + mdot * (V1 - V2), p_in * A1,
                       mdot * V2 + p_out * A2 if discharge else None, note)
