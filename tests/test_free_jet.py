@@ -234,3 +234,18 @@ def test_mesh_command_meshes_the_first_trial_jet(tmp_path, capsys):
     assert "first trial jet" in text and "jet " in text.split("boundary")[1]
     m = meshio.read(tmp_path / "mesh.vtu")
     assert m.points[:, 0].max() == pytest.approx(0.0 + 6 * 0.010, rel=0.05)  # lip at x = 0, r = 10 mm
+
+
+def test_an_unsettled_jet_exits_1_like_any_unconverged_solve(tmp_path, capsys, monkeypatch):
+    import tomli_w
+
+    import axibore.outlets.freejet as fj
+    from axibore.cli import main
+
+    monkeypatch.setattr(fj, "MAX_ITERATIONS", 1)  # no lip settles in one step from the trial jet
+    case = tmp_path / "slot.toml"
+    case.write_text(tomli_w.dumps({"fluid": WATER, "bore": SLOT, "inlet": {"pressure": "1 bar"}, "outlet": {"kind": "free-jet"},
+                                   "mesh": {"size": 0.1, "cells": "triangles"}}))
+    assert main(["run", str(case), "--out", str(tmp_path / "r")]) == 1
+    err = capsys.readouterr().err
+    assert "NOT CONVERGED" in err and "did not settle" in err and not (tmp_path / "r").exists()

@@ -301,3 +301,23 @@ def test_an_internal_error_is_one_line_and_a_saved_traceback(tmp_path, capsys, m
     saved = Path(err.split("the traceback is in ")[1].strip())
     assert "Traceback" in saved.read_text() and "a fault of the tool" in saved.read_text()
     saved.unlink()
+
+
+def test_temperatures_at_the_stated_bounds(tmp_path, capsys):
+    # the docs state 0.01 to 200 degC for water: 0.01 degC itself runs (it is 273.15 + 0.01 in floating
+    # point, a hair below 273.16 K); seawater below 0.01 degC runs without the wall layer and is refused
+    # with it, by check too (its viscosity is pure water's, defined from 0.01 degC)
+    def nozzle(fluid, extra=""):
+        return (f'[fluid]\n{fluid}\n[bore]\ntemplate = "conical"\ninlet_diameter = "40 mm"\nexit_diameter = "20 mm"\n'
+                'half_angle = "20 deg"\ninlet_length = "20 mm"\ntip_length = "10 mm"\n[inlet]\npressure = "2 bar"\n'
+                '[outlet]\nkind = "exit-plane"\n' + extra)
+
+    water = write(tmp_path, nozzle('kind = "water"\ntemperature = "0.01 degC"'), "water.toml")
+    rc, _, err = run_cli(["run", str(water), "--out", str(tmp_path / "w")], capsys)
+    assert rc == 0, err
+    cold = write(tmp_path, nozzle('kind = "seawater"\ntemperature = "-1 degC"'), "cold.toml")
+    rc, _, err = run_cli(["check", str(cold)], capsys)
+    assert rc == 2 and "cold.toml: fluid.temperature:" in err and 'viscous.model = "none"' in err
+    cold = write(tmp_path, nozzle('kind = "seawater"\ntemperature = "-1 degC"', '[viscous]\nmodel = "none"\n'), "cold2.toml")
+    rc, _, err = run_cli(["run", str(cold), "--out", str(tmp_path / "c")], capsys)
+    assert rc == 0, err

@@ -31,11 +31,18 @@ def cross_checks(m: CaseModel) -> list[tuple[str, str]]:
             problems.append((f"fluid.{key}", f'not used with fluid.kind = "{f.kind}" (keys for it: {", ".join(sorted(allowed))})'))
     if f.kind in ("water", "seawater") and f.temperature is None:
         problems.append(("fluid.temperature", f'missing: required for fluid.kind = "{f.kind}", e.g. "15 degC"'))
-    if f.kind == "water" and f.temperature is not None and not fluids.WATER_T_MIN <= f.temperature <= fluids.WATER_T_MAX:
+    T_TOL = 1e-9  # K: "0.01 degC" is 273.15 + 0.01 in floating point, a hair below 273.16
+    if f.kind == "water" and f.temperature is not None and \
+            not fluids.WATER_T_MIN - T_TOL <= f.temperature <= fluids.WATER_T_MAX + T_TOL:
         problems.append(("fluid.temperature", f"expected 0.01 to 200 degC for water (the range of IAPWS-IF97 liquid water), "
                          f"got {f.temperature - 273.15:.4g} degC"))
     if f.kind == "seawater" and f.temperature is not None and not fluids.SEAWATER_T_MIN <= f.temperature <= fluids.SEAWATER_T_MAX:
         problems.append(("fluid.temperature", f"expected -2 to 40 degC for seawater, got {f.temperature - 273.15:.4g} degC"))
+    elif f.kind == "seawater" and f.temperature is not None and f.temperature < fluids.WATER_T_MIN - T_TOL \
+            and m.viscous.model != "none":
+        problems.append(("fluid.temperature", f"seawater at {f.temperature - 273.15:.4g} degC: the wall layer's viscosity "
+                         "(IAPWS 2008 water with the salinity factor) is defined from 0.01 degC; give viscous.model = "
+                         '"none" for colder seawater (the inviscid run is valid down to -2 degC)'))
     if f.kind == "liquid":
         for key in ("density", "vapour_pressure"):
             if getattr(f, key) is None:

@@ -31,6 +31,7 @@ def add_args(p) -> None:
 
 def run(args) -> int:
     from ..run import RunRefused, run_case
+    from ..outlets import JetNotSettled
     from ..solvers.base import FlowError
 
     from ..io.files import OutputError, check_output_dir
@@ -47,6 +48,9 @@ def run(args) -> int:
     except RunRefused as exc:
         err(f"{case.source}: cannot run this case yet: {exc}")
         return 2
+    except JetNotSettled as exc:  # it ran, but did not converge: exit 1 as any unconverged solve
+        err(f"{case.source}: NOT CONVERGED: {exc.key}: {exc.message}")
+        return 1
     except FlowError as exc:
         err(f"{case.source}: {exc.key}: {exc.message}")
         return 2

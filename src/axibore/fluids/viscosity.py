@@ -46,7 +46,7 @@ def water_viscosity(temperature: float, pressure_abs: float) -> float:
     liquid is meant; viscosity changes by far less than 0.1 % over that range)."""
     from iapws import IAPWS97
 
-    if not WATER_T_MIN <= temperature <= WATER_T_MAX:
+    if not WATER_T_MIN - 1e-9 <= temperature <= WATER_T_MAX + 1e-9:  # 0.01 degC in floating point included
         raise ValueError(f"water temperature {temperature:.2f} K outside {WATER_T_MIN}-{WATER_T_MAX} K")
     p = max(pressure_abs, 1.05 * water_vapour_pressure(temperature))
     state = IAPWS97(T=temperature, P=p / 1e6)
