@@ -162,3 +162,25 @@ def test_bad_uncertainty_entries_are_refused_before_work(tmp_path, capsys, entry
     err = capsys.readouterr().err
     assert "uncertainty." in err and words in err, err
     assert not (tmp_path / "u").exists()
+
+
+def test_uncertainty_sensitivity_to_the_outlet_pressure_is_the_area_difference(tmp_path):
+    # A reducer with the flow rate and the outlet pressure given, pipe outlet: by the momentum theorem
+    # the wall force is p1 A1 - p2 A2 + rho Q (V1 - V2) with p1 = p2 + rho (V2^2 - V1^2) / 2 (Bernoulli),
+    # so at a fixed flow dF/dp2 = A1 - A2 exactly (derived). Through the Python API, two levels.
+    import axibore
+
+    bore = {"template": "reducer", "inlet_diameter": "200 mm", "outlet_diameter": "120 mm", "half_angle": "15 deg",
+            "inlet_length": "200 mm", "outlet_length": "200 mm", "knuckle_radius": "100 mm"}
+    from axibore.case import case_from_dict
+
+    case = case_from_dict({"fluid": {"kind": "water", "temperature": "15 degC"}, "bore": bore,
+                           "inlet": {"flow_rate": "0.05 m^3/s"}, "outlet": {"kind": "pipe", "pressure": "4 bar"},
+                           "mesh": {"size": 0.2}, "viscous": {"model": "none"}})
+    res = axibore.uncertainty(case, inputs={"outlet.pressure": "0.2 bar"}, levels=(0, 1), out=tmp_path / "u")
+    row = next(r for r in res.rows if r["name"] == "wall force on the part [N]")
+    A1, A2 = math.pi * 0.1**2, math.pi * 0.06**2
+    assert row["sensitivities"]["outlet.pressure"] == pytest.approx(A1 - A2, rel=5e-3)
+    assert row["u_input"] == pytest.approx((A1 - A2) * 0.2e5, rel=5e-3)
+    assert any("Covered: the discretisation" in line for line in res.lines()) or json.loads(
+        (tmp_path / "u" / "uncertainty.json").read_text())["caution"].startswith("Covered")

@@ -35,3 +35,24 @@ def sweep(case_or_path=None, vary: dict | None = None, zip: bool = False, worker
 
 
 __all__ = ["Case", "CaseError", "load_case", "run", "sweep", "__version__"]
+
+
+def uncertainty(case_or_path=None, inputs: dict | None = None, levels=(0, 1, 2), workers: int = 1,
+                scheduler: str | None = None, out=None, method: str = "linear", samples: int = 32, progress=None):
+    """Every headline number with its numerical and input uncertainty (``UncertaintyResult``: ``.rows``,
+    ``.lines()``). ``inputs``: dotted key -> standard uncertainty ("0.1 bar", "1 %"), added to the
+    case's [uncertainty] table; ``out``: the study folder (default runs/<case name>-uncertainty)."""
+    from pathlib import Path
+
+    from .case import demo_case_path
+    from .io.files import check_output_dir
+    from .study.runner import executor
+    from .study.uncertainty import parse_inputs, run_uncertainty
+
+    case = case_or_path if isinstance(case_or_path, Case) else load_case(case_or_path or demo_case_path())
+    table = {**(case.model.uncertainty or {}), **(inputs or {})}
+    parsed = parse_inputs(case, table, case.source) if table else []
+    stem = Path(str(case.source).split(" (")[0]).stem or "case"
+    folder = check_output_dir(Path(out) if out is not None else Path("runs") / f"{stem}-uncertainty", "uncertainty")
+    with executor(workers, scheduler=scheduler, dask=bool(scheduler)) as ex:
+        return run_uncertainty(case, parsed, list(levels), folder, ex, method, samples, progress)

@@ -43,6 +43,9 @@ def run(args) -> int:
         err(f"--out: {exc}")
         return 2
     out(f"axibore {__version__}: {case.title}")
+    if case.model.uncertainty:
+        out("note: the case has an [uncertainty] table; `axibore uncertainty CASE` gives every headline number with "
+            "its numerical and input uncertainty (this run is one point of it)")
     try:
         res = run_case(case, outdir, progress, unit=args.units, max_cells=args.max_cells, force=args.force)
     except RunRefused as exc:

@@ -29,7 +29,7 @@ def run(args) -> int:
     from ..case import CaseError
     from ..io.files import check_output_dir
     from ..study.runner import executor
-    from ..study.uncertainty import parse_inputs, run_uncertainty
+    from ..study.uncertainty import CAUTION, parse_inputs, run_uncertainty
 
     case = load(args)
     refused = case.unsupported()
@@ -72,7 +72,8 @@ def run(args) -> int:
         out(line)
     out("")
     out("u_num: GCI (Celik et al. 2008) / 2; u_input: central differences (or Monte Carlo); U = 2 u_c "
-        "(ASME V&V 20-2009; GUM, JCGM 100:2008). Hydrodynamic load only; defer to the applicable codes.")
+        "(ASME V&V 20-2009; GUM, JCGM 100:2008).")
+    out(f"Caution: {CAUTION}")
     out(f"wrote {outdir}/ (uncertainty.json, uncertainty.csv, runs/)")
     if res.failed:
         for f in res.failed:

@@ -43,6 +43,9 @@ from .gci import gci
 from .gridstudy import DESIGN_ORDER
 from .sweep import Point, _si_value, point_name, run_sweep, without_sweep
 
+CAUTION = ("Covered: the discretisation (grid study) and the stated input uncertainties. Not covered: model-form "
+           "error (inviscid flow or a boundary-layer model, steady, axisymmetric or planar) and validation against "
+           "measurements. Hydrodynamic load only; defer to the applicable codes and to licensed engineering practice.")
 COVERAGE = 2.0  # k: expanded = k x standard (about 95 % for a normal distribution; GUM 6.2)
 GCI_TO_STANDARD = 2.0  # the GCI read as a 95 % expanded uncertainty: standard = GCI / 2 (module docstring)
 
@@ -218,7 +221,11 @@ class UncertaintyResult:
                               "; combined u_c = sqrt(u_num^2 + u_input^2), expanded U = 2 u_c (ASME V&V 20-2009; "
                               "GUM, JCGM 100:2008)"),
                 "inputs": [{"key": i.key, "given": i.given, "nominal_si": i.nominal, "u_si": i.u} for i in self.inputs],
-                "quantities": [q.as_dict() for q in self.quantities], "failed": self.failed}
+                "quantities": [q.as_dict() for q in self.quantities], "failed": self.failed, "caution": CAUTION}
+
+    @property
+    def rows(self) -> list[dict]:
+        return [q.as_dict() for q in self.quantities]
 
     def lines(self) -> list[str]:
         out = [f"{'quantity':40s} {'value':>12s} {'u_num':>10s} {'u_input':>10s} {'U (k=2)':>10s} {'U/|value|':>9s}"]
