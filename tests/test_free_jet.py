@@ -249,3 +249,14 @@ def test_an_unsettled_jet_exits_1_like_any_unconverged_solve(tmp_path, capsys, m
     assert main(["run", str(case), "--out", str(tmp_path / "r")]) == 1
     err = capsys.readouterr().err
     assert "NOT CONVERGED" in err and "did not settle" in err and not (tmp_path / "r").exists()
+
+
+def test_one_discharge_coefficient_with_the_approach_factor():
+    # the flow-measurement definition (ISO 5167-1: C with E = 1 / sqrt(1 - beta^4), here beta^2 = area ratio):
+    # Cd = Q / (A sqrt(2 dp / (rho (1 - beta^2)))). For a jet contracting to Cc A at the total head
+    # p1 + rho V1^2 / 2 this is Cd = Cc sqrt(1 - beta^2) / sqrt(1 - Cc^2 beta^2) (derived), not Cc itself.
+    res = solve_case(_case(SLOT))
+    cc, beta = res.jet.contraction_coefficient, 1.0 / 20.0
+    expected = cc * math.sqrt(1 - beta**2) / math.sqrt(1 - cc**2 * beta**2)
+    assert res.onedim.discharge_coefficient == pytest.approx(expected, rel=1e-3)
+    assert "velocity-of-approach" in res.onedim.discharge_coefficient_note

@@ -25,6 +25,13 @@ from ..solvers import onedim_gas as q1d
 from ..solvers.base import FlowResult
 
 
+# One discharge coefficient for every liquid discharge, measured as the flow-measurement standards
+# define it (ISO 5167-1, the coefficient C with the velocity-of-approach factor E = 1 / sqrt(1 - beta^4)):
+CD_DEFINITION = ("Q / (A_exit sqrt(2 (p_inlet - p_outlet) / (rho (1 - (A_exit / A_inlet)^2)))): the computed flow over "
+                 "the 1D flow of continuity and Bernoulli with the velocity-of-approach factor (as ISO 5167-1 defines C), "
+                 "A_exit {exit}, p_inlet the mean static pressure on the inlet plane")
+
+
 @dataclass(frozen=True)
 class OneDimComparison:
     force_dev_rel: float  # (F_2D - F_1D) / |F_1D|
@@ -128,8 +135,6 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
     if dp > 0 and ratio < 1 - 1e-9 and not flow.compressible:
         Q1 = a_exit * np.sqrt(2 * dp / (rho * (1 - ratio**2)))
         ratio_1d = float(Q / Q1)
-    # An inviscid flow leaving through a plane at a given pressure has no losses and no jet
-    # contraction: its discharge coefficient is 1 by construction of the model.
     cd = None
     force_1d_model = None
     if flow.compressible:
@@ -152,18 +157,15 @@ def compare(case, profile: Profile, flow: FlowResult, tables: dict, force_2d: fl
                "shock_at_exit_ratio": float(q1d.nozzle_regime(float(model.area[it]), float(model.area[-1]),
                                                               p_back_abs / p0_abs, case.fluid.gamma).p_shock_at_exit)}
     elif jet_outlet:
-        cd = float(Q / (a_exit * np.sqrt(2 * dp / rho))) if dp > 0 else None
-        cd_note = ("Q / (A_exit sqrt(2 (p_inlet - p_ambient) / rho)), A_exit the flow area at the lip plane, p_inlet the "
-                   "static inlet pressure, no velocity-of-approach factor (with the factor 1/sqrt(1 - (A_exit/A_inlet)^2) it is "
-                   "flow_ratio_to_1d; on the total head it equals the contraction coefficient of an inviscid jet)")
+        cd, cd_note = ratio_1d, CD_DEFINITION.format(exit="the lip plane")
         # the exit-plane hand formula: the jet leaves the lip plane uniformly at the ambient pressure
         V1 = flow.inlet_velocity
         force_1d = flow.inlet_pressure * flow.inlet_area + flow.mass_flow * (V1 - Q / a_exit)
         force_1d_model = force_1d
     elif not discharges(outlet_kind):
         cd_note = "none for a pipe outlet (inviscid flow between two planes has no losses)"
-    else:
-        cd_note = "1 by the inviscid exit-plane model (an inviscid jet leaving through the exit plane has no losses and no contraction)"
+    else:  # an exit plane: no losses, no contraction; what is left is the 2D flow's departure from uniform planes
+        cd, cd_note = ratio_1d, CD_DEFINITION.format(exit="the exit plane")
     dev_pa = worst * q_out
     local = dev_pa / abs(worst_p) if np.isfinite(worst_p) and abs(worst_p) > 0.1 * q_out else None
     return OneDimComparison(
