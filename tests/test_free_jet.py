@@ -236,6 +236,7 @@ def test_mesh_command_meshes_the_first_trial_jet(tmp_path, capsys):
     assert m.points[:, 0].max() == pytest.approx(0.0 + 6 * 0.010, rel=0.05)  # lip at x = 0, r = 10 mm
 
 
+<<<<<<< ours
 def test_an_unsettled_jet_exits_1_like_any_unconverged_solve(tmp_path, capsys, monkeypatch):
     import tomli_w
 
@@ -260,3 +261,47 @@ def test_one_discharge_coefficient_with_the_approach_factor():
     expected = cc * math.sqrt(1 - beta**2) / math.sqrt(1 - cc**2 * beta**2)
     assert res.onedim.discharge_coefficient == pytest.approx(expected, rel=1e-3)
     assert "velocity-of-approach" in res.onedim.discharge_coefficient_note
+=======
+def lip_catalogue():
+    """Twenty lips: wall angles from 0 to 180 degrees to the jet axis, planar and axisymmetric,
+    reservoirs (20 lip radii wide) and nozzles (2.5 lip radii), with and without a centre body."""
+    cases = []
+    for sym in ("planar", "axisymmetric"):
+        for deg in (0.0, 30.0, 60.0, 90.0, 120.0, 150.0, 180.0):
+            if deg == 0.0:  # a straight tube ending in the reservoir's far wall: the jet leaves parallel
+                bore = {"template": "segments", "symmetry": sym, "start": ["-60 mm", "20 mm"],
+                        "segment": [{"to": ["-20 mm", "20 mm"]}, {"to": ["-20 mm", "1 mm"]}, {"to": ["0 mm", "1 mm"]}]}
+            elif deg == 180.0:
+                bore = borda(sym)
+            elif deg < 90.0:
+                bore = converging_walls(deg) | {"symmetry": sym}
+            else:  # walls running back towards the lip: a re-entrant funnel
+                run = 19.0 / math.tan(math.radians(180.0 - deg)) if deg < 180.0 else 0.0
+                bore = {"template": "segments", "symmetry": sym, "start": ["-60 mm", "20 mm"],
+                        "segment": [{"to": [f"{run!r} mm", "20 mm"]}, {"to": ["0 mm", "1 mm"]}]}
+            cases.append((f"{sym}-{deg:g}deg-reservoir", bore))
+    for sym in ("planar", "axisymmetric"):
+        for deg in (30.0, 60.0):
+            run = 1.5 / math.tan(math.radians(deg))
+            bore = {"template": "segments", "symmetry": sym, "start": ["-10 mm", "2.5 mm"],
+                    "segment": [{"to": [f"{-run!r} mm", "2.5 mm"]}, {"to": ["0 mm", "1 mm"]}]}
+            cases.append((f"{sym}-{deg:g}deg-nozzle", bore))
+    needle = {"start": ["-8 mm", "0 mm"], "segment": [{"to": ["-7 mm", "0.8 mm"]}, {"to": ["-1 mm", "0.8 mm"]},
+                                                        {"to": ["1.5 mm", "0 mm"]}]}
+    run = 1.5 / math.tan(math.radians(40.0))
+    for sym in ("axisymmetric", "planar"):
+        cases.append((f"{sym}-40deg-nozzle-needle", {"template": "segments", "symmetry": sym, "start": ["-10 mm", "2.5 mm"],
+                                                     "segment": [{"to": [f"{-run!r} mm", "2.5 mm"]}, {"to": ["0 mm", "1 mm"]}],
+                                                     "centerbody": needle}))
+    return cases
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("name, bore", lip_catalogue(), ids=[n for n, _ in lip_catalogue()])
+def test_lip_catalogue_settles(name, bore):
+    # every lip of the catalogue settles at level 0 on the default path: no self-crossing, no
+    # iteration limit, and a contraction between Borda's 1/2 and no contraction at all
+    res = solve_case(_case(bore))
+    assert res.jet.settled and len(res.jet.history) <= 12, name
+    assert 0.49 < res.jet.contraction_coefficient <= 1.001
+>>>>>>> theirs
