@@ -236,7 +236,6 @@ def test_mesh_command_meshes_the_first_trial_jet(tmp_path, capsys):
     assert m.points[:, 0].max() == pytest.approx(0.0 + 6 * 0.010, rel=0.05)  # lip at x = 0, r = 10 mm
 
 
-<<<<<<< ours
 def test_an_unsettled_jet_exits_1_like_any_unconverged_solve(tmp_path, capsys, monkeypatch):
     import tomli_w
 
@@ -261,7 +260,8 @@ def test_one_discharge_coefficient_with_the_approach_factor():
     expected = cc * math.sqrt(1 - beta**2) / math.sqrt(1 - cc**2 * beta**2)
     assert res.onedim.discharge_coefficient == pytest.approx(expected, rel=1e-3)
     assert "velocity-of-approach" in res.onedim.discharge_coefficient_note
-=======
+
+
 def lip_catalogue():
     """Twenty lips: wall angles from 0 to 180 degrees to the jet axis, planar and axisymmetric,
     reservoirs (20 lip radii wide) and nozzles (2.5 lip radii), with and without a centre body."""
@@ -304,4 +304,3 @@ def test_lip_catalogue_settles(name, bore):
     res = solve_case(_case(bore))
     assert res.jet.settled and len(res.jet.history) <= 12, name
     assert 0.49 < res.jet.contraction_coefficient <= 1.001
->>>>>>> theirs
