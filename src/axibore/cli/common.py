@@ -92,3 +92,11 @@ def run_dir(path: str, need_fields: bool = False) -> Path:
         raise CaseError(str(p), [("", "fields.vtu is missing (a grid study keeps it for its finest level only; "
                                       "rerun with --keep fields or view the finest level)")])
     return p
+
+
+def refused(case) -> bool:
+    """Say why this version cannot run ``case`` (True), before any work."""
+    why = case.unsupported()
+    if why:
+        err(f"{case.source}: cannot run this case yet: {'; '.join(why)}")
+    return bool(why)

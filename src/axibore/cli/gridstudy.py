@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..version import __version__
-from .common import FORCE_HELP, add_case_arg, err, levels, load, out, stem
+from .common import FORCE_HELP, add_case_arg, err, levels, load, out, refused, stem
 
 HELP = "grid-convergence study: the case at several mesh levels, observed order, extrapolation, GCI"
 
@@ -29,9 +29,7 @@ def run(args) -> int:
     from ..study.runner import executor
 
     case = load(args)
-    refused = case.unsupported()
-    if refused:
-        err(f"{case.source}: cannot run this case yet: {'; '.join(refused)}")
+    if refused(case):
         return 2
     if args.workers < 1:
         err(f"--workers: expected 1 or more, got {args.workers}")

@@ -5,7 +5,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from ..version import __version__
-from .common import FORCE_HELP, add_case_arg, err, levels, load, out, stem
+from .common import FORCE_HELP, add_case_arg, err, levels, load, out, refused, stem
 
 HELP = "every headline number with its uncertainty: grid (GCI) and inputs ([uncertainty], --input), combined"
 
@@ -32,9 +32,7 @@ def run(args) -> int:
     from ..study.uncertainty import CAUTION, parse_inputs, run_uncertainty
 
     case = load(args)
-    refused = case.unsupported()
-    if refused:
-        err(f"{case.source}: cannot run this case yet: {'; '.join(refused)}")
+    if refused(case):
         return 2
     if args.workers < 1 or args.samples < 2:
         err(f"--workers / --samples: expected at least 1 worker and 2 samples, got {args.workers} and {args.samples}")
