@@ -108,6 +108,9 @@ def absolute_wall_pressure(p: dict, unit: str = "bar") -> str:
     pabs, pv = p["min_wall_absolute_Pa"], p["vapour_pressure_Pa"]
     if pv is None:
         return show(pabs, "pressure", unit=unit)
+    if pabs < pv and p.get("min_wall_at_singular_point"):
+        return (f"below the vapour pressure ({show(pv, 'pressure', 3, unit)}) by {show(pv - pabs, 'pressure', 3, unit)} only at "
+                f"{p['min_wall_at_singular_point']}: the singular suction of potential flow there, not a flow prediction")
     if pabs < pv:
         return (f"below the vapour pressure ({show(pv, 'pressure', 3, unit)}) by {show(pv - pabs, 'pressure', 3, unit)}: the flow "
                 "cavitates there and the single-phase result is not valid")

@@ -21,6 +21,9 @@ def cavitation_verdict(p: dict) -> str:
         return (f"none expected: the wall pressure nowhere falls below the outlet pressure (inception index "
                 f"{sigma_i:.3g} <= 0; cavitation index {sigma:.4g})")
     margin = sigma - sigma_i
+    if margin <= 0 and p.get("min_wall_at_singular_point"):
+        return (f"no verdict: the index {sigma:.4g} is below the inception index {sigma_i:.4g} only at "
+                f"{p['min_wall_at_singular_point']}, where potential flow's suction is singular (see the warning)")
     verdict = "none expected" if margin > 0 else "EXPECTED"
     return (f"{verdict}: cavitation index {sigma:.4g} against the inception index {sigma_i:.4g} (margin {margin:+.3g}; "
             "cavitation where the index is below the inception index)")

@@ -82,6 +82,7 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("pressure", "min_wall_x_m", lambda r: r.checks.min_wall_x_m),
     ("pressure", "min_wall_r_m", lambda r: r.checks.min_wall_r_m),
     ("pressure", "min_wall_boundary", lambda r: r.checks.min_wall_boundary),
+    ("pressure", "min_wall_at_singular_point", lambda r: r.checks.min_at_singular_point),
     ("pressure", "min_wall_absolute_Pa", lambda r: r.checks.min_wall_absolute_Pa),
     ("pressure", "cavitation_index", lambda r: r.checks.cavitation_index),
     ("pressure", "inception_index", lambda r: r.checks.inception_index),

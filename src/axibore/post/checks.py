@@ -78,6 +78,7 @@ class Checks:
     inception_index: float | None  # -Cp_min
     cp_min: float
     warnings: list[str]
+    min_at_singular_point: str | None = None  # the sharp corner or lip the minimum sits at (singular suction)
 
 
 SHARP_LIP_DEG = 5.0  # an exit where the wall meets it at more than this to the axis is a sharp lip
@@ -96,8 +97,16 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
     sigma = (p_out + p_amb - pv) / q_out if pv is not None else float("nan")
     warnings: list[str] = []
 
+    singular = _singular_point_near(case, profile, flow, t, k)
     if flow.compressible:
         warnings += _gas_warnings(case, flow, onedim)
+    elif p_min + p_amb < pv and singular:
+        warnings.append(
+            f"the wall pressure falls below the vapour pressure only next to {singular}, where the potential-flow suction "
+            "is singular (it grows without limit under refinement): a limit of the model there, not a cavitation "
+            "prediction; round the corner, or at a discharging lip use outlet.kind = \"free-jet\", for a pressure the "
+            "flow really reaches"
+        )
     elif p_min + p_amb < pv:
         below = {n: tb.x[tb.pressure + p_amb < pv] for n, tb in tables.items()}
         spans = ", ".join(f"{n} x = {v.min() * 1e3:.4g} to {v.max() * 1e3:.4g} mm" for n, v in below.items() if v.size)
@@ -153,4 +162,23 @@ def checks(case, profile, flow, tables: dict, forces, onedim) -> Checks:
         inception_index=None if flow.compressible else float(-cp_min),
         cp_min=float(cp_min),
         warnings=warnings,
+        min_at_singular_point=singular or None,
     )
+
+
+def _singular_point_near(case, profile, flow, t, k) -> str:
+    """What singular point of potential flow the wall minimum sits at (a sharp convex corner, or the sharp
+    lip of an exit-plane outlet), within six face lengths, or ""."""
+    if flow.compressible:
+        return ""
+    x, r = float(t.x[k]), float(t.r[k])
+    reach = 6.0 * max(float(t.length[k]), float(np.median(t.length)))
+    points = [(c.x, c.r, f"the sharp convex corner at x = {c.x * 1e3:.4g} mm ({c.key})") for c in profile.corners() if c.convex]
+    if discharges(case.outlet.kind) and not free_jet(case.outlet.kind) and \
+            lip_angle(profile) < -math.radians(SHARP_LIP_DEG):
+        lx, lr = profile.wall[-1].end
+        points.append((lx, lr, f"the sharp exit lip at x = {lx * 1e3:.4g} mm"))
+    for px, pr, what in points:
+        if math.hypot(px - x, pr - r) < reach:
+            return what
+    return ""
