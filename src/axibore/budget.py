@@ -54,7 +54,7 @@ def bytes_per_cell(solver: str | None) -> float:
 
 
 def memory_estimate(cells: int, solver: str | None) -> float:
-    return BASE_BYTES + bytes_per_cell(solver) * cells
+    return BASE_BYTES + bytes_per_cell(solver) * float(min(cells, 10**18))  # an absurd count stays a number
 
 
 @lru_cache(maxsize=32)

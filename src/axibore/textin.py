@@ -27,7 +27,7 @@ def read_input_text(path: str | Path, what: str, max_bytes: int) -> str:
     except OSError as exc:
         raise InputError(f"cannot read the {what} ({exc.strerror})") from None
     try:
-        return raw.decode("utf-8")
+        return raw.decode("utf-8").removeprefix("\ufeff")  # a byte-order mark some editors write is not text
     except UnicodeDecodeError as exc:
         line = raw[: exc.start].count(b"\n") + 1
         raise InputError(f"the {what} is not UTF-8 text (byte 0x{raw[exc.start]:02x} on line {line})") from None

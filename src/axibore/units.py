@@ -81,8 +81,13 @@ def _lookup(unit: str, dimension: str) -> tuple[float, float] | None:
     u = _normal(unit)
     if u in units:
         return units[u]
-    folded = {_normal(k).lower(): v for k, v in units.items()}  # "kpa" and "KPa" are read as kPa
-    return folded.get(u.lower())
+    # "kpa" and "KPa" are read as kPa, but never milli for mega or mega for milli ("mPa", "Mbar", "Mm"):
+    # a folded match keeps the case of a leading m or M
+    for k, v in units.items():
+        key = _normal(k)
+        if key.lower() == u.lower() and not (u[:1] in "mM" and key[:1] in "mM" and u[:1] != key[:1]):
+            return v
+    return None
 
 
 def _pressure(unit: str) -> tuple[tuple[float, float], str | None] | None:

@@ -82,6 +82,9 @@ def format_validation(exc: ValidationError, data: dict, prefix: str = "", model=
             path = "bore.template"
         elif kind == "literal_error":
             msg = f"expected {err['ctx']['expected']}, got {given!r}"
+        elif kind == "list_type" and isinstance(given, dict):
+            msg = (f"expected a list of tables, got one table: write [[{path}]] (double brackets) for each entry, "
+                   f"or {path} = [{{...}}, ...]")
         else:
             msg = err["msg"]
             if msg.startswith("Value error, "):

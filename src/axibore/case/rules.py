@@ -16,6 +16,10 @@ from .schema import OPERATING_POINTS, CaseModel
 GAS_T_RANGE = (50.0, 3000.0)  # K
 GAS_P_MAX = 1.0e8  # Pa absolute (1000 bar)
 
+LIQUID_DENSITY = (200.0, 25000.0)  # kg/m^3
+LIQUID_T_RANGE = (100.0, 1300.0)  # K
+GAS_R_RANGE = (20.0, 5000.0)  # J/(kg K): R / M from M = 0.4 kg/mol to hydrogen's 0.002016 kg/mol (8.314 / M)
+GASKET_MAX = 10.0  # a gasket reaction diameter at most this many bore diameters
 
 def cross_checks(m: CaseModel) -> list[tuple[str, str]]:
     problems = []
@@ -55,7 +59,24 @@ def cross_checks(m: CaseModel) -> list[tuple[str, str]]:
         if f.gamma is not None and not 1.0 < f.gamma <= 5.0 / 3.0:
             problems.append(("fluid.gamma", f"expected 1 < gamma <= 5/3, got {f.gamma}"))
 
+    if f.kind in ("liquid", "seawater") and f.density is not None and not LIQUID_DENSITY[0] <= f.density <= LIQUID_DENSITY[1]:
+        problems.append(("fluid.density", f"expected {LIQUID_DENSITY[0]:g} to {LIQUID_DENSITY[1]:g} kg/m^3 for a liquid (light "
+                         f"hydrocarbons to mercury, 13,500; common practice), got {f.density:.6g} kg/m^3"))
+    if f.kind == "liquid" and f.temperature is not None and not LIQUID_T_RANGE[0] <= f.temperature <= LIQUID_T_RANGE[1]:
+        problems.append(("fluid.temperature", f"expected {LIQUID_T_RANGE[0]:g} to {LIQUID_T_RANGE[1]:g} K for a liquid, got "
+                         f"{f.temperature:.6g} K"))
+    if f.kind == "ideal-gas" and f.gas_constant is not None and not GAS_R_RANGE[0] <= f.gas_constant <= GAS_R_RANGE[1]:
+        problems.append(("fluid.gas_constant", f"expected {GAS_R_RANGE[0]:g} to {GAS_R_RANGE[1]:g} J/(kg K) (the molar gas "
+                         f"constant over molar masses from hydrogen's, 4124, to heavy vapours; derived), got {f.gas_constant:.6g}"))
     i, o = m.inlet, m.outlet
+    amb = o.ambient_pressure
+    for key, gauge in (("inlet.pressure", i.pressure), ("outlet.pressure", o.pressure), ("inlet.total_pressure", i.total_pressure)):
+        if gauge is not None and not gauge + amb > 0:
+            problems.append((key, f"expected an absolute pressure above zero (gauge above -{amb:.6g} Pa with the ambient "
+                             f"{amb:.6g} Pa), got {gauge:.6g} Pa gauge = {gauge + amb:.6g} Pa absolute"))
+    if f.kind == "liquid" and f.vapour_pressure is not None and i.pressure is not None and f.vapour_pressure >= i.pressure + amb:
+        problems.append(("fluid.vapour_pressure", f"expected below the inlet's absolute pressure ({i.pressure + amb:.6g} Pa): at "
+                         f"{f.vapour_pressure:.6g} Pa the liquid boils before it enters"))
     if f.kind == "ideal-gas":
         for key in ("total_pressure", "total_temperature"):
             if getattr(i, key) is None:
@@ -182,6 +203,10 @@ def joint_checks(m: CaseModel, profile) -> list[tuple[str, str]]:
             if np.isfinite(bore) and j.gasket_diameter < bore * (1 - 1e-9):
                 problems.append((f"{key}.gasket_diameter", f"expected at least the bore diameter at the joint ({bore * 1e3:.6g} mm), "
                                  f"got {j.gasket_diameter * 1e3:.6g} mm"))
+            elif np.isfinite(bore) and j.gasket_diameter > GASKET_MAX * bore:
+                problems.append((f"{key}.gasket_diameter", f"expected at most {GASKET_MAX:g} times the bore diameter at the "
+                                 f"joint ({GASKET_MAX * bore * 1e3:.6g} mm; a flange face, not a bulkhead), got "
+                                 f"{j.gasket_diameter * 1e3:.6g} mm"))
     return problems
 
 

@@ -15,7 +15,7 @@ from importlib import import_module
 
 from ..version import __version__
 from ..case import CaseError
-from ..io.files import OutputError
+from ..io.files import DamagedFile, OutputError
 from ..study.runner import SchedulerError
 from .common import err
 
@@ -65,6 +65,9 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except OutputError as exc:
         err(f"--out: {exc}")
+        return 2
+    except DamagedFile as exc:
+        err(str(exc))
         return 2
     except SchedulerError as exc:
         err(f"--scheduler: {exc}")

@@ -27,6 +27,9 @@ def run(args) -> int:
     from ..names import free_jet
 
     case = load(args)
+    if args.max_cells is not None and args.max_cells < 1:
+        err(f"--max-cells: expected a positive number of cells, got {args.max_cells}")
+        return 2
     try:
         outdir = check_output_dir(Path(args.out), "mesh", args.force, say=out)
     except OutputError as exc:

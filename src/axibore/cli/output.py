@@ -114,12 +114,15 @@ def viscous_rows(summary: dict) -> list[tuple[str, str]]:
     if v.get("model") != "integral":
         return []
     f = summary["forces"]
-    rows = [("wall layer", f"Re {v['reynolds_number']:.4g} (on {show(v['reynolds_length_m'], 'length')}), start "
+    def g(x, spec: str) -> str:  # a number the layer may not have given
+        return "-" if x is None else format(x, spec)
+
+    rows = [("wall layer", f"Re {g(v['reynolds_number'], '.4g')} (on {show(v['reynolds_length_m'], 'length')}), start "
                            f"{v['settings']['start']}, " + (", ".join(f"transition x = {show(x, 'length')}" for x in v["transition_x_m"])
                                                           or "no transition")),
             ("friction force x", f"{show(f['friction_x_N'], 'force')}; with the wall pressure {show(f['total_with_friction_x_N'], 'force')}")]
     cd = v["discharge_coefficient"]
-    rows.append(("viscous discharge coeff", f"{cd:.5f} (inviscid {v['discharge_coefficient_inviscid']:.5f})" if cd is not None
+    rows.append(("viscous discharge coeff", f"{cd:.5f} (inviscid {g(v['discharge_coefficient_inviscid'], '.5f')})" if cd is not None
                  else v["discharge_coefficient_note"]))
     if v["loss_coefficient"] is not None:
         rows.append(("loss coefficient K", f"{v['loss_coefficient']:.4g} (head loss {v['head_loss_m']:.4g} m, "
@@ -127,7 +130,7 @@ def viscous_rows(summary: dict) -> list[tuple[str, str]]:
     else:
         rows.append(("loss coefficient K", v["loss_coefficient_note"]))
     sep = ", ".join(f"x {a * 1e3:.4g} to {b * 1e3:.4g} mm" for a, b in v["separation_x_ranges_m"])
-    rows.append(("layer separated", sep or f"nowhere (largest shape factor {v['max_shape_factor']:.3g})"))
+    rows.append(("layer separated", sep or f"nowhere (largest shape factor {g(v['max_shape_factor'], '.3g')})"))
     d = v.get("displacement")
     if d:
         rows.append(("displacement pass", f"{d['mode']}, {d['passes']} re-solve(s): wall force {d['force_change_N']:+.4g} N "

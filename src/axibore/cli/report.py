@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from ..units import PRESSURE_UNITS
-from .common import out, run_dir
+from .common import err, out, run_dir
 
 HELP = "rebuild report.html of a run directory"
 
@@ -15,8 +15,15 @@ def add_args(p) -> None:
 
 
 def run(args) -> int:
+    from ..io.ownership import file_hash, read_manifest
     from ..view.report import build_report
 
-    path = build_report(run_dir(args.run_dir), include_3d=not args.no_3d, unit=args.units)
+    folder = run_dir(args.run_dir)
+    m = read_manifest(folder)
+    report = folder / "report.html"
+    if report.exists() and (m is None or m.files.get("report.html") != file_hash(report)):
+        err(f"{report}: was not written by axibore or was changed since: not replaced; move it away to rebuild the report")
+        return 2
+    path = build_report(folder, include_3d=not args.no_3d, unit=args.units)
     out(f"wrote {path}")
     return 0

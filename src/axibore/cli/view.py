@@ -17,6 +17,7 @@ def add_args(p) -> None:
                    help="field on the cut planes (shear: the wall coloured by the wall shear of its wall layer)")
     p.add_argument("--angle", type=float, default=270.0, help="revolution angle in degrees (default 270: a cut-away)")
     p.add_argument("--png", help="render off-screen to this PNG file instead of opening a window (required without a display)")
+    p.add_argument("--force", action="store_true", help="replace an existing --png file")
     p.add_argument("--meridional", action="store_true", help="flat meridional view with streamlines and axes")
     p.add_argument("--units", choices=list(PRESSURE_UNITS), default="bar", help="pressure unit of the colour scale (default bar)")
     p.add_argument("--x-range", help='zoom on an axial range, e.g. "180 mm,215 mm" (numbers alone are metres)')
@@ -53,6 +54,9 @@ def run(args) -> int:
         png = Path(args.png)
         if png.suffix.lower() != ".png" or png.is_dir():
             err(f"--png: expected a file name ending in .png, got {args.png!r}")
+            return 2
+        if png.exists() and not args.force:
+            err(f"--png: {args.png} exists; give another file name, or --force to replace it")
             return 2
         if not png.parent.exists():
             err(f"--png: the folder {str(png.parent)!r} does not exist")

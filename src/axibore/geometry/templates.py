@@ -219,7 +219,7 @@ def build_profile(bore, base_dir: Path | None = None, free_jet: bool = False) ->
     if t == "conical":
         ri, re = b.inlet_diameter / 2, b.exit_diameter / 2
         if not re < ri:
-            raise ProfileError("bore.exit_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m) for a nozzle")
+            raise ProfileError("bore.exit_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m) for a nozzle, got {b.exit_diameter:.6g} m")
         lc = _straight_cone(ri, re, b.half_angle)
         v = [(0, ri), (b.inlet_length, ri), (b.inlet_length + lc, re), (b.inlet_length + lc + b.tip_length, re)]
         wall = _cone_and_tip(v, b.tip_length, b.lip_radius)
@@ -236,7 +236,7 @@ def build_profile(bore, base_dir: Path | None = None, free_jet: bool = False) ->
     elif t == "contoured":
         ri, re = b.inlet_diameter / 2, b.exit_diameter / 2
         if not re < ri:
-            raise ProfileError("bore.exit_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m)")
+            raise ProfileError("bore.exit_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m), got {b.exit_diameter:.6g} m")
         x0, L = b.inlet_length, b.contraction_length
         xi = np.linspace(0, 1, CONTOUR_POINTS)
         pts = np.column_stack([x0 + L * xi, ri - (ri - re) * contour_polynomial(xi)])
@@ -249,9 +249,9 @@ def build_profile(bore, base_dir: Path | None = None, free_jet: bool = False) ->
     elif t == "spear":
         ri, ro, rn = b.inlet_diameter / 2, b.orifice_diameter / 2, b.needle_diameter / 2
         if not ro < ri:
-            raise ProfileError("bore.orifice_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m)")
+            raise ProfileError("bore.orifice_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m), got {b.orifice_diameter:.6g} m")
         if not rn < ri:
-            raise ProfileError("bore.needle_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m)")
+            raise ProfileError("bore.needle_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m), got {b.needle_diameter:.6g} m")
         lc = _straight_cone(ri, ro, b.half_angle)
         xo = b.inlet_length + lc
         x_out = xo + b.tip_length

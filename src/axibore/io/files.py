@@ -174,11 +174,21 @@ def write_csv(path: str | Path, columns: dict[str, np.ndarray], description: str
 
 def read_csv(path: str | Path) -> dict[str, np.ndarray]:
     """Named numeric columns of a CSV written by ``write_csv`` ('#' lines skipped)."""
-    lines = [ln for ln in Path(path).read_text(encoding="utf-8").splitlines() if ln and not ln.startswith("#")]
-    rows = list(csv.reader(lines))
-    names = rows[0]
-    data = np.array([[float(v) for v in row] for row in rows[1:]], float).reshape(-1, len(names))
+    try:
+        lines = [ln for ln in Path(path).read_text(encoding="utf-8").splitlines() if ln and not ln.startswith("#")]
+        rows = list(csv.reader(lines))
+        names = rows[0]
+        data = np.array([[float(v) for v in row] for row in rows[1:]], float).reshape(-1, len(names))
+    except (ValueError, IndexError, UnicodeDecodeError) as exc:
+        raise DamagedFile(f"{path}: damaged or cut short ({type(exc).__name__}: {exc or 'empty'}); run the case again "
+                          "to write it anew") from None
+    if data.shape[0] == 0:
+        raise DamagedFile(f"{path}: has its header but no rows; run the case again to write it anew")
     return {n: data[:, i] for i, n in enumerate(names)}
+
+
+class DamagedFile(ValueError):
+    """A file axibore wrote that can no longer be read (cut short, edited): names the file."""
 
 
 def mesh_to_meshio(mesh, cell_data: dict[str, np.ndarray] | None = None, point_data: dict[str, np.ndarray] | None = None):

@@ -172,6 +172,10 @@ def claim(path: str | Path, kind: str, force: bool = False) -> Claim:
         raise OwnershipError(f"{path}: holds axibore {m.kind} output, not {kind} output; give another folder "
                              f"(--out) for the {kind}")
     own, foreign = owned_files(path, m)
+    changed = [f for f in foreign if m is not None and f.relative_to(path).as_posix() in m.files]
+    if changed:  # the tool writes these names again: even --force cannot write beside them
+        raise OwnershipError(f"{path}: {_listing(changed, path)} was written by axibore and changed since: not replaced, "
+                             "even with --force; move it away or give another --out")
     if foreign and not force:
         why = "it has no axibore manifest" if m is None else "they were not written by axibore, or changed since"
         raise OwnershipError(f"{path}: holds files axibore did not write ({_listing(foreign, path)}; {why}): refusing "

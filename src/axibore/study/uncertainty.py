@@ -98,6 +98,9 @@ def parse_inputs(case: Case, table: dict[str, str], source: str) -> list[Input]:
             problems.append((where, "not a key of this case (give a dotted key such as \"inlet.pressure\" or "
                              "\"bore.outlet_diameter\")"))
             continue
+        if nominal is None:
+            problems.append((where, f"{key} is not given in this case: an uncertainty needs a value to vary"))
+            continue
         if key.endswith("flow_rate") and base.model.inlet.flow_rate[0] != "volume":
             problems.append((where, "give the flow rate's uncertainty on a volume flow rate (m^3/s, L/min)"))
             continue
