@@ -321,3 +321,53 @@ def test_temperatures_at_the_stated_bounds(tmp_path, capsys):
     cold = write(tmp_path, nozzle('kind = "seawater"\ntemperature = "-1 degC"', '[viscous]\nmodel = "none"\n'), "cold2.toml")
     rc, _, err = run_cli(["run", str(cold), "--out", str(tmp_path / "c")], capsys)
     assert rc == 0, err
+
+
+NOZZLE = ('[fluid]\n{fluid}\n[bore]\ntemplate = "conical"\ninlet_diameter = "80 mm"\nexit_diameter = "25 mm"\n'
+          'half_angle = "15 deg"\ninlet_length = "60 mm"\ntip_length = "20 mm"\nlip_radius = "20 mm"\n'
+          '[inlet]\n{inlet}\n[outlet]\n{outlet}\n[mesh]\nsize = 0.3\n{extra}')
+WATER = 'kind = "water"\ntemperature = "15 degC"'
+LIQUID = 'kind = "liquid"\ndensity = "{rho}"\nvapour_pressure = "{pv}"'
+
+
+@pytest.mark.parametrize("fluid, inlet, outlet, extra, key, words", [
+    (LIQUID.format(rho="1e9 kg/m^3", pv="0.02 bar"), 'pressure = "7 bar"', 'kind = "exit-plane"', "", "fluid.density", "kg/m^3 for a liquid"),
+    (LIQUID.format(rho="0.001 kg/m^3", pv="0.02 bar"), 'pressure = "7 bar"', 'kind = "exit-plane"', "", "fluid.density", "kg/m^3 for a liquid"),
+    (LIQUID.format(rho="1000 kg/m^3", pv="50 bar"), 'pressure = "7 bar"', 'kind = "exit-plane"', "", "fluid.vapour_pressure", "boils"),
+    (WATER, 'pressure = "70 mPa"', 'kind = "exit-plane"', "", "inlet.pressure", "expected a pressure"),
+    (WATER, 'flow_rate = "5 L/s"', 'kind = "pipe"\npressure = "-2 bar"', "", "outlet.pressure", "absolute pressure above zero"),
+    (WATER, 'pressure = "7 bar"', 'kind = "exit-plane"', '[flange]\nat = "inlet"\ngasket_diameter = "110 m"\nbolts = 4\n',
+     "flange.gasket_diameter", "at most 10 times"),
+    ('kind = "ideal-gas"\ngas_constant = "1e7 J/(kg*K)"\ngamma = 1.4', 'total_pressure = "3 bar"\ntotal_temperature = "300 K"',
+     'kind = "exit-plane"', "", "fluid.gas_constant", "J/(kg K)"),
+])
+def test_absurd_physics_is_refused_by_check(tmp_path, capsys, fluid, inlet, outlet, extra, key, words):
+    # each was exit 0 with an impossible result in the campaign of stop 26 (speeds of 37,600 m/s, a joint
+    # load of 6.6 GN, 70 mPa read as 700 bar)
+    case = write(tmp_path, NOZZLE.format(fluid=fluid, inlet=inlet, outlet=outlet, extra=extra))
+    rc, _, err = run_cli(["check", str(case)], capsys)
+    assert rc == 2 and f"c.toml: {key}:" in err and words in err, err
+
+
+def test_the_tools_own_pictures_and_pages_never_replace_a_users(tmp_path, capsys):
+    import shutil
+
+    case = write(tmp_path, NOZZLE.format(fluid=WATER, inlet='pressure = "7 bar"', outlet='kind = "exit-plane"', extra=""))
+    run_dir = tmp_path / "run"
+    assert run_cli(["run", str(case), "--out", str(run_dir)], capsys)[0] == 0
+    photo = tmp_path / "photo.png"
+    photo.write_bytes(b"my photo")
+    rc, _, err = run_cli(["view", str(run_dir), "--png", str(photo)], capsys)
+    assert rc == 2 and "exists" in err and photo.read_bytes() == b"my photo"
+    edited = tmp_path / "edited"
+    shutil.copytree(run_dir, edited)
+    (edited / "report.html").write_text((edited / "report.html").read_text() + "<!-- my notes -->")
+    rc, _, err = run_cli(["report", str(edited)], capsys)
+    assert rc == 2 and "report.html" in err and "my notes" in (edited / "report.html").read_text()
+    # a changed file of the tool's own is refused before any work, even with --force
+    (edited / "wall.csv").write_text((edited / "wall.csv").read_text() + "# my edit\n")
+    before = {p.name: p.stat().st_mtime_ns for p in edited.iterdir()}
+    t = time.perf_counter()
+    rc, _, err = run_cli(["run", str(case), "--out", str(edited), "--force"], capsys)
+    assert rc == 2 and "wall.csv" in err and "changed since" in err and time.perf_counter() - t < 5
+    assert {p.name: p.stat().st_mtime_ns for p in edited.iterdir()} == before
