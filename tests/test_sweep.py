@@ -362,3 +362,20 @@ def test_vary_twice_for_one_key_is_refused(tmp_path, capsys):
                  "--out", str(tmp_path / "sw")])
     assert code == 2 and "mesh.size given more than once" in capsys.readouterr().err
     assert not (tmp_path / "sw").exists()
+
+
+def test_ctrl_c_during_a_local_dask_sweep_is_one_line(tmp_path):
+    # Ctrl-C reaches the whole foreground process group: the workers ignore it (they are started with
+    # SIGINT ignored), the client closes the cluster and says "interrupted", exit 130, no traceback
+    out = tmp_path / "sw"
+    cmd = [sys.executable, "-m", "axibore.cli", "sweep", str(REDUCER), "--vary", "mesh.level=4,5,6", "--workers", "1",
+           "--out", str(out)]
+    p = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, start_new_session=True)
+    deadline = time.time() + 60
+    while not (out / ".axibore-manifest.json").exists() and time.time() < deadline:  # the sweep is under way
+        time.sleep(0.05)
+    time.sleep(2.0)  # a worker is running a point
+    os.killpg(p.pid, signal.SIGINT)
+    stdout, stderr = p.communicate(timeout=120)
+    assert p.returncode == 130, stdout + stderr
+    assert "Traceback" not in stderr and stderr.strip().splitlines() == ["interrupted: nothing half-written was left behind"], stderr

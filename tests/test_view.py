@@ -86,8 +86,9 @@ def test_view_options_zoom_range_units_and_refusals(run_dir, tmp_path, capsys):
     assert main(["view", str(run_dir), "--png", str(png), "--x-range", "180 mm,210 mm", "--units", "psi"]) == 0 and png.exists()
     before = set(run_dir.iterdir())
     for argv, msg in ((["--png", str(tmp_path / "v.jpg")], "ending in .png"), (["--png", str(tmp_path)], "ending in .png"),
-                      (["--png", str(tmp_path / "no" / "v.png")], "does not exist"), (["--x-range", "2,1", "--png", str(png)], "lower value first"),
-                      (["--field", "mach", "--png", str(png)], "liquid"), ([], "no display")):
+                      (["--png", str(tmp_path / "no" / "v.png")], "does not exist"), (["--x-range", "2,1", "--png", str(png), "--force"], "lower value first"),
+                      (["--field", "mach", "--png", str(png), "--force"], "liquid"), ([], "no display"),
+                      (["--png", str(png)], "exists")):  # a picture already there is not replaced without --force
         assert main(["view", str(run_dir), *argv]) == 2, argv
         assert msg in capsys.readouterr().err
     assert set(run_dir.iterdir()) == before  # a view never writes into the run directory

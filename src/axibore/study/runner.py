@@ -93,8 +93,20 @@ class DaskExecutor:
                 raise SchedulerError(f"{scheduler}: cannot connect to a Dask scheduler there ({exc}); give a running "
                                      "scheduler's address (tcp://host:port) or its scheduler file") from None
         else:
-            self.cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, host="127.0.0.1",
-                                        dashboard_address=None, silence_logs=logging.ERROR)
+            # the worker processes ignore Ctrl-C (an ignored signal stays ignored in a child): the client alone
+            # handles it, closes the cluster and says "interrupted", without a traceback from every worker
+            import signal
+
+            try:
+                previous = signal.signal(signal.SIGINT, signal.SIG_IGN)
+            except ValueError:  # not the main thread
+                previous = None
+            try:
+                self.cluster = LocalCluster(n_workers=workers, threads_per_worker=1, processes=True, host="127.0.0.1",
+                                            dashboard_address=None, silence_logs=logging.ERROR)
+            finally:
+                if previous is not None:
+                    signal.signal(signal.SIGINT, previous)
             self.client = Client(self.cluster, timeout=timeout)
         self.workers = len(self.client.scheduler_info().get("workers", {})) or workers
 
