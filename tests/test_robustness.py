@@ -375,3 +375,25 @@ def test_the_tools_own_pictures_and_pages_never_replace_a_users(tmp_path, capsys
     rc, _, err = run_cli(["run", str(case), "--out", str(edited), "--force"], capsys)
     assert rc == 2 and "wall.csv" in err and "changed since" in err and time.perf_counter() - t < 5
     assert {p.name: p.stat().st_mtime_ns for p in edited.iterdir()} == before
+
+
+def test_damaged_files_and_odd_out_paths_are_messages(tmp_path, capsys):
+    import shutil
+
+    case = write(tmp_path, NOZZLE.format(fluid=WATER, inlet='pressure = "7 bar"', outlet='kind = "exit-plane"', extra=""))
+    run_dir = tmp_path / "run"
+    assert run_cli(["run", str(case), "--out", str(run_dir)], capsys)[0] == 0
+    cut = tmp_path / "cut"
+    shutil.copytree(run_dir, cut)
+    (cut / "wall.csv").write_bytes((cut / "wall.csv").read_bytes()[:500])  # cut short
+    for argv in (["compare", str(run_dir), str(cut), "--out", str(tmp_path / "cmp")], ["report", str(cut)]):
+        if argv[0] == "report":
+            (cut / "report.html").unlink()  # (a report the tool would otherwise refuse to replace: not the point here)
+        rc, _, err = run_cli(argv, capsys)
+        assert rc == 2 and "wall.csv: damaged or cut short" in err, (argv, err)
+    afile = tmp_path / "afile"
+    afile.write_text("data")
+    rc, _, err = run_cli(["mesh", str(case), "--out", str(afile)], capsys)
+    assert rc == 2 and "is a file" in err and afile.read_text() == "data"
+    rc, _, err = run_cli(["run", str(case), "--out", str(tmp_path / ("x" * 300))], capsys)
+    assert rc == 2 and "too long" in err.lower()

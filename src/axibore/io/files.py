@@ -180,8 +180,9 @@ def read_csv(path: str | Path) -> dict[str, np.ndarray]:
         names = rows[0]
         data = np.array([[float(v) for v in row] for row in rows[1:]], float).reshape(-1, len(names))
     except (ValueError, IndexError, UnicodeDecodeError) as exc:
-        raise DamagedFile(f"{path}: damaged or cut short ({type(exc).__name__}: {exc or 'empty'}); run the case again "
-                          "to write it anew") from None
+        why = "no header or rows" if isinstance(exc, IndexError) else ("not UTF-8 text" if isinstance(exc, UnicodeDecodeError)
+                                                                         else f"a value that is not a number: {exc}")
+        raise DamagedFile(f"{path}: damaged or cut short ({why}); run the case again to write it anew") from None
     if data.shape[0] == 0:
         raise DamagedFile(f"{path}: has its header but no rows; run the case again to write it anew")
     return {n: data[:, i] for i, n in enumerate(names)}
