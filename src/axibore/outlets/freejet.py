@@ -166,8 +166,6 @@ class _JetProblem:
         self.mover = NodeMover(mesh0, np.r_[self.jet_nodes, self.outlet_nodes])
         self.service = service_cls(mesh0, self.jet_faces)
         self.momentum = momentum_condition(profile)
-        self.condition = "momentum" if self.momentum else "local"
-        self.global_speed = self.momentum  # V from the balance, not an unknown
         n, m = shape.n, shape.tied
         # the first m elements follow the free streamline's l^1/2 law at a sharp lip (it leaves tangent
         # to the wall), tied to element m; their faces, inside the lip's singular flow, are reported apart
@@ -177,7 +175,7 @@ class _JetProblem:
         self.B[:m, 0] = tie
         self.b0 = np.zeros(n)
         self.b0[:m] = shape.lip_direction * (1.0 - tie)
-        self.rows = np.arange(m, n) if self.global_speed else np.arange(m, n + 1)
+        self.rows = np.arange(m, n) if self.momentum else np.arange(m, n + 1)
         self.mesh0 = mesh0
 
     def unknowns(self, theta: np.ndarray) -> np.ndarray:
@@ -247,10 +245,10 @@ class _JetProblem:
         for j in range(min(FD_COLUMNS, Ju.shape[1])):  # near the lip: differences
             e = np.zeros_like(st["u"])
             e[j] = FD_STEP
-            other = self.evaluate(st["u"] + e, None if self.global_speed else V)
+            other = self.evaluate(st["u"] + e, None if self.momentum else V)
             if other is not None:
                 Ju[:, j] = (other["residual"] - st["residual"]) / FD_STEP
-        return Ju if self.global_speed else np.column_stack([Ju, rem[self.rows]])
+        return Ju if self.momentum else np.column_stack([Ju, rem[self.rows]])
 
 
 class FreeJetOutlet:
@@ -288,7 +286,7 @@ class FreeJetOutlet:
         if msh_path is not None:
             write_msh(mesh, msh_path)
         sol = JetSolution(st["P"], tuple(history), settled, shape.lip, exit_area(profile),
-                          far_area(profile, float(st["P"][-1, 1])), jp.condition,
+                          far_area(profile, float(st["P"][-1, 1])), "momentum" if jp.momentum else "local",
                           residual, tol, mesh.n_cells, time.perf_counter() - t_start, shape.tied)
         build = replace(jp.build, mesh=mesh, method=jp.build.method + ", nodes moved with the jet")
         comparison = None
@@ -347,7 +345,7 @@ def _lm_step(jp: _JetProblem, st: dict, J: np.ndarray, lam: float):
     norm = float(np.linalg.norm(JtJ, 2))
     while lam <= LM_MAX * norm:
         step = np.linalg.solve(JtJ + lam * np.diag(np.diag(JtJ)), rhs)
-        du, V = (step, None) if jp.global_speed else (step[:-1], st["V"] + step[-1])
+        du, V = (step, None) if jp.momentum else (step[:-1], st["V"] + step[-1])
         new = jp.evaluate(st["u"] + du, V)
         if new is not None and float(np.linalg.norm(new["residual"])) < base:
             return new, step, max(lam / LM_DOWN, 1e-12 * norm)
