@@ -286,12 +286,17 @@ def run_uncertainty(case: Case, inputs: list[Input], levels: list[int], out_dir:
     runs = out_dir / "runs"
     run_sweep(base, points, runs, executor, progress=progress, plots=())
 
-    def summary(p: Point) -> dict | None:
+    def read(name: str) -> dict | None:
         try:
-            s = json.loads((runs / p.name / "summary.json").read_text(encoding="utf-8"))
+            s = json.loads((runs / name / "summary.json").read_text(encoding="utf-8"))
         except (OSError, ValueError):
             return None
         return s if s.get("solver", {}).get("converged") else None
+
+    summaries = {p.name: read(p.name) for p in points}  # each run folder read once
+
+    def summary(p: Point) -> dict | None:
+        return summaries[p.name]
 
     failed = [p.label() or f"level {p.case.mesh.level}" for p in points if summary(p) is None]
     grid_s = [summary(p) for p in grid]
