@@ -91,7 +91,7 @@ def parse_inputs(case: Case, table: dict[str, str], source: str) -> list[Input]:
     out, problems = [], []
     base = without_sweep(case)
     for key, given in table.items():
-        where = f"uncertainty.{key}" if source != "--input" else f"--input {key}"
+        where = f"uncertainty.{key}" if source != "--input" else key  # the message starts with its source
         try:
             nominal = _si_value(base, key)
         except (AttributeError, IndexError, ValueError, TypeError):
@@ -113,7 +113,7 @@ def parse_inputs(case: Case, table: dict[str, str], source: str) -> list[Input]:
             if text.endswith("%"):
                 pct = float(text[:-1])
                 if pct <= 0:
-                    raise ValueError
+                    raise ValueError("a percentage above zero")
                 u = abs(float(nominal)) * pct / 100.0
             else:
                 u = to_si(text, dim) if dim else float(text)
