@@ -48,6 +48,34 @@ def test_howarth_retarded_flow_separation():
     assert np.all(w.state[s < w.separation_s] == LAMINAR)
 
 
+@pytest.mark.parametrize("re_L, bubble", [(1e5, False), (1e6, True)])
+def test_laminar_separation_short_bubble_by_its_reynolds_number(re_L, bubble):
+    # Howarth's retarded flow ue = U0 (1 - xi), xi = x/L. Thwaites' integral gives, derived,
+    #   theta^2 = 0.45 nu/ue^6 int_0^x ue^5 dx = 0.45 nu L / (6 U0) ((1 - xi)^-6 - 1),
+    # and at the laminar separation (xi_s = 0.123, lambda = -0.09, H = 2.088 + 0.0731/0.05 = 3.55):
+    #   Re_delta* = ue delta*/nu = (1 - xi_s) 3.55 sqrt(0.45 (0.877^-6 - 1)/6) Re_L^1/2 = 0.93 Re_L^1/2,
+    # 295 at Re_L = 1e5 and 932 at Re_L = 1e6: below and above the short-bubble bound 500 (Owen & Klanfer
+    # 1953). Michel's transition (Re_theta 2.9 Re_x^0.4 = 297 at Re_x 1.05e5 against Re_theta 263 at the
+    # separation) does not come first at Re_L = 1e6.
+    L, U0 = 1.0, 1.0
+    nu = U0 * L / re_L
+    s = np.linspace(0.0, 0.3, 601)
+    w = march(s, None, U0 * (1.0 - s / L), nu, planar=True, bubble_re_delta_star=layer.SHORT_BUBBLE_RE_DELTA_STAR)
+    re_ds = (1 - 0.123) * 3.55 * np.sqrt(0.45 * (0.877**-6 - 1) / 6) * np.sqrt(re_L)
+    assert bool(re_ds > 500) is bubble
+    if bubble:
+        assert w.separation_kind is None or w.separation_kind == "turbulent"
+        assert w.bubble_s / L == pytest.approx(0.123, abs=0.002) and w.transition_s == w.bubble_s
+        after = s > w.bubble_s
+        assert np.all(w.state[after & np.isfinite(w.theta)] == TURBULENT)
+        assert np.isfinite(w.theta[np.searchsorted(s, w.bubble_s)])  # theta continuous into the turbulent layer
+    else:
+        assert w.bubble_s is None and w.separation_kind == "laminar"
+    # without the rule the laminar layer separates at the same place either way
+    w0 = march(s, None, U0 * (1.0 - s / L), nu, planar=True)
+    assert w0.separation_kind == "laminar" and w0.bubble_s is None
+
+
 def test_planar_stagnation_point_start():
     # ue = a s (Hiemenz): Thwaites' integral gives theta^2 = 0.45 nu/(6 a), lambda = 0.075
     # exactly (Thwaites 1949); the ue = 0 first station must take the limit, not divide by zero.

@@ -11,7 +11,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from axibore.case import CaseError, load_case
+from axibore.case import CaseError, case_from_dict, load_case
 from axibore.cli import main
 from axibore.fluids import resolve_water
 from axibore.fluids.viscosity import viscosity
@@ -182,12 +182,21 @@ def test_gas_nozzle_layer_is_thin_and_attached(tmp_path):
     # attached layer. A turbulent layer grown over the 45 mm wall at Re_x up to about 2e6 has theta of
     # order 0.036 x Re_x^-0.2 (one-seventh law, Schlichting ch. XXI) = 0.09 mm at most; before this work the
     # wall table showed theta = 31 m at the second face and the layer separated from 6.5 mm on.
+    # The 30 deg convergent cone starts at a concave corner (x = 10 mm): the inviscid flow stagnates there,
+    # the approach layer ends in a corner vortex just upstream of it and a new laminar layer starts at the
+    # corner (the corner, drawn by end points to 1 um, computes as 29.99999 deg: it still restarts).
     case = load_case(CASES / "air_test_nozzle_cd.toml")
     res = solve_case(case)
     v = res.summary()["viscous"]
     assert not v["separated"]
+    assert [r["start"] for r in v["layers"]["wall"]["runs"]] == ["inlet plane", "stagnation point in a concave corner"]
+    assert v["layers"]["wall"]["runs"][1]["x_m"] == pytest.approx(0.010, abs=1e-6)
+    assert all(0.008 < a and b < 0.010 for a, b in v["corner_vortex_x_ranges_m"])
+    assert v["separation_x_ranges_m"] == v["corner_vortex_x_ranges_m"]
     c = res.viscous.chains["wall"]
-    assert np.all(np.isfinite(c.theta)) and np.nanmax(c.theta) < 2e-4
+    after = c.x > 0.010
+    assert np.all(np.isfinite(c.theta[after])) and np.nanmax(c.theta) < 2e-4
+    assert np.all(c.state[after] != 2)
     assert np.nanmax(c.delta_star / c.r) < 0.02
     # the edge speed is the Euler wall speed (smoothed over a few faces), raised by the blockage only (B
     # below 2 %); before, it fell to 8e-7 m/s at the second face
@@ -198,6 +207,31 @@ def test_gas_nozzle_layer_is_thin_and_attached(tmp_path):
     assert fast.sum() > 20
     np.testing.assert_allclose(c.ue[fast][1:-1], speed[fast][1:-1], rtol=0.03)
     assert v["discharge_coefficient"] < v["discharge_coefficient_inviscid"]
+
+
+@pytest.mark.parametrize("half_angle", [30.0, 45.0])
+def test_conical_nozzle_restarts_at_its_cone_and_reattaches_past_the_tip_corner(half_angle):
+    # A water nozzle as a user writes it: 80 mm bore, a cone of 30 or 45 deg half angle, 30 mm parallel tip,
+    # 5 bar. The cone's start is a concave corner of 30 deg or more (inviscid stagnation): the approach layer
+    # ends in a corner vortex and a new laminar layer starts there. Past the convex cone-to-tip corner the
+    # laminar layer meets the adverse gradient of the corner's suction peak and separates at ue delta*/nu
+    # well above 500: a short bubble (Owen & Klanfer 1953), reattaching turbulent. Before, the 30 deg corner
+    # computed as 29.99999 deg did not restart, and a laminar separation was carried to the exit (no C).
+    res = solve_case(case_from_dict({
+        "fluid": {"kind": "water", "temperature": "15 degC"},
+        "bore": {"template": "conical", "inlet_diameter": "80 mm", "exit_diameter": "30 mm",
+                 "half_angle": f"{half_angle} deg", "inlet_length": "100 mm", "tip_length": "30 mm"},
+        "inlet": {"pressure": "5 bar"}, "outlet": {"kind": "exit-plane"}}))
+    v = res.summary()["viscous"]
+    assert [r["start"] for r in v["layers"]["wall"]["runs"]] == ["inlet plane", "stagnation point in a concave corner"]
+    assert v["layers"]["wall"]["runs"][1]["x_m"] == pytest.approx(0.100, abs=1e-6)
+    assert not v["separated"] and v["separation_x_ranges_m"] == v["corner_vortex_x_ranges_m"]
+    tip_start = 0.100 + 0.025 / math.tan(math.radians(half_angle))
+    bubbles = [n for n in v["notes"] if "short bubble" in n]
+    assert len(bubbles) == 1 and any(tip_start < x < tip_start + 0.005 for x in v["transition_x_m"])
+    assert v["discharge_coefficient"] is not None
+    assert 0.0 < v["discharge_coefficient_inviscid"] - v["discharge_coefficient"] < 0.05
+    assert v["loss_coefficient"] > 0.0
 
 
 def test_reference_temperature_of_an_adiabatic_wall():

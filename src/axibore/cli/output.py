@@ -129,7 +129,10 @@ def viscous_rows(summary: dict) -> list[tuple[str, str]]:
                                            f"{show(v['total_pressure_loss_Pa'], 'pressure')})"))
     else:
         rows.append(("loss coefficient K", v["loss_coefficient_note"]))
-    sep = ", ".join(f"x {a * 1e3:.4g} to {b * 1e3:.4g} mm" for a, b in v["separation_x_ranges_m"])
+    corner = [list(c) for c in v.get("corner_vortex_x_ranges_m", [])]
+    sep = ", ".join(f"x {a * 1e3:.4g} to {b * 1e3:.4g} mm" + (" (into a concave corner, where a new layer starts)"
+                                                              if [a, b] in corner else "")
+                    for a, b in v["separation_x_ranges_m"])
     rows.append(("layer separated", sep or f"nowhere (largest shape factor {g(v['max_shape_factor'], '.3g')})"))
     d = v.get("displacement")
     if d:

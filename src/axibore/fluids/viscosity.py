@@ -4,17 +4,17 @@
   J. Phys. Chem. Ref. Data 38, 2009), through the public ``iapws.IAPWS97`` class (``.mu``), with
   the density of IAPWS-IF97 region 1. Check values: the formulation's Table 4 as documented by
   the ``iapws`` package, mu(298.15 K, 998 kg/m^3) = 889.735100 uPa s; at 20 degC and 0.1 MPa
-  mu = 1.0016 mPa s (from memory).
+  mu = 1.0016 mPa s.
 - Seawater: pure-water viscosity times the salinity factor of Sharqawy, Lienhard & Zubair
-  (Desalination and Water Treatment 16, 2010, from memory), mu_sw = mu_w (1 + A S + B S^2),
+  (Desalination and Water Treatment 16, 2010), mu_sw = mu_w (1 + A S + B S^2),
   A = 1.541 + 1.998e-2 t - 9.52e-5 t^2, B = 7.974 - 7.561e-2 t + 4.724e-4 t^2, S in kg/kg,
   t in degC (valid 0-180 degC, 0-0.15 kg/kg). Salinity 35 g/kg unless given (common practice).
   At 15 degC this gives about 1.22e-3 Pa s (ITTC 7.5-02-01-03, 2011: nu = 1.1892e-6 m^2/s,
-  rho = 1025.9 kg/m^3, from memory); about 1.08e-3 Pa s is the 20 degC value.
+  rho = 1025.9 kg/m^3); about 1.08e-3 Pa s is the 20 degC value.
 - A given liquid: its viscosity is passed through (the ``given`` argument, or a ``viscosity``
   attribute of the fluid if it has one).
 - Gases: Sutherland's law mu = mu0 (T/T0)^1.5 (T0 + S)/(T + S) (White, Viscous Fluid Flow,
-  3rd ed. 2006, table 1-2, from memory): air mu0 = 1.716e-5 Pa s, T0 = 273.15 K, S = 110.4 K;
+  3rd ed. 2006, table 1-2): air mu0 = 1.716e-5 Pa s, T0 = 273.15 K, S = 110.4 K;
   nitrogen mu0 = 1.663e-5 Pa s, T0 = 273.15 K, S = 107 K. Pressure has no effect on an ideal
   gas's viscosity in this law.
 """
@@ -23,7 +23,7 @@ from __future__ import annotations
 
 from .properties import WATER_T_MAX, WATER_T_MIN, Fluid, water_vapour_pressure
 
-# Sutherland constants (mu0 [Pa s], T0 [K], S [K]): White, Viscous Fluid Flow, table 1-2 (from memory)
+# Sutherland constants (mu0 [Pa s], T0 [K], S [K]): White, Viscous Fluid Flow, table 1-2
 SUTHERLAND: dict[str, tuple[float, float, float]] = {
     "air": (1.716e-5, 273.15, 110.4),
     "nitrogen": (1.663e-5, 273.15, 107.0),
@@ -58,7 +58,7 @@ def water_viscosity(temperature: float, pressure_abs: float) -> float:
 
 
 def seawater_factor(temperature: float, salinity: float = SEAWATER_SALINITY) -> float:
-    """mu_seawater / mu_water (Sharqawy, Lienhard & Zubair 2010, from memory)."""
+    """mu_seawater / mu_water (Sharqawy, Lienhard & Zubair 2010)."""
     if not 0.0 <= salinity <= 0.15:
         raise ValueError(f"salinity {salinity} kg/kg outside 0-0.15")
     t = temperature - 273.15

@@ -20,7 +20,7 @@ from .validate import validate, validate_free_jet
 # Contraction curve of the "contoured" template: the fifth-order polynomial
 #   r(xi) = R_in - (R_in - R_ex) (10 xi^3 - 15 xi^4 + 6 xi^5),  xi = (x - x0) / L,
 # zero slope and zero curvature at both ends (Bell & Mehta 1988, "Contraction design for small
-# low-speed wind tunnels", NASA CR-177488; from memory).
+# low-speed wind tunnels", NASA CR-177488).
 CONTOUR_POINTS = 33
 
 

@@ -157,7 +157,9 @@ def viscous_section(s: dict, unit: str = "bar") -> list[str]:
         ("Total-pressure loss", "viscous.total_pressure_loss_Pa", _fmt(v["total_pressure_loss_Pa"], unit, 4, k)),
         ("Transition at x", "viscous.transition_x_m", ", ".join(_fmt(x, "mm", 4, 1e3) for x in v["transition_x_m"]) or "none"),
         ("Separated ranges", "viscous.separation_x_ranges_m",
-         ", ".join(f"{a * 1e3:.4g} to {b * 1e3:.4g} mm" for a, b in v["separation_x_ranges_m"]) or "none"),
+         ", ".join(f"{a * 1e3:.4g} to {b * 1e3:.4g} mm" + (" (into a concave corner)" if [a, b] in
+                                                            [list(c) for c in v.get("corner_vortex_x_ranges_m", [])] else "")
+                   for a, b in v["separation_x_ranges_m"]) or "none"),
         ("Largest shape factor", "viscous.max_shape_factor", _fmt(v["max_shape_factor"], "", 4)),
     ]
     d = v.get("displacement")

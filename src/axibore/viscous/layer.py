@@ -9,19 +9,19 @@ Methods and sources
   stations at once: a cumulative sum over intervals, each integrated exactly (5-point Gauss) with
   nu, r and ue linear between stations. lambda = theta^2/nu due/ds. Shear and shape
   functions: the Cebeci & Bradshaw fits as given by White (Viscous Fluid Flow, 3rd ed. 2006,
-  sec. 4-6, from memory):
+  sec. 4-6):
       0 <= lambda:  l = 0.22 + 1.57 lambda - 1.8 lambda^2,  H = 2.61 - 3.75 lambda + 5.24 lambda^2
       lambda < 0:   l = 0.22 + 1.402 lambda + 0.018 lambda/(lambda + 0.107),
                     H = 2.088 + 0.0731/(lambda + 0.14)
   The fits are used up to lambda = 0.25, where they meet Thwaites' own table (l = 0.500,
-  H = 2.00, from memory); above it l and H are held at their lambda = 0.25 values.
+  H = 2.00); above it l and H are held at their lambda = 0.25 values.
   cf = 2 nu l/(ue theta), tau_w = mu ue l/theta. Laminar separation at lambda = -0.09.
   A stagnation-point start (ue = 0 at the first station) takes the limiting lambda of the next
   station and theta = sqrt(lambda nu/(due/ds)); a sharp leading edge (ue > 0, theta = 0) has an
   infinite wall shear, reported as NaN at that one station.
-- Transition: Michel (1951), Re_theta,tr = 2.9 Re_x^0.4 (from memory), with x = s, the arc
+- Transition: Michel (1951), Re_theta,tr = 2.9 Re_x^0.4, with x = s, the arc
   length from the wall's upstream end, and Re_x = ue s/nu. Or forced at a given s, or none.
-- Turbulent: Head's entrainment method (Head 1958, ARC R&M 3152), as usually cited (from memory):
+- Turbulent: Head's entrainment method (Head 1958, ARC R&M 3152), as usually cited:
       d theta/ds = cf/2 - (H + 2) theta/ue due/ds - theta/r dr/ds
       d(r ue theta H1)/ds = r ue F(H1),   F = 0.0306 (H1 - 3)^-0.6169
       H1 = 3.3 + 0.8234 (H - 1.1)^-1.287   (H <= 1.6)
@@ -62,6 +62,7 @@ from .closure import (  # noqa: F401  (LAMINAR ... turbulent_cf are this module'
     ludwieg_tillmann_cf,
     michel_re_theta,
     SEPARATED,
+    SHORT_BUBBLE_RE_DELTA_STAR,
     STATE_NAMES,
     thwaites_H,
     thwaites_l,
@@ -94,6 +95,7 @@ class WallLayer:
     separation_s: float | None
     separation_kind: str | None = None  # "laminar" | "turbulent" | None
     notes: tuple[str, ...] = field(default_factory=tuple)
+    bubble_s: float | None = None  # a short laminar separation bubble (transition placed there)
 
     @property
     def state_names(self) -> list[str]:
@@ -245,6 +247,7 @@ def march(
     turbulent_separation_H: float = 2.4,
     turbulent_start_H: float = TURBULENT_START_H,
     rho=None,
+    bubble_re_delta_star: float | None = None,
 ) -> WallLayer:
     """March the wall layer along the wall.
 
@@ -255,6 +258,10 @@ def march(
     or "turbulent" (Head from the first station, ``theta0`` required, H = ``turbulent_start_H``).
     transition: "michel", "none", or an arc length where it is forced.
     rho: density, scalar or (n,) [kg/m^3]; if given, the wall shear ``tau_w`` is returned.
+    bubble_re_delta_star: if given, a laminar layer that separates before its transition with the
+    displacement-thickness Reynolds number ue delta*/nu at or above this value forms a short separation
+    bubble: transition is placed at the laminar separation and the layer goes on turbulent (theta
+    continuous) instead of being marked separated (``bubble_s``). See ``SHORT_BUBBLE_RE_DELTA_STAR``.
     """
     from scipy.interpolate import PchipInterpolator
 
@@ -292,6 +299,7 @@ def march(
     transition_s = None
     separation_s = None
     separation_kind = None
+    bubble_s = None
 
     if start == "laminar":
         th_l, lam_l = _laminar(s, r, ue, nu, due, theta0)
@@ -317,6 +325,14 @@ def march(
             if st <= s[-1] and (s_lsep is None or st < s_lsep):
                 i_tr = int(np.searchsorted(s, st))
                 transition_s = max(st, float(s[0]))
+        if bubble_re_delta_star is not None and s_lsep is not None and transition_s is None:
+            # the displacement-thickness Reynolds number at the laminar separation (H = thwaites_H(-0.09))
+            re_ds = float(np.interp(s_lsep, s, ue * th_l / nu)) * float(thwaites_H(LAMINAR_SEPARATION_LAMBDA))
+            if re_ds >= bubble_re_delta_star:
+                bubble_s = transition_s = float(s_lsep)
+                i_tr = i_sep
+                notes.append(f"laminar separation at s = {s_lsep:.6g} m with ue delta*/nu = {re_ds:.4g}: a short bubble, "
+                             "transition assumed there and the layer goes on turbulent")
         n_lam = min(i_tr, i_sep)
         sl = slice(0, n_lam)
         theta[sl] = th_l[sl]
@@ -389,4 +405,5 @@ def march(
         separation_s=separation_s,
         separation_kind=separation_kind,
         notes=tuple(notes),
+        bubble_s=bubble_s,
     )

@@ -193,11 +193,17 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
 
     friction = sum(c.friction_x_N for c in chains.values())
     mom_friction = sum(c.momentum_friction_x_N for c in chains.values())
-    seps, kinds = [], []
+    seps, kinds, corner_vortices = [], [], []
     for c in chains.values():
+        restarts = [x for x, how in c.runs if how.endswith("concave corner")]
         for a, b, kind in c.separations:
             seps.append([min(a, b), max(a, b)])
-            kinds.append(f"{c.name}: {kind}")
+            # a layer that separates into a concave corner where a new one starts: a corner vortex, closed there
+            if any(x > a for x in restarts):
+                corner_vortices.append([min(a, b), max(a, b)])
+                kinds.append(f"{c.name}: {kind}, into a concave corner")
+            else:
+                kinds.append(f"{c.name}: {kind}")
     transitions = sorted(x for c in chains.values() for x in c.transitions_x)
     allH = [(float(np.nanmax(c.H)), float(c.x[int(np.nanargmax(c.H))])) for c in chains.values()
             if np.any(np.isfinite(c.H))]
@@ -281,7 +287,10 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
             warnings.append(f"the wall layer on the {c.name} is thick (displacement thickness above {THICK_LAYER:.0%} of "
                             f"the radius from x = {c.x[thick].min() * 1e3:.4g} to {c.x[thick].max() * 1e3:.4g} mm): "
                             "the thin-layer estimate is stretched there")
-    notes = [
+    notes = [f"the laminar layer on the {c.name} separates at x = {x * 1e3:.4g} mm and reattaches turbulent (a short "
+             f"bubble: ue delta*/nu at or above {L.SHORT_BUBBLE_RE_DELTA_STAR:g}, Owen & Klanfer 1953); transition is "
+             "placed there" for c in chains.values() for x in c.bubbles_x]
+    notes += [
         "wall layer: Thwaites (laminar, axisymmetric form of Rott & Crabtree), Michel's transition, Head's entrainment "
         "method with the flat-plate friction of Schlichting in Re_theta and the shape dependence of Ludwieg & "
         "Tillmann (turbulent), marched on the smoothed inviscid wall speed; gases at Eckert's reference temperature",
@@ -295,6 +304,7 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
         discharge_coefficient=cd, discharge_coefficient_inviscid=cd_inv, discharge_coefficient_note=cd_note,
         loss_coefficient=K, loss_coefficient_note=k_note, total_pressure_loss_Pa=dp0, head_loss_m=head,
         transition_x_m=transitions, separation_x_ranges_m=seps, separation_kind=kinds,
+        corner_vortex_x_ranges_m=corner_vortices,
         max_shape_factor=hmax[0], max_shape_factor_x_m=hmax[1], warnings=warnings,
         seconds=time.perf_counter() - t0, notes=notes, coupling_note=coupling_note, coupling=coupling,
     )

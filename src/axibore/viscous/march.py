@@ -77,8 +77,8 @@ from ..fluids.viscosity import SUTHERLAND, viscosity
 from ..solvers.base import FlowError
 from ..solvers.walls import arc_length
 from . import layer as L
-from .results import (RESTART_CORNER_DEG, SMOOTH_FACES, SMOOTH_THETAS, TURBULENT_ORIGIN_RE_THETA, ChainLayer,
-                      ViscousSettings)
+from .results import (RESTART_CORNER_DEG, RESTART_CORNER_TOL_DEG, SMOOTH_FACES, SMOOTH_THETAS,
+                      TURBULENT_ORIGIN_RE_THETA, ChainLayer, ViscousSettings)
 
 
 def smooth_speed(u: np.ndarray, width=SMOOTH_FACES) -> np.ndarray:
@@ -194,7 +194,7 @@ def _restarts(profile, name: str, s_faces: np.ndarray) -> list[tuple[float, floa
     out = []
     poly = profile.chain_points(name)
     for c in profile.corners():
-        if str(c.boundary) == name and not c.convex and abs(math.degrees(c.turn)) >= RESTART_CORNER_DEG:
+        if str(c.boundary) == name and not c.convex and abs(math.degrees(c.turn)) >= RESTART_CORNER_DEG - RESTART_CORNER_TOL_DEG:
             sc = float(arc_length(np.array([[c.x, c.r]]), poly)[0])
             if s_faces[0] < sc < s_faces[-1]:
                 out.append((sc, c.x, c.r))
@@ -281,7 +281,7 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
     re_th = np.full(n, np.nan)
     state = np.full(n, L.SEPARATED, np.int8)
     ue_all = np.zeros(n)
-    runs, transitions, separations = [], [], []
+    runs, transitions, separations, bubbles = [], [], [], []
     mom_fx = 0.0
     start_def, end_def = 0.0, float("nan")
     start_disp = 0.0
@@ -333,7 +333,8 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
                         s_tr = float(s_run[1])  # a sharp leading edge has no layer to trip at its very edge
                     tr = s_tr
             w = L.march(s_run, r_run, ue_run, nu_run, planar=planar, start=start, theta0=th0, transition=tr,
-                        turbulent_separation_H=settings.separation_shape_factor, rho=rho_run)
+                        turbulent_separation_H=settings.separation_shape_factor, rho=rho_run,
+                        bubble_re_delta_star=None if tr == "none" else L.SHORT_BUBBLE_RE_DELTA_STAR)
             th = w.theta[1:]
             fin = np.isfinite(th)
             if not fin.any():
@@ -368,6 +369,8 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
         state[face_in_run] = w.state[i]
         if w.transition_s is not None:
             transitions.append(float(np.interp(w.transition_s, s_run[1:], x_all[face_in_run])))
+        if w.bubble_s is not None:
+            bubbles.append(float(np.interp(w.bubble_s, s_run[1:], x_all[face_in_run])))
         if w.separation_s is not None:
             x_sep = float(np.interp(w.separation_s, s_run[1:], x_all[face_in_run]))
             separations.append((x_sep, float(x_all[sel[-1]]), str(w.separation_kind)))
@@ -410,7 +413,7 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
                 end_def = float("nan")
     return ChainLayer(name, table.faces, x_all, r_all, s_all, ue_all, theta, dstar, H, cf, tau, state, re_th, tx, area,
                       rho, perim, tuple(runs), tuple(transitions), tuple(separations), mom_fx, start_def, end_def,
-                      carried, carried_E, start_disp, corner_seps), width_next
+                      carried, carried_E, start_disp, corner_seps, tuple(bubbles)), width_next
 
 
 # --- the stage -----------------------------------------------------------------------------------

@@ -13,6 +13,8 @@ from . import layer as L
 PIPE_TRANSITION_RE = 2300.0  # pipe flow is turbulent above about this Reynolds number (common practice)
 TURBULENT_ORIGIN_RE_THETA = 10.0  # a turbulent layer from zero thickness starts at this Re_theta (virtual origin)
 RESTART_CORNER_DEG = 30.0  # concave corners turning at least this much restart the layer (stagnation)
+# a corner drawn at the threshold restarts it: a 30 deg cone given by end points to 1 um computes as 29.99999 deg
+RESTART_CORNER_TOL_DEG = 1e-3
 SMOOTH_FACES = 2.0  # least width (in faces) of the local linear smoothing of the wall speed
 SMOOTH_THETAS = 10.0  # ... and over the layer's own thickness, about 10 momentum thicknesses (delta_99)
 G_STANDARD = 9.80665  # m/s^2, standard gravity (3rd CGPM, 1901)
@@ -104,6 +106,7 @@ class ChainLayer:
     carried_deficit_W: float  # kinetic-energy deficit flux of the runs that ended at a restart [W]
     start_displacement_m2: float  # P delta* at the upstream end of the chain (the inlet plane) [m^2 or m]
     corner_separations: int = 0  # separations that end in a concave corner where a new layer starts
+    bubbles_x: tuple[float, ...] = ()  # short laminar separation bubbles (transition placed there)
 
     @property
     def displacement(self) -> np.ndarray:
@@ -155,13 +158,17 @@ class ViscousResult:
     warnings: list[str]
     seconds: float
     coupling_note: str = ""
+    # the separations that end in a concave corner where a new layer starts (corner vortices; a subset of
+    # separation_x_ranges_m); the layer downstream of them is attached
+    corner_vortex_x_ranges_m: list[list[float]] = field(default_factory=list)
     coupling: object | None = None  # Coupling: converged flag, iterations, last change as numbers
     displacement: object | None = None  # displacement.DisplacementResult when the pass ran
     notes: list[str] = field(default_factory=list)
 
     @property
     def separated(self) -> bool:
-        return bool(self.separation_x_ranges_m)
+        """The layer separates somewhere other than into a concave corner that restarts it."""
+        return len(self.separation_x_ranges_m) > len(self.corner_vortex_x_ranges_m)
 
 
 # --- helpers -------------------------------------------------------------------------------------

@@ -19,7 +19,7 @@ def viscous_stage(case, profile, mesh, flow, tables, onedim, progress=None, mesh
     res = wall_layers(case, profile, flow, tables, onedim)
     if progress:
         sep = "; separated: " + ", ".join(f"{a * 1e3:.4g}-{b * 1e3:.4g} mm" for a, b in res.separation_x_ranges_m) \
-            if res.separated else ""
+            if res.separation_x_ranges_m else ""
         progress("viscous", f"wall layer: Re {res.reynolds_number:.3g}, friction {res.friction_x_N:.4g} N{sep}, "
                  f"{res.seconds:.2f} s")
     if res.settings.displacement != "none":
@@ -60,6 +60,7 @@ def summary_section(res) -> dict:
         "total_pressure_loss_Pa": v.total_pressure_loss_Pa, "head_loss_m": v.head_loss_m,
         "transition_x_m": v.transition_x_m,
         "separated": v.separated, "separation_x_ranges_m": v.separation_x_ranges_m, "separation_kind": v.separation_kind,
+        "corner_vortex_x_ranges_m": v.corner_vortex_x_ranges_m,
         "max_shape_factor": v.max_shape_factor, "max_shape_factor_x_m": v.max_shape_factor_x_m,
         "coupling": v.coupling_note,
         "coupling_state": v.coupling.as_dict() if v.coupling is not None else None,
