@@ -48,7 +48,8 @@ def run(args) -> int:
     for line in table_lines(study):
         out(line)
     out("")
-    out("GCI: Celik et al. 2008, J. Fluids Eng. 130(7) 078001; safety factor 1.25 (three or more grids), 3 (two).")
+    out("GCI: Celik et al. 2008, J. Fluids Eng. 130(7) 078001; safety factor 1.25 (three or more grids), 3 (two grids, "
+        "or an observed order more than 10 % from the design order: Roy 2010, AIAA 2010-126).")
     out(f"wrote {outdir}/ (gridstudy.html, gridstudy.json, gridstudy.csv, convergence.png, level-N/ run directories)")
     bad = [lv for lv in study.levels if lv.error]
     for lv in bad:

@@ -178,7 +178,7 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
             continue
         if name == "centerbody_x_N" and all(v == 0 for v in vals):
             continue
-        r = gci([lv.summary["mesh"]["h_m"] for lv in ok], vals, DESIGN_ORDER)
+        r = gci([lv.summary["mesh"]["h_m"] for lv in ok], vals, DESIGN_ORDER, cautious=True)
         study.results[name] = r
         notes = _corner_notes(name, ok[-1].summary, r)
         if name == "volume_flow_m3_s" and case.inlet.flow_rate is not None:

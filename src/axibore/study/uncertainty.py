@@ -311,7 +311,7 @@ def run_uncertainty(case: Case, inputs: list[Input], levels: list[int], out_dir:
         q = QuantityUncertainty(name, vals[-1], None, None, None)
         ok = [(s["mesh"]["h_m"], v) for s, v in zip(grid_s, vals) if s and v is not None]
         if len(ok) >= 2 and vals[-1] is not None:
-            r = gci([h for h, _ in ok], [v for _, v in ok], DESIGN_ORDER)
+            r = gci([h for h, _ in ok], [v for _, v in ok], DESIGN_ORDER, cautious=True)
             if r.gci_fine is not None:
                 q.u_num = r.gci_fine * abs(vals[-1]) / GCI_TO_STANDARD
                 q.gci_fine, q.observed_order = r.gci_fine, r.order
