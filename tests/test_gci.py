@@ -225,3 +225,30 @@ def test_uncertainty_sensitivity_to_the_outlet_pressure_is_the_area_difference(t
     assert row["u_input"] == pytest.approx((A1 - A2) * 0.2e5, rel=5e-3)
     assert any("Covered: the discretisation" in line for line in res.lines()) or json.loads(
         (tmp_path / "u" / "uncertainty.json").read_text())["caution"].startswith("Covered")
+
+
+def test_monte_carlo_agrees_with_the_linear_estimate_on_a_near_linear_case(tmp_path):
+    # The reducer above with two inputs, the outlet pressure (the force is linear in it) and the flow rate
+    # (quadratic, nearly linear over 1 %). Latin-hypercube Monte Carlo of N = 16 samples against the first-
+    # order estimate: the sample standard deviation within twice its sampling error for N normal samples,
+    # 1/sqrt(2 (N - 1)) relative (GUM Supplement 1, JCGM 101:2008, sec. 7; Latin hypercubes do better), the
+    # mean within twice u/sqrt(N) of the nominal value, and the 95 % interval about +-1.96 sigma.
+    import axibore
+    from axibore.case import case_from_dict
+
+    bore = {"template": "reducer", "inlet_diameter": "200 mm", "outlet_diameter": "120 mm", "half_angle": "15 deg",
+            "inlet_length": "200 mm", "outlet_length": "200 mm", "knuckle_radius": "100 mm"}
+    case = case_from_dict({"fluid": {"kind": "water", "temperature": "15 degC"}, "bore": bore,
+                           "inlet": {"flow_rate": "0.05 m^3/s"}, "outlet": {"kind": "pipe", "pressure": "4 bar"},
+                           "mesh": {"size": 0.2}, "viscous": {"model": "none"}})
+    inputs = {"outlet.pressure": "0.2 bar", "inlet.flow_rate": "1 %"}
+    lin = axibore.uncertainty(case, inputs=inputs, levels=(0,), out=tmp_path / "lin")
+    n = 16
+    mc = axibore.uncertainty(case, inputs=inputs, levels=(0,), out=tmp_path / "mc", method="montecarlo", samples=n)
+    a = next(q for q in lin.quantities if q.name == "wall force on the part [N]")
+    b = next(q for q in mc.quantities if q.name == "wall force on the part [N]").montecarlo
+    assert b["samples"] == n
+    assert abs(b["std"] - a.u_input) <= 2.0 * a.u_input / math.sqrt(2 * (n - 1))
+    assert abs(b["mean"] - a.value) <= 2.0 * a.u_input / math.sqrt(n)
+    assert b["q2.5"] < a.value - a.u_input and b["q97.5"] > a.value + a.u_input
+    print(f"MC std {b['std']:.6g} against linear {a.u_input:.6g} ({b['std'] / a.u_input - 1:+.2%})")
