@@ -89,8 +89,8 @@ def celik_rows() -> list[Row]:
 
 def water_rows() -> list[Row]:
 
-    src5 = "IAPWS-IF97 (Wagner et al., J. Eng. Gas Turbines Power 122, 2000), Table 5"
-    src35 = "IAPWS-IF97, Table 35"
+    src = "IAPWS-IF97 (Wagner et al., J. Eng. Gas Turbines Power 122, 2000), Table "
+    src5, src35 = src + "5", src + "35"
     v = 1.0 / fluids.water_density(300.0, 3e6)
     ps = fluids.water_vapour_pressure(300.0)
     return [
