@@ -1,7 +1,9 @@
 """GCI procedure (Celik et al. 2008), grid studies of the demos, and the verification set."""
 
+import csv
 import json
 import math
+import re
 from pathlib import Path
 
 import pytest
@@ -138,10 +140,68 @@ def test_gridstudy_failed_level_reported(tmp_path, monkeypatch):
     assert study.results["wall_x_N"].order_assumed  # two grids left
 
 
-def test_verify_quick(tmp_path):
+# What `axibore verify` must cover: each capability, and in it the checks the issue names (written out
+# here, not read from the code, so that a capability or a check dropped from the set fails the test)
+VERIFY_COVERS = {
+    "potential": ["cone sink", "sphere", "contoured contraction"],
+    "gas": ["isentropic A/A*", "Mach number from A/A*", "converging nozzle, choked", "converging nozzle, subsonic",
+            "C-D nozzle, circular-arc throat"],
+    "free jet": ["planar slot", "Borda tube"],
+    "wall layer": ["flat plate, laminar: theta", "flat plate, laminar: cf", "ISO long-radius nozzle, beta 0.5, Re_D 1e4",
+                   "ISO long-radius nozzle, beta 0.5, Re_D 1e6"],
+    "GCI": ["GCI procedure"],
+    "fluid properties": ["water"],
+}
+# a source names a year (an author's or a standard's) or says the value is derived or an exact law
+NAMES_A_SOURCE = re.compile(r"\b(1[89]\d\d|20\d\d)\b|derived|exact")
+
+
+def test_verify_quick(tmp_path, capsys):
     assert main(["verify", "--quick", "--out", str(tmp_path)]) == 0
+    printed = capsys.readouterr().out
     rows = json.loads((tmp_path / "verify.json").read_text())
-    assert len(rows) >= 10 and all(r["passed"] for r in rows) and all(r["source"] for r in rows)
+    failed = [r["quantity"] for r in rows if not r["passed"]]
+    assert not failed and "FAIL" not in printed, failed
+    assert {r["capability"] for r in rows} == set(VERIFY_COVERS)
+    for capability, checks in VERIFY_COVERS.items():
+        names = [r["quantity"] for r in rows if r["capability"] == capability]
+        for check in checks:
+            assert any(n.startswith(check) for n in names), (capability, check, names)
+    for r in rows:
+        assert NAMES_A_SOURCE.search(r["source"]), r
+        assert f"source: {r['source']}" in printed  # beside its value in the table
+    for capability in VERIFY_COVERS:  # one progress line per set, under its capability
+        assert f"[verify] {capability}, " in printed
+    # the CSV holds the same rows, the capability in its last column
+    with open(tmp_path / "verify.csv", newline="") as f:
+        table = list(csv.DictReader(f))
+    assert [(t["quantity"], t["capability"], t["passed"]) for t in table] == \
+        [(r["quantity"], r["capability"], str(r["passed"])) for r in rows]
+
+
+def test_verify_failed_or_stopped_rows_exit_1(tmp_path, capsys, monkeypatch):
+    # a row out of tolerance shows FAIL and the command exits 1; a set whose solve stops (here a free jet
+    # that does not settle) becomes a failed row with the message, the other sets still run, no traceback
+    import axibore.study.verify as verify
+    from axibore.outlets.freejet import JetNotSettled
+    from axibore.study.verify_sets import Row
+
+    def stops():
+        raise JetNotSettled("outlet.kind", "the free-jet boundary did not settle in 30 steps")
+
+    monkeypatch.setattr(verify, "verification_sets", lambda quick: [
+        ("gas", "wrong", lambda: [Row("a gas row", 1.0, 1.1, 0.1, None, None, "made up for the test (derived)", False)]),
+        ("free jet", "stops", stops),
+        ("GCI", "GCI procedure", verify.celik_rows),
+    ])
+    assert main(["verify", "--quick", "--out", str(tmp_path)]) == 1
+    out, err = capsys.readouterr()
+    assert "Traceback" not in out + err
+    assert "[verify] free jet, stops: 0/1 pass" in out and "did not settle" in out
+    assert "2 failed" in out and out.count("FAIL") == 2
+    rows = json.loads((tmp_path / "verify.json").read_text())
+    assert [r["passed"] for r in rows] == [False, False, True, True, True, True]
+    assert rows[1]["capability"] == "free jet" and rows[1]["computed"] is None  # null, not NaN
 
 
 def test_numerical_uncertainty_is_the_grid_studys(tmp_path, capsys):

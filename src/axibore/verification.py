@@ -140,3 +140,43 @@ def mesh_sphere(loop, h: float, R: float):
         gmsh.option.setNumber("Mesh.MeshSizeExtendFromBoundary", 0)
         gmsh.option.setNumber("Mesh.Algorithm", 6)
         return generate(gmsh, groups, [1])
+
+
+# --- closed forms the gas, free-jet and wall-layer rows are compared with --------------------------
+# Written out here from their sources, independently of the solvers' own gas and layer functions.
+
+
+def isentropic_mass_flow(area: float, p0: float, T0: float, p: float, R: float, g: float) -> float:
+    """Isentropic mass flow of an ideal gas through ``area`` where the static pressure is ``p``
+    (NACA Report 1135, 1953, the isentropic relations): with pr = p / p0 not below the critical
+    ratio (2/(g+1))^(g/(g-1)), mdot = A p0 sqrt(2 g / ((g-1) R T0)) pr^(1/g) sqrt(1 - pr^((g-1)/g))
+    (derived: rho = rho0 pr^(1/g), u^2 = 2 cp T0 (1 - pr^((g-1)/g))); below it the choked flow,
+    the same expression at the critical ratio: A p0 sqrt(g / (R T0)) (2/(g+1))^((g+1)/(2(g-1)))."""
+    pr = max(p / p0, (2.0 / (g + 1.0)) ** (g / (g - 1.0)))
+    return area * p0 * math.sqrt(2.0 * g / ((g - 1.0) * R * T0)) * pr ** (1.0 / g) * math.sqrt(1.0 - pr ** ((g - 1.0) / g))
+
+
+def kliegel_levine_cd(rc_ratio: float, g: float) -> float:
+    """Throat discharge coefficient of a nozzle with a circular-arc throat of wall radius Rc,
+    rc_ratio = Rc / r* (Kliegel & Levine 1969, "Transonic flow in small throat radius of curvature
+    nozzles", AIAA J. 7(7), correcting Hall 1962, Q. J. Mech. Appl. Math. 15(4)), L = Rc/r* + 1:
+    Cd = 1 - (g+1)/L^2 [1/96 - (8g - 27)/(2304 L) + (754 g^2 - 757 g + 3615)/(276480 L^2)]."""
+    L = rc_ratio + 1.0
+    return 1.0 - (g + 1.0) / L**2 * (1.0 / 96.0 - (8.0 * g - 27.0) / (2304.0 * L)
+                                     + (754.0 * g**2 - 757.0 * g + 3615.0) / (276480.0 * L**2))
+
+
+def borda_contraction(beta: float) -> float:
+    """Contraction coefficient of a re-entrant (Borda) tube of area A drawing from a reservoir of area
+    A / beta (derived from Borda's momentum argument, Encyclopaedia Britannica, 11th ed., 1911,
+    "Hydraulics" s.37, which gives 1/2 for an infinite reservoir): the walls round the tube see the
+    total head H, the inlet plane H - rho U^2 / 2 and carries the momentum rho U^2 A / beta, so
+    rho V^2 Cc A = H A + rho U^2 A / (2 beta) with V^2 = 2 H / rho and U = beta Cc V:
+    Cc = (1 + beta Cc^2) / 2, i.e. Cc = (1 - sqrt(1 - beta)) / beta (-> 1/2 as beta -> 0)."""
+    return (1.0 - math.sqrt(1.0 - beta)) / beta if beta > 0 else 0.5
+
+
+def iso_long_radius_nozzle_c(beta: float, re_D: float) -> float:
+    """Discharge coefficient of an ISO 5167-3:2003 long-radius nozzle:
+    C = 0.9965 - 0.00653 beta^0.5 (1e6 / Re_D)^0.5 (0.2 <= beta <= 0.8, 1e4 <= Re_D <= 1e7)."""
+    return 0.9965 - 0.00653 * beta**0.5 * (1e6 / re_D) ** 0.5
