@@ -54,21 +54,29 @@ table.data th .unit { display: block; font-weight: normal; color: #555; font-siz
 table.data th.num, table.data td.num { text-align: right; }
 table.data td.num { font-variant-numeric: tabular-nums; white-space: nowrap; }
 table.data td.name { overflow-wrap: anywhere; }
+table.data td.nowrap { white-space: nowrap; }
+table.data td.num.text { white-space: normal; text-align: left; font-variant-numeric: normal; }
 table.data tr.group td { background: #f6f6f6; font-weight: bold; color: #23395b; }
 table.data tr.note td { color: #6b4d00; font-size: 0.92em; }
 figure { margin: 2.5mm 0; break-inside: avoid; }
 figure img { max-width: 100%; height: auto; border: 0.2mm solid #ddd; display: block; }
 figure.half { display: inline-block; width: 49%; vertical-align: top; }
+figure.sketch img { max-height: 48mm; width: auto; margin: 0 auto; border: none; }
+figure.sketch figcaption { text-align: center; }
+code { font-size: 0.92em; background: #f2f2f2; padding: 0 0.8mm; overflow-wrap: anywhere; }
 figcaption { font-size: 8pt; color: #444; }
 pre { font-size: 7.5pt; white-space: pre-wrap; overflow-wrap: anywhere; background: #f6f6f6; padding: 2mm; }
 .signoff { border: 0.3mm solid #888; padding: 2mm 3mm; margin: 4mm 0; break-inside: avoid; font-size: 8.5pt; }
-.signoff table { border-collapse: collapse; width: 100%; }
+.signoff table { border-collapse: collapse; width: 100%; table-layout: fixed; }
 .signoff td { padding: 0.8mm 1.5mm; vertical-align: bottom; }
-.signoff td.k { color: #555; white-space: nowrap; width: 1%; }
+.signoff td.k { color: #555; white-space: nowrap; width: 11%; }
 .signoff td.line { border-bottom: 0.2mm solid #333; height: 7mm; }
 .pagebreak { break-before: page; }
 @media print {
-  body { margin: 0 auto; padding: 0; max-width: none; }
+  body { margin: 0 auto; padding: 0; max-width: none; font-size: 9pt; }
+  h2 { margin-top: 2.6mm; }
+  .caution { font-size: 8pt; padding: 1.5mm 2.5mm; }
+  table.data th, table.data td { padding: 0.35mm 1.5mm; }
   .tablebox { overflow: visible; }
   table.data { width: 100%; }
   table.data.wide { font-size: 7pt; }
@@ -178,8 +186,8 @@ class Page:
     def table(self, cols: list[Col], rows: list[list], full: bool = True, wide: bool | None = None,
               groups: dict[int, str] | None = None, notes: dict[int, list[str]] | None = None) -> "Page":
         """A table in its own scrolling box. ``groups``: a heading row before row i; ``notes``: note rows after row i.
-        ``wide`` (default: more than six columns): smaller type in print."""
-        wide = len(cols) > 6 if wide is None else wide
+        ``wide`` (default: more than seven columns): smaller type in print."""
+        wide = len(cols) > 7 if wide is None else wide
         cls = "data" + (" full" if full else "") + (" wide" if wide else "")
         head = "".join((f"<th class='num'>" if c.num else "<th>") + e(c.label)
                        + (f"<span class='unit'>[{e(c.unit)}]</span>" if c.unit else "") + "</th>" for c in cols)
@@ -193,18 +201,21 @@ class Page:
         out.append("</tbody></table></div>")
         return self.add("".join(out))
 
-    def figure(self, png: str | Path | bytes, caption: str, alt: str = "", half: bool = False) -> "Page":
-        cls = " class='half'" if half else ""
+    def figure(self, png: str | Path | bytes, caption: str, alt: str = "", cls: str = "") -> "Page":
+        """An embedded PNG with its caption (``cls``: "half" beside another, "sketch" kept low on the page)."""
+        cls = f" class='{cls}'" if cls else ""
         return self.add(f"<figure{cls}><img alt='{e(alt or caption[:60])}' src='{image_src(png)}'>"
                         f"<figcaption>{e(caption)}</figcaption></figure>")
 
     def signoff(self, s: SignOff) -> "Page":
-        facts = [("case", s.title), ("case hash", s.case_hash), ("axibore", s.version), ("date", s.date),
-                 ("machine", s.host)]
-        rows = "".join(f"<tr><td class='k'>{e(k)}</td><td colspan='3'>{e(v)}</td></tr>" for k, v in facts)
-        for who in ("checked by", "approved by"):
-            rows += (f"<tr><td class='k'>{who}</td><td class='line'></td><td class='k'>date</td>"
-                     "<td class='line' style='width:30%'></td></tr>")
+        """The sign-off block: what the result is (case, its hash, version, date, machine) and lines to sign."""
+        def k(text):
+            return f"<td class='k'>{e(text)}</td>"
+        line = "<td class='line'></td>"
+        rows = (f"<tr>{k('case')}<td colspan='5'>{e(s.title)}</td>{k('case hash')}<td>{e(s.case_hash)}</td></tr>"
+                f"<tr>{k('axibore')}<td>{e(s.version)}</td>{k('date')}<td>{e(s.date)}</td>{k('machine')}"
+                f"<td colspan='3'>{e(s.host)}</td></tr>"
+                f"<tr>{k('checked by')}{line}{k('date')}{line}{k('approved by')}{line}{k('date')}{line}</tr>")
         return self.add(f"<div class='signoff'><table>{rows}</table></div>")
 
     def html(self) -> str:

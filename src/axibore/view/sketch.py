@@ -37,14 +37,14 @@ def _pieces(run_dir: Path):
     return chain(case.profile.wall), chain(case.profile.centerbody)
 
 
-def _dim(ax, x0, x1, y, text, fs=7):
+def _dim(ax, x0, x1, y, text, fs=9):
     """A horizontal dimension line from x0 to x1 at height y, its text above (left out when it cannot fit)."""
     ax.annotate("", xy=(x0, y), xytext=(x1, y), arrowprops=dict(arrowstyle="<|-|>", color=DIM, lw=0.6,
                                                                   shrinkA=0, shrinkB=0, mutation_scale=6))
     return ax.text((x0 + x1) / 2, y, text, ha="center", va="bottom", fontsize=fs, color=DIM)
 
 
-def _vdim(ax, x, r, text, side, fs=7.5):
+def _vdim(ax, x, r, text, side, fs=9):
     """A diameter: a vertical dimension line from -r to r at x, its text beside it."""
     ax.annotate("", xy=(x, -r), xytext=(x, r), arrowprops=dict(arrowstyle="<|-|>", color=DIM, lw=0.6,
                                                                 shrinkA=0, shrinkB=0, mutation_scale=6))
@@ -79,13 +79,13 @@ def bore_sketch(run_dir: str | Path, path: str | Path | None = None) -> Path:
     # the drawing's height in data units decides the figure's shape (equal scales on both axes)
     joints = s.get("joints") or []
     gmax = max([rmax] + [j["gasket_diameter_m"] / 2 for j in joints])
-    below = 0.12 * max(L, 2 * gmax) + 0.3 * gmax  # room for the dimension chains
-    top, bottom = gmax * (1.45 if joints else 1.25), -gmax - below
+    below = 0.08 * max(L, 2 * gmax) + 0.25 * gmax  # room for the dimension chains
+    top, bottom = gmax * (1.4 if joints else 1.15), -gmax - below
     left, right = x0 - 0.08 * L - 0.1 * gmax, x1 + 0.08 * L + 0.1 * gmax
     aspect = (top - bottom) / (right - left)
-    width = 7.2
-    height = min(max(width * aspect + 0.3, 2.0), 4.2)
-    fig, ax = figure(width, height, dpi=150)
+    width = 6.4  # inches: shown about full size on A4 (the page caps its height at 64 mm)
+    height = min(max(width * aspect, 1.5), 2.5)
+    fig, ax = figure(width, height, dpi=160)
     ax.set_aspect("equal", adjustable="box")
     # the fluid, the wall mirrored about the axis (a planar section: the symmetry plane)
     ax.fill_between(pts[:, 0], -pts[:, 1], pts[:, 1], color="#dfe9f5", lw=0)
@@ -95,7 +95,7 @@ def bore_sketch(run_dir: str | Path, path: str | Path | None = None) -> Path:
         ax.fill_between(bp[:, 0], -bp[:, 1], bp[:, 1], color=BODY, lw=0.8, ec="#555555")
     ax.plot([left, right], [0, 0], color="#555555", lw=0.6, ls=(0, (12, 3, 2, 3)))
     if planar:
-        ax.text(right, 0, "symmetry plane ", fontsize=6.5, va="bottom", ha="right", color="#555555")
+        ax.text(right, 0, "symmetry plane ", fontsize=8.5, va="bottom", ha="right", color="#555555")
     # diameters at the two ends
     r_in, r_out = float(pts[0, 1]), float(pts[-1, 1])
     word = "height" if planar else "⌀"
@@ -111,7 +111,7 @@ def bore_sketch(run_dir: str | Path, path: str | Path | None = None) -> Path:
     for a, b in zip(stations[:-1], stations[1:]):
         if b - a > 1e-9:
             small = (b - a) < 0.07 * L
-            t = _dim(ax, a, b, y_chain if not small else y_chain - 0.25 * below, mm(b - a), fs=6.5 if small else 7)
+            t = _dim(ax, a, b, y_chain if not small else y_chain - 0.25 * below, mm(b - a), fs=8 if small else 9)
             if small:
                 t.set_va("top")
     _dim(ax, x0, x1, y_total, f"{mm(L)}  overall")
@@ -119,17 +119,17 @@ def bore_sketch(run_dir: str | Path, path: str | Path | None = None) -> Path:
     for kind, a, b, radius, p in wall:
         if kind == "arc" and radius:
             m = p[len(p) // 2]
-            ax.annotate(f"R{mm(abs(radius))}", xy=(m[0], m[1]), xytext=(m[0], m[1] + 0.22 * gmax), fontsize=6.5,
+            ax.annotate(f"R{mm(abs(radius))}", xy=(m[0], m[1]), xytext=(m[0], m[1] + 0.22 * gmax), fontsize=8.5,
                         ha="center", color=DIM, arrowprops=dict(arrowstyle="-", color=DIM, lw=0.5))
         elif kind == "line" and abs(b[0] - a[0]) > 1e-12 and abs(b[1] - a[1]) > 1e-9 * L:
             ang = math.degrees(math.atan2(abs(b[1] - a[1]), abs(b[0] - a[0])))
             mx, my = (a[0] + b[0]) / 2, (a[1] + b[1]) / 2
-            ax.text(mx, my + 0.06 * gmax, f"{ang:.3g}°", fontsize=6.5, color=DIM, ha="left", va="bottom")
+            ax.text(mx, my + 0.06 * gmax, f"{ang:.3g}°", fontsize=8.5, color=DIM, ha="left", va="bottom")
     # joints: the gasket circle's diameter at the joint
     for j in joints:
         g = j["gasket_diameter_m"] / 2
         ax.plot([j["x_m"], j["x_m"]], [-g, g], color=JOINT, lw=1.0, ls="--")
-        ax.text(j["x_m"], g * 1.04, f"joint {j['name']}\nG {mm(2 * g)}", fontsize=6.5, color=JOINT,
+        ax.text(j["x_m"], g * 1.04, f"joint {j['name']}\nG {mm(2 * g)}", fontsize=8.5, color=JOINT,
                 ha="left" if j["x_m"] < x0 + 0.5 * L else "right", va="bottom")
     # the least wall pressure
     p = s.get("pressure") or {}
@@ -138,7 +138,7 @@ def bore_sketch(run_dir: str | Path, path: str | Path | None = None) -> Path:
     ax.set_xlim(left, right)
     ax.set_ylim(bottom, top)
     ax.axis("off")
-    ax.text(left, bottom, "dimensions in mm (as run); ▼ least wall pressure", fontsize=6.5, color="#555555",
+    ax.text(left, bottom, "dimensions in mm (as run); ▼ least wall pressure", fontsize=8.5, color="#555555",
             va="bottom")
     fig.subplots_adjust(0.01, 0.01, 0.99, 0.99)
     return save(fig, path)
