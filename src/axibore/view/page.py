@@ -68,7 +68,7 @@ figcaption { font-size: 8pt; color: #444; }
 pre { font-size: 7.5pt; white-space: pre-wrap; overflow-wrap: anywhere; background: #f6f6f6; padding: 2mm; }
 .signoff { border: 0.3mm solid #888; padding: 2mm 3mm; margin: 4mm 0; break-inside: avoid; font-size: 8.5pt; }
 .signoff table { border-collapse: collapse; width: 100%; table-layout: fixed; }
-.signoff td { padding: 0.8mm 1.5mm; vertical-align: bottom; }
+.signoff td { padding: 0.8mm 1.5mm; vertical-align: bottom; white-space: nowrap; overflow: hidden; text-overflow: ellipsis; }
 .signoff td.k { color: #555; white-space: nowrap; width: 11%; }
 .signoff td.line { border-bottom: 0.2mm solid #333; height: 7mm; }
 .pagebreak { break-before: page; }

@@ -107,8 +107,8 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     page.h2("Headline numbers")
     page.table(*headline_table(s, unit, grid[0] if grid else None))
     if "sketch" in figs:
-        page.figure(figs["sketch"], "The bore as it ran; joints with their gasket diameter G.", "sketch of the bore",
-                    cls="sketch")
+        page.figure(figs["sketch"], "The bore as it ran" + ("; joints with their gasket diameter G." if s.get("joints")
+                                                               else "."), "sketch of the bore", cls="sketch")
     page.h2("Margins")
     page.table(*margins(s, case, unit, len(notes)))
     page.h2("Numerical uncertainty")

@@ -75,16 +75,23 @@ def bore_sketch(run_dir: str | Path, path: str | Path | None = None) -> Path:
     x0, x1 = float(pts[:, 0].min()), float(pts[:, 0].max())
     L = x1 - x0
     rmax = float(pts[:, 1].max())
+    x_end = max([x1] + [float(bp[:, 0].max()) for *_, bp in body])  # a needle may reach past the wall
     planar = bool((s.get("geometry") or {}).get("per_unit_depth"))
-    # the drawing's height in data units decides the figure's shape (equal scales on both axes)
     joints = s.get("joints") or []
     gmax = max([rmax] + [j["gasket_diameter_m"] / 2 for j in joints])
-    below = 0.08 * max(L, 2 * gmax) + 0.25 * gmax  # room for the dimension chains
-    top, bottom = gmax * (1.4 if joints else 1.15), -gmax - below
-    left, right = x0 - 0.08 * L - 0.1 * gmax, x1 + 0.08 * L + 0.1 * gmax
-    aspect = (top - bottom) / (right - left)
-    width = 6.4  # inches: shown about full size on A4 (the page caps its height at 64 mm)
-    height = min(max(width * aspect, 1.5), 2.5)
+    stations = sorted({round(p[1][0], 12) for p in wall} | {round(p[2][0], 12) for p in wall}) if wall else [x0, x1]
+    small = [b - a < 0.07 * L for a, b in zip(stations[:-1], stations[1:])]
+    left, right = x0 - 0.08 * L - 0.1 * gmax, x_end + 0.08 * L + 0.1 * gmax
+    top = gmax * (1.45 if joints else 1.2)
+    # equal scales on both axes: the room for the dimension lines below the part is counted in lines of text,
+    # whose height in metres depends on the figure's shape, which depends on that room (settles in a few passes)
+    width, th, height = 6.4, 0.05 * L, 2.0  # inches: shown about full size on A4 (the page caps the height)
+    rows = 4.2 + (1.4 if any(small) else 0.0)
+    for _ in range(4):
+        bottom = -gmax - rows * th
+        height = min(max(width * (top - bottom) / (right - left), 1.4), 2.5)
+        per_inch = max((right - left) / (0.98 * width), (top - bottom) / (0.98 * height))
+        th = 9 / 72 * per_inch * 1.15  # one line of 9 pt text, in metres
     fig, ax = figure(width, height, dpi=160)
     ax.set_aspect("equal", adjustable="box")
     # the fluid, the wall mirrored about the axis (a planar section: the symmetry plane)
@@ -96,35 +103,37 @@ def bore_sketch(run_dir: str | Path, path: str | Path | None = None) -> Path:
     ax.plot([left, right], [0, 0], color="#555555", lw=0.6, ls=(0, (12, 3, 2, 3)))
     if planar:
         ax.text(right, 0, "symmetry plane ", fontsize=8.5, va="bottom", ha="right", color="#555555")
-    # diameters at the two ends
+    # diameters at the two ends (beyond a needle that reaches past the exit, with extension lines)
     r_in, r_out = float(pts[0, 1]), float(pts[-1, 1])
-    word = "height" if planar else "⌀"
-    _vdim(ax, x0 - 0.045 * L, r_in, f"{word} {mm(2 * r_in)}" if not planar else f"2h {mm(2 * r_in)}", "left")
-    _vdim(ax, x1 + 0.045 * L, r_out, f"{word} {mm(2 * r_out)}" if not planar else f"2h {mm(2 * r_out)}", "right")
-    # stations: the ends of the wall's pieces; a chain of lengths below the part, the overall length below that
-    y_chain = -gmax - 0.12 * below
-    y_total = -gmax - 0.72 * below
-    stations = sorted({round(p[1][0], 12) for p in wall} | {round(p[2][0], 12) for p in wall}) if wall else [x0, x1]
+    word = "2h" if planar else "⌀"
+    _vdim(ax, x0 - 0.045 * L, r_in, f"{word} {mm(2 * r_in)}", "left")
+    x_dim = x_end + 0.045 * L
+    if x_end > x1 + 1e-9:
+        for sign in (1, -1):
+            ax.plot([x1, x_dim + 0.01 * L], [sign * r_out, sign * r_out], color="#999999", lw=0.4)
+    _vdim(ax, x_dim, r_out, f"{word} {mm(2 * r_out)}", "right")
+    # stations: the ends of the wall's pieces; a chain of lengths below the part (the short ones a line lower),
+    # the overall length below that
+    y_chain = -gmax - 1.3 * th
+    y_small = y_chain - 1.4 * th
+    y_total = (y_small if any(small) else y_chain) - 1.5 * th
     for xs in stations:
         r_here = float(np.interp(xs, pts[:, 0], pts[:, 1]))
         ax.plot([xs, xs], [-r_here, y_total], color="#999999", lw=0.4, ls=":")
-    for a, b in zip(stations[:-1], stations[1:]):
+    for (a, b), short in zip(zip(stations[:-1], stations[1:]), small):
         if b - a > 1e-9:
-            small = (b - a) < 0.07 * L
-            t = _dim(ax, a, b, y_chain if not small else y_chain - 0.25 * below, mm(b - a), fs=8 if small else 9)
-            if small:
-                t.set_va("top")
+            _dim(ax, a, b, y_small if short else y_chain, mm(b - a), fs=8 if short else 9)
     _dim(ax, x0, x1, y_total, f"{mm(L)}  overall")
     # radii of arcs and half angles of cones, on the upper wall
     for kind, a, b, radius, p in wall:
         if kind == "arc" and radius:
             m = p[len(p) // 2]
-            ax.annotate(f"R{mm(abs(radius))}", xy=(m[0], m[1]), xytext=(m[0], m[1] + 0.22 * gmax), fontsize=8.5,
+            ax.annotate(f"R{mm(abs(radius))}", xy=(m[0], m[1]), xytext=(m[0], m[1] + 1.6 * th), fontsize=8.5,
                         ha="center", color=DIM, arrowprops=dict(arrowstyle="-", color=DIM, lw=0.5))
         elif kind == "line" and abs(b[0] - a[0]) > 1e-12 and abs(b[1] - a[1]) > 1e-9 * L:
             ang = math.degrees(math.atan2(abs(b[1] - a[1]), abs(b[0] - a[0])))
             mx, my = (a[0] + b[0]) / 2, (a[1] + b[1]) / 2
-            ax.text(mx, my + 0.06 * gmax, f"{ang:.3g}°", fontsize=8.5, color=DIM, ha="left", va="bottom")
+            ax.text(mx, my + 0.3 * th, f"{ang:.3g}°", fontsize=8.5, color=DIM, ha="left", va="bottom")
     # joints: the gasket circle's diameter at the joint
     for j in joints:
         g = j["gasket_diameter_m"] / 2
