@@ -53,7 +53,7 @@ table.data th { background: #edf1f6; font-weight: bold; vertical-align: bottom; 
 table.data th .unit { display: block; font-weight: normal; color: #555; font-size: 0.92em; }
 table.data th.num, table.data td.num { text-align: right; }
 table.data td.num { font-variant-numeric: tabular-nums; white-space: nowrap; }
-table.data td.name { overflow-wrap: anywhere; }
+table.data td.name { overflow-wrap: break-word; word-break: normal; }
 table.data td.nowrap { white-space: nowrap; }
 table.data td.num.text { white-space: normal; text-align: left; font-variant-numeric: normal; }
 table.data tr.group td { background: #f6f6f6; font-weight: bold; color: #23395b; }
@@ -67,10 +67,10 @@ code { font-size: 0.92em; background: #f2f2f2; padding: 0 0.8mm; overflow-wrap: 
 figcaption { font-size: 8pt; color: #444; }
 pre { font-size: 7.5pt; white-space: pre-wrap; overflow-wrap: anywhere; background: #f6f6f6; padding: 2mm; }
 .signoff { border: 0.3mm solid #888; padding: 2mm 3mm; margin: 4mm 0; break-inside: avoid; font-size: 8.5pt; }
-.signoff table { border-collapse: collapse; width: 100%; table-layout: fixed; }
-.signoff td { padding: 0.8mm 1.5mm; vertical-align: bottom; white-space: nowrap; overflow: hidden; text-overflow: ellipsis; }
-.signoff td.k { color: #555; white-space: nowrap; width: 11%; }
-.signoff td.line { border-bottom: 0.2mm solid #333; height: 7mm; }
+.signoff table { border-collapse: collapse; width: 100%; }
+.signoff td { padding: 0.8mm 1.5mm; vertical-align: bottom; white-space: nowrap; }
+.signoff td.k { color: #555; width: 1%; }
+.signoff td.line { border-bottom: 0.2mm solid #333; height: 7mm; width: 21%; }
 .pagebreak { break-before: page; }
 @media print {
   body { margin: 0 auto; padding: 0; max-width: none; font-size: 9pt; }
@@ -80,7 +80,6 @@ pre { font-size: 7.5pt; white-space: pre-wrap; overflow-wrap: anywhere; backgrou
   .tablebox { overflow: visible; }
   table.data { width: 100%; }
   table.data.wide { font-size: 7pt; }
-  table.data.wide th { overflow-wrap: anywhere; }
   table.data.wide td.num { white-space: normal; }
   table.data tr { break-inside: avoid; }
   a { color: inherit; text-decoration: none; }
