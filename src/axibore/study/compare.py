@@ -50,14 +50,15 @@ class Comparison:
         """The comparison as printed lines: values in the units of the pages (mm, bar, kN or N, L/s)."""
         names = self.names
         w = max(12, *(len(n) for n in names))
-        head = f"{'quantity':<34}{'unit':<6}" + "".join(f"{n:>{w + 2}}" for n in names)
-        head += "".join(f"{'d ' + n:>{w + 4}}{'rel':>9}" for n in names[1:])
+        lw = max([8] + [len(r["label"]) for r in self.rows]) + 2
+        head = f"{'quantity':<{lw}}{'unit':<6}" + "".join(f"{n:>{w + 2}}" for n in names)
+        head += "".join(f"{'d ' + n:>{w + 4}}{'rel':>11}" for n in names[1:])
         out = [head]
         for row in self.rows:
             unit, k = display(row["dim"], [v for v in row["values"] if v is not None])
-            line = f"{row['label']:<34}{unit:<6}" + "".join(f"{number(v, k, 6):>{w + 2}}" for v in row["values"])
+            line = f"{row['label']:<{lw}}{unit:<6}" + "".join(f"{number(v, k, 6):>{w + 2}}" for v in row["values"])
             for d, rel in zip(row["diff"], row["rel"]):
-                line += f"{_signed(d, k):>{w + 4}}{'-' if rel is None else f'{rel:+.3%}':>9}"
+                line += f"{_signed(d, k):>{w + 4}}{'-' if rel is None else f'{rel:+.3%}':>11}"
             out.append(line)
         return out + [f"note: {f}" for f in self.flags]
 
@@ -81,6 +82,11 @@ def run_names(run_dirs: list[Path]) -> list[str]:
     if len(set(names)) < len(names):  # the same folder given twice
         names = [f"{n} ({i})" for i, n in enumerate(names, 1)]
     return names
+
+
+def tags(n: int) -> list[str]:
+    """Short column tags of the runs on the page: A, B, C ... (A1, B1 ... past Z)."""
+    return [chr(65 + i % 26) + (str(i // 26) if i >= 26 else "") for i in range(n)]
 
 
 def _numeric(v) -> bool:
@@ -150,7 +156,7 @@ def plot_wall_pressure(cmp: Comparison, path: Path) -> Path:
     for i, (d, name) in enumerate(zip(cmp.runs, cmp.names)):
         t = read_csv(d / "wall.csv")
         style = line_style(i)
-        ax.plot(t["x_m"] * 1e3, t["p_gauge_Pa"] / 1e5, label=name, markevery=max(len(t["x_m"]) // 14, 1),
+        ax.plot(t["x_m"] * 1e3, t["p_gauge_Pa"] / 1e5, label=f"{tags(len(cmp.runs))[i]}: {name}", markevery=max(len(t["x_m"]) // 14, 1),
                 **style)
     ax.set_xlabel("axial position x [mm]")
     ax.set_ylabel("wall pressure, gauge [bar]")
@@ -166,21 +172,21 @@ def write_html(cmp: Comparison, out_dir: Path) -> Path:
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
     png = plot_wall_pressure(cmp, out_dir / "compare_wall_pressure.png")
-    names = cmp.names
-    page = Page("Comparison", f"{len(names)} runs", [f"differences against {names[0]}"])
+    names, tag = cmp.names, tags(len(cmp.names))
+    page = Page("Comparison", f"{len(names)} runs", [f"differences against run A, {names[0]}"])
     page.cautions()
     for f in cmp.flags:
         page.warn(f)
     page.h2("Runs")
     hashes = [text_hash((d / "case.toml").read_text(encoding="utf-8")) if (d / "case.toml").exists() else "–"
               for d in cmp.runs]
-    page.table([Col("run", num=False, cls="name"), Col("case", num=False), Col("solver", num=False),
-                Col("case hash", num=False)],
-               [[n, s.get("title", ""), s["solver"]["kind"], h] for n, s, h in zip(names, cmp.summaries, hashes)])
+    page.table([Col("tag", num=False), Col("run folder", num=False, cls="name"), Col("case", num=False),
+                Col("solver", num=False), Col("case hash", num=False)],
+               [[t, n, s.get("title", ""), s["solver"]["kind"], h] for t, n, s, h in zip(tag, names, cmp.summaries, hashes)])
     page.h2("Headline numbers")
-    cols = [Col("quantity", num=False), Col("unit", num=False)] + [Col(n, cls="") for n in names]
-    for n in names[1:]:
-        cols += [Col(f"{n} − {names[0]}"), Col(f"{n} − {names[0]}", "%")]
+    cols = [Col("quantity", num=False), Col("unit", num=False)] + [Col(t) for t in tag]
+    for t in tag[1:]:
+        cols += [Col(f"{t} − A"), Col(f"{t} − A", "%")]
     rows = []
     for row in cmp.rows:
         unit, k = display(row["dim"], [v for v in row["values"] if v is not None])

@@ -70,6 +70,7 @@ pre { font-size: 7.5pt; white-space: pre-wrap; overflow-wrap: anywhere; backgrou
 .signoff table { border-collapse: collapse; width: 100%; }
 .signoff td { padding: 0.8mm 1.5mm; vertical-align: bottom; white-space: nowrap; }
 .signoff td.k { color: #555; width: 1%; }
+.signoff td.wrap { white-space: normal; overflow-wrap: anywhere; }
 .signoff td.line { border-bottom: 0.2mm solid #333; height: 7mm; width: 21%; }
 .pagebreak { break-before: page; }
 @media print {
@@ -211,7 +212,8 @@ class Page:
         def k(text):
             return f"<td class='k'>{e(text)}</td>"
         line = "<td class='line'></td>"
-        rows = (f"<tr>{k('case')}<td colspan='5'>{e(s.title)}</td>{k('case hash')}<td>{e(s.case_hash)}</td></tr>"
+        rows = (f"<tr>{k('case')}<td colspan='5' class='wrap'>{e(s.title)}</td>{k('case hash')}"
+                f"<td class='wrap'>{e(s.case_hash)}</td></tr>"
                 f"<tr>{k('axibore')}<td>{e(s.version)}</td>{k('date')}<td>{e(s.date)}</td>{k('machine')}"
                 f"<td colspan='3'>{e(s.host)}</td></tr>"
                 f"<tr>{k('checked by')}{line}{k('date')}{line}{k('approved by')}{line}{k('date')}{line}</tr>")
