@@ -21,12 +21,35 @@ _DIMS = {"N": "force", "m3/s": "volume_flow", "kg/s": "mass_flow", "Pa gauge": "
 _NAME = re.compile(r"^(.*?)\s*\[([^\]]*)\]\s*$")
 
 
+_WORDS = ((re.compile(r"^wall force on the part$"), "axial force on the part"),
+          (re.compile(r"^joint (.*) load$"), r"bolt load, joint \1"),
+          (re.compile(r"^joint (.*) per bolt$"), r"load per bolt, joint \1"),
+          (re.compile(r"^min wall pressure$"), "least wall pressure, gauge"),
+          (re.compile(r"^cavitation margin sigma - sigma_i$"), "cavitation margin σ − σi"),
+          (re.compile(r"^choked mass flow$"), "mass flow, choked"))
+
+
 def split_name(name: str) -> tuple[str, str]:
-    """("wall force on the part", "force") from "wall force on the part [N]"."""
+    """The words a page shows for a headline name and its dimension: ("axial force on the part", "force") from
+    "wall force on the part [N]" (the names in uncertainty.json stay as they are)."""
     m = _NAME.match(name)
-    if not m:
-        return name, "ratio"
-    return m.group(1), _DIMS.get(m.group(2), "ratio")
+    text, dim = (m.group(1), _DIMS.get(m.group(2), "ratio")) if m else (name, "ratio")
+    for pattern, words in _WORDS:
+        if pattern.match(text):
+            return pattern.sub(words, text), dim
+    return text, dim
+
+
+def _nominal(i) -> tuple[str, str]:
+    """(number, unit) of an input's nominal value and its uncertainty as the pages show them."""
+    if i.dimension == "angle":
+        return number(math.degrees(i.nominal), 1.0, 5), "deg"
+    if i.dimension == "temperature":
+        return number(i.nominal - 273.15, 1.0, 5), "degC"
+    unit, k = display(i.dimension or "ratio", [i.nominal])
+    if i.dimension not in ("length", "pressure", "volume_flow", "mass_flow"):
+        unit, k = {"density": ("kg/m^3", 1.0)}.get(i.dimension or "", ("", 1.0))
+    return number(i.nominal, k, 5), unit
 
 
 def write_csv(result, out_dir: Path) -> Path:
@@ -94,9 +117,9 @@ def write_html(result, out_dir: Path, chart: Path | None, caution: str, case_has
         page.warn(f"run failed or did not converge: {f}")
     page.h2("Inputs")
     if result.inputs:
-        page.table([Col("input", num=False), Col("case-file key", num=False, cls="name"), Col("nominal (SI)"),
-                    Col("standard uncertainty u, as given", num=False)],
-                   [[case_key_label(i.key), i.key, number(i.nominal, 1.0, 6), i.given] for i in result.inputs])
+        page.table([Col("input", num=False), Col("case-file key", num=False, cls="name"), Col("nominal"),
+                    Col("unit", num=False), Col("standard uncertainty u, as given", num=False)],
+                   [[case_key_label(i.key), i.key, *_nominal(i), i.given] for i in result.inputs])
     else:
         page.p("No input uncertainties were given ([uncertainty] in the case or --input): the numerical part alone.")
     page.h2("Headline numbers with their uncertainty")

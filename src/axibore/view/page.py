@@ -70,7 +70,7 @@ pre { font-size: 7.5pt; white-space: pre-wrap; overflow-wrap: anywhere; backgrou
 .signoff table { border-collapse: collapse; width: 100%; }
 .signoff td { padding: 0.8mm 1.5mm; vertical-align: bottom; white-space: nowrap; }
 .signoff td.k { color: #555; width: 1%; }
-.signoff td.wrap { white-space: normal; overflow-wrap: anywhere; }
+.signoff td.wrap { white-space: normal; overflow-wrap: break-word; }
 .signoff td.line { border-bottom: 0.2mm solid #333; height: 7mm; width: 21%; }
 .pagebreak { break-before: page; }
 @media print {
