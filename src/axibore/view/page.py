@@ -61,7 +61,7 @@ table.data tr.note td { color: #6b4d00; font-size: 0.92em; }
 figure { margin: 2.5mm 0; break-inside: avoid; }
 figure img { max-width: 100%; height: auto; border: 0.2mm solid #ddd; display: block; }
 figure.half { display: inline-block; width: 49%; vertical-align: top; }
-figure.sketch img { max-height: 48mm; width: auto; margin: 0 auto; border: none; }
+figure.sketch img { max-height: 45mm; width: auto; margin: 0 auto; border: none; }
 figure.sketch figcaption { text-align: center; }
 code { font-size: 0.92em; background: #f2f2f2; padding: 0 0.8mm; overflow-wrap: anywhere; }
 figcaption { font-size: 8pt; color: #444; }

@@ -93,7 +93,7 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
 
     page = Page("Run report", s["title"], [
         f"axibore {s.get('software', {}).get('version', __version__)}",
-        f"built {dt.datetime.now().strftime('%Y-%m-%d %H:%M')}", f"run directory {shown}",
+        f"built {dt.datetime.now().strftime('%Y-%m-%d %H:%M')}", f"run folder {shown.name}",
         f"solver {sv['kind']}", (s.get("geometry") or {}).get("symmetry", "axisymmetric")])
     if sv.get("result_note"):
         page.caution("Not a result.", sv["result_note"])
@@ -115,9 +115,10 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     if grid:
         page.p(grid[1])
     else:
-        cmd = html.escape(f"axibore gridstudy {shown / 'case.toml'} --levels 0,1,2")
-        page.add("<p>None: no grid study was run for this case. <code>" + cmd + "</code> runs one; <code>axibore "
-                 "uncertainty</code> adds the input uncertainties (in its own uncertainty.html, not looked up here).</p>")
+        cmd = html.escape("axibore gridstudy case.toml --levels 0,1,2")
+        page.add("<p>None: no grid study was run for this case. <code>" + cmd + "</code> (the case.toml of this run "
+                 "folder) runs one; <code>axibore uncertainty</code> adds the input uncertainties (in its own "
+                 "uncertainty.html, not looked up here).</p>")
     page.cautions()
     page.signoff(signoff_for(s["title"], text_hash(case_text)))
     # the pages after: warnings, inputs, details, plots
@@ -153,6 +154,7 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
     page.add("<pre>" + html.escape("\n".join(understood)) + "</pre>")
     m = s["mesh"]
     facts = [
+        ("run folder", str(shown)),
         ("solver", f"{sv['kind']}, {sv.get('method', '')}, {sv['iterations']} iterations"),
         ("linear residual", f"{sv['residual']:.3g}"), ("mass imbalance", f"{sv['mass_imbalance']:.3g}"),
         ("solve time", f"{sv['seconds']:.3g} s" + (f" (the last solve; the free-jet iteration: {sv['free_jet_iterations']} "

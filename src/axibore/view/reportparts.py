@@ -170,7 +170,7 @@ def margins(s: dict, case, unit: str, notes: int = 0) -> tuple[list[Col], list[l
     where = ", ".join(f"{a * 1e3:.4g}–{b * 1e3:.4g} mm" for a, b in o["breakdown_x_ranges_m"])
     rows.append(["1D model", "holds everywhere" if not where else f"off at x = {where}",
                  f"wall pressure off 1D by over {o['breakdown_threshold']:.3g} of the exit dynamic pressure; largest "
-                 f"{deviation_text(o, unit)}"])
+                 f"{deviation_text(o, unit).split(', ')[0]}"])
     v = s.get("viscous") or {}
     if v.get("model") == "integral":
         sep = ", ".join(f"{a * 1e3:.4g}–{b * 1e3:.4g} mm" for a, b in v["separation_x_ranges_m"])
