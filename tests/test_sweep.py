@@ -266,6 +266,11 @@ def test_compare_refuses_planar_beside_axisymmetric(tmp_path, capsys):
     err = capsys.readouterr().err
     assert "planar" in err and "axisymmetric" in err and "Traceback" not in err
     assert not (tmp_path / "cmp").exists()  # refused before anything is written
+    # the planar run's own report gives its flows and forces per metre of depth
+    from axibore.view.report import build_report
+
+    text = build_report(p, include_3d=False).read_text()
+    assert "kN/m" in text and "L/(s m)" in text
 
 
 def test_sweep_page_fits_screen_and_a4(tmp_path, page_layout):

@@ -46,6 +46,11 @@ class Comparison:
     names: list[str] = field(default_factory=list)  # one distinct name per run
     flags: list[str] = field(default_factory=list)  # what the reader must know (different fluids ...)
 
+    @property
+    def planar(self) -> bool:
+        """Planar sections (all of them: check_comparable refuses a mix): flows and forces per metre of depth."""
+        return bool((self.summaries[0].get("geometry") or {}).get("per_unit_depth"))
+
     def lines(self) -> list[str]:
         """The comparison as printed lines: values in the units of the pages (mm, bar, kN or N, L/s)."""
         names = self.names
@@ -55,7 +60,7 @@ class Comparison:
         head += "".join(f"{'d ' + n:>{w + 4}}{'rel':>11}" for n in names[1:])
         out = [head]
         for row in self.rows:
-            unit, k = display(row["dim"], [v for v in row["values"] if v is not None])
+            unit, k = display(row["dim"], [v for v in row["values"] if v is not None], planar=self.planar)
             line = f"{row['label']:<{lw}}{unit:<6}" + "".join(f"{number(v, k, 6):>{w + 2}}" for v in row["values"])
             for d, rel in zip(row["diff"], row["rel"]):
                 line += f"{_signed(d, k):>{w + 4}}{'-' if rel is None else f'{rel:+.3%}':>11}"
@@ -189,7 +194,7 @@ def write_html(cmp: Comparison, out_dir: Path) -> Path:
         cols += [Col(f"{t} − A"), Col(f"{t} − A", "%")]
     rows = []
     for row in cmp.rows:
-        unit, k = display(row["dim"], [v for v in row["values"] if v is not None])
+        unit, k = display(row["dim"], [v for v in row["values"] if v is not None], planar=cmp.planar)
         cells = [row["label"], unit] + [number(v, k, row["digits"]) for v in row["values"]]
         for d, rel in zip(row["diff"], row["rel"]):
             cells += [_signed(d, k), "–" if rel is None else f"{rel * 100:+.2f}".replace("-", "−")]

@@ -119,8 +119,17 @@ def case_key_label(key: str) -> str:
     return " ".join(parts)
 
 
-def display(dim: str, values=(), pressure_unit: str = "bar") -> tuple[str, float]:
-    """(unit, factor from SI) of a dimension; forces in kN when the largest |value| reaches 1 kN."""
+PER_DEPTH = {"N": "N/m", "kN": "kN/m", "L/s": "L/(s m)", "kg/s": "kg/(s m)"}
+
+
+def display(dim: str, values=(), pressure_unit: str = "bar", planar: bool = False) -> tuple[str, float]:
+    """(unit, factor from SI) of a dimension; forces in kN when the largest |value| reaches 1 kN; ``planar``:
+    flows and forces of a planar section, per metre of depth."""
+    unit, k = _display(dim, values, pressure_unit)
+    return (PER_DEPTH.get(unit, unit) if planar else unit), k
+
+
+def _display(dim: str, values, pressure_unit: str) -> tuple[str, float]:
     if dim == "force":
         big = max((abs(v) for v in values if _finite(v)), default=0.0)
         return ("kN", 1e-3) if big >= 1e3 else ("N", 1.0)

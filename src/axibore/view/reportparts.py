@@ -32,6 +32,10 @@ def _get(s: dict, key: str):
     return node
 
 
+def _planar(s: dict) -> bool:
+    return bool((s.get("geometry") or {}).get("per_unit_depth"))
+
+
 def _finite(v) -> bool:
     return isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
 
@@ -107,6 +111,7 @@ def headline_table(s: dict, unit: str, gci: dict | None = None) -> tuple[list[Co
     fl, f = s["flow"], s["forces"]
     hand = s.get("hand_1d")
     gas = fl.get("compressible")
+    planar = _planar(s)
     # (2D key, 1D key or a number or None, relative difference meaningful)
     spec: list[tuple[str, object, bool]] = []
     if gas:
@@ -133,12 +138,12 @@ def headline_table(s: dict, unit: str, gci: dict | None = None) -> tuple[list[Co
     rows = []
     for key2, one, rel in spec:
         v2 = _get(s, key2)
+        if key2 == "flow.discharge_coefficient" and v2 is None:
+            continue  # a pipe outlet has none (the note is in the details)
         v1 = _get(s, one) if isinstance(one, str) else one
         lab = label(key2)
-        u, k = display(lab.dim, (v1 or 0.0, v2 or 0.0), unit)
+        u, k = display(lab.dim, (v1 or 0.0, v2 or 0.0), unit, planar)
         c2 = Cell(number(v2, k, lab.digits), key2, v2)
-        if key2 == "flow.discharge_coefficient" and v2 is None:
-            c2 = Cell(DASH, key2, None)
         c1 = Cell(number(v1, k, lab.digits), one, v1) if isinstance(one, str) else (number(v1, k, lab.digits) if one is not None else DASH)
         rows.append([lab.text, u, c1, c2] + _diff_cells(v1, v2, k, lab.digits, rel))
         if gci is not None:
@@ -269,7 +274,7 @@ def detail_rows(s: dict, unit: str) -> list[list]:
         if key == "forces.centerbody_x_N" and not v:
             continue
         lab = label(key)
-        u, k = display(lab.dim, [v or 0.0], unit)
+        u, k = display(lab.dim, [v or 0.0], unit, _planar(s))
         rows.append([lab.text, u, Cell(number(v, k, lab.digits), key, v)])
     ep = s.get("exit_plane_model") or {}
     if ep.get("volume_flow_m3_s"):
@@ -293,7 +298,7 @@ def viscous_rows(s: dict, unit: str) -> list[list]:
     for key, text in (("forces.friction_x_N", "friction force (wall shear, on the part)"),
                       ("forces.total_with_friction_x_N", "axial force with friction"),
                       ("viscous.momentum_with_friction_x_N", "momentum balance with the layer")):
-        u, k = display("force", [_get(s, key) or 0.0])
+        u, k = display("force", [_get(s, key) or 0.0], planar=_planar(s))
         rows.append([text, u, cell(s, key, k, 5)])
     cd, kk = v["discharge_coefficient"], v["loss_coefficient"]
     rows.append(["discharge coefficient with the wall layer", "", cell(s, "viscous.discharge_coefficient", 1, 5) if cd is not None
@@ -303,7 +308,7 @@ def viscous_rows(s: dict, unit: str) -> list[list]:
     if v.get("head_loss_m") is not None:
         rows.append(["head loss", "m", cell(s, "viscous.head_loss_m", 1, 4)])
         rows.append(["total-pressure loss", pu, cell(s, "viscous.total_pressure_loss_Pa", pk, 4)])
-    rows.append(["transition at x", "mm", ", ".join(number(x, 1e3, 4) for x in v["transition_x_m"]) or "none"])
+    rows.append(["transition at x", "mm", Cell(", ".join(number(x, 1e3, 4) for x in v["transition_x_m"]) or "none", cls="text")])
     corner = [list(c) for c in v.get("corner_vortex_x_ranges_m", [])]
     rows.append(["separated ranges of x", "mm", Cell(", ".join(f"{a * 1e3:.4g} to {b * 1e3:.4g}" + (" (into a concave corner)" if [a, b] in corner else "")
                                                        for a, b in v["separation_x_ranges_m"]) or "none", cls="text")])

@@ -102,10 +102,10 @@ def bore_sketch(run_dir: str | Path, path: str | Path | None = None) -> Path:
         ax.fill_between(bp[:, 0], -bp[:, 1], bp[:, 1], color=BODY, lw=0.8, ec="#555555")
     ax.plot([left, right], [0, 0], color="#555555", lw=0.6, ls=(0, (12, 3, 2, 3)))
     if planar:
-        ax.text(right, 0, "symmetry plane ", fontsize=8.5, va="bottom", ha="right", color="#555555")
+        ax.text(x0 + 0.01 * L, 0.15 * th, "symmetry plane", fontsize=8.5, va="bottom", ha="left", color="#555555")
     # diameters at the two ends (beyond a needle that reaches past the exit, with extension lines)
     r_in, r_out = float(pts[0, 1]), float(pts[-1, 1])
-    word = "2h" if planar else "⌀"
+    word = "height" if planar else "⌀"
     _vdim(ax, x0 - 0.045 * L, r_in, f"{word} {mm(2 * r_in)}", "left")
     x_dim = x_end + 0.045 * L
     if x_end > x1 + 1e-9:
