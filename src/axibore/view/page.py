@@ -61,7 +61,7 @@ table.data tr.note td { color: #6b4d00; font-size: 0.92em; }
 figure { margin: 2.5mm 0; break-inside: avoid; }
 figure img { max-width: 100%; height: auto; border: 0.2mm solid #ddd; display: block; }
 figure.half { display: inline-block; width: 49%; vertical-align: top; }
-figure.sketch img { max-height: 45mm; width: auto; margin: 0 auto; border: none; }
+figure.sketch img { max-height: 75mm; width: auto; margin: 0 auto; border: none; }
 figure.sketch figcaption { text-align: center; }
 code { font-size: 0.92em; background: #f2f2f2; padding: 0 0.8mm; overflow-wrap: anywhere; }
 figcaption { font-size: 8pt; color: #444; }
@@ -77,6 +77,7 @@ pre { font-size: 7.5pt; white-space: pre-wrap; overflow-wrap: anywhere; backgrou
   body { margin: 0 auto; padding: 0; max-width: none; font-size: 9pt; }
   h2 { margin-top: 2.6mm; }
   .caution { font-size: 8pt; padding: 1.5mm 2.5mm; }
+  figure.sketch img { max-height: 45mm; }
   table.data th, table.data td { padding: 0.35mm 1.5mm; }
   .tablebox { overflow: visible; }
   table.data { width: 100%; }
