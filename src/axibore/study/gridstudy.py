@@ -280,6 +280,11 @@ def plot_convergence(study: GridStudy, path: Path) -> Path:
     else:
         ax.text(0.5, 0.5, "no quantity has an extrapolated value to plot\n(converged to round-off, or no observed order)",
                 transform=ax.transAxes, ha="center", va="center", fontsize=9)
+    from matplotlib.ticker import FuncFormatter
+
+    plain = FuncFormatter(lambda v, _: f"{v:g}")  # 4, 5, 6 mm rather than 4 x 10^0 on a log axis within a decade
+    ax.xaxis.set_major_formatter(plain)
+    ax.xaxis.set_minor_formatter(plain)
     ax.set_xlabel("representative cell size h [mm]")
     ax.set_ylabel("|value − extrapolated| / |extrapolated|")
     ax.set_title(f"Grid convergence: {study.title}", fontsize=10)
