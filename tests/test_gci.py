@@ -10,6 +10,7 @@ import pytest
 
 from axibore.case import load_case
 from axibore.cli import main
+from axibore.io.ownership import MANIFEST
 from axibore.study.gci import ROUND_OFF, gci
 from axibore.study.gridstudy import run_grid_study
 from axibore.verification import cone_sink
@@ -96,7 +97,9 @@ def test_gridstudy_demo_rounded_profile(tmp_path, capsys):
     assert (tmp_path / "convergence.png").stat().st_size > 5000
     assert (tmp_path / "gridstudy.csv").read_text().startswith("quantity,level,cells")
     page = (tmp_path / "gridstudy.html").read_text()
-    assert "wall axial force [N]" in page and "data:image/png;base64," in page and "Celik" in page
+    assert "wall axial force" in page and "data:image/png;base64," in page and "Celik" in page
+    assert not re.search(r"<th[^>]*>[^<]*(_N|_Pa|_m3_s)", page)  # human labels, not summary keys, head the columns
+    assert "approved by" in page and "Hydrodynamic load only" in page
     for lv in (0, 1, 2):
         assert (tmp_path / f"level-{lv}" / "summary.json").exists()
         assert (tmp_path / f"level-{lv}" / "wall.csv").exists() and (tmp_path / f"level-{lv}" / "report.html").exists()
@@ -243,6 +246,30 @@ def test_uncertainty_of_the_headline_numbers(tmp_path, capsys):
         assert d["expanded_k2"] == pytest.approx(2 * d["u_combined"], rel=1e-12)
     force = q["wall force on the part [N]"]
     assert force["u_numerical"] == pytest.approx(force["gci_fine_rel"] * abs(force["value"]) / 2, rel=1e-12)
+    # uncertainty.csv: a row a quantity, each column a key of the quantity in uncertainty.json (contributions.KEY:
+    # the contribution of one input), the same numbers to the ten digits written
+    import csv
+
+    rows = list(csv.DictReader((tmp_path / "u" / "uncertainty.csv").read_text().splitlines()))
+    assert [r["name"] for r in rows] == [d["name"] for d in data["quantities"]]
+    assert "contributions.inlet.pressure" in rows[0]
+    for r in rows:
+        d = q[r["name"]]
+        for col, text in r.items():
+            head, _, rest = col.partition(".")
+            want = d[head][rest] if rest else d[col]
+            if col == "name":
+                assert text == want
+            elif want is None:
+                assert text == ""
+            else:
+                assert float(text) == pytest.approx(want, rel=1e-9, abs=1e-300), col
+    # uncertainty.html and its chart are written and recorded as the tool's
+    page = (tmp_path / "u" / "uncertainty.html").read_text()
+    assert "Hydrodynamic load only" in page and "inlet pressure" in page and "approved by" in page
+    assert "U, k = 2" in page and "data:image/png;base64," in page
+    manifest = json.loads((tmp_path / "u" / MANIFEST).read_text())["files"]
+    assert {"uncertainty.json", "uncertainty.csv", "uncertainty.html", "uncertainty_contributions.png"} <= set(manifest)
     # the runs are ordinary run folders: a second call reuses all of them
     assert main(["uncertainty", str(case), "--levels", "0,1", "--out", str(tmp_path / "u")]) == 0
     assert "4 complete already (reused), 0 to run" in capsys.readouterr().out

@@ -16,6 +16,7 @@ from axibore.case import CaseError, load_case
 from axibore.cli import main
 from axibore.io.ownership import MANIFEST, record
 from axibore.run import solve_case
+from conftest import assert_page_fits
 
 ROOT = Path(__file__).parents[1]
 REDUCER = ROOT / "cases" / "water_main_reducer.toml"
@@ -211,22 +212,77 @@ def test_concurrent_install_never_shows_half_a_directory(tmp_path):
     assert [p.name for p in foreign.iterdir()] == ["notes.txt"]
 
 
-def test_compare_two_runs(tmp_path, capsys):
+def _numbers(line: str) -> list[float]:
+    """The numbers of a printed line (the pages' minus sign read as '-', per cent signs dropped)."""
+    out = []
+    for tok in line.replace("−", "-").replace("%", "").split():
+        try:
+            out.append(float(tok))
+        except ValueError:
+            pass
+    return out
+
+
+def test_compare_two_runs(tmp_path, capsys, page_layout):
     from axibore.run import run_case
 
-    a, b = tmp_path / "a", tmp_path / "b"
+    a, b = tmp_path / "x" / "run", tmp_path / "y" / "run"  # the same folder name: told apart by the parent
     run_case(small(), a, report=False)
     run_case(small().with_updates({"bore.half_angle": "20 deg"}), b, report=False)
     sa, sb = (json.loads((d / "summary.json").read_text()) for d in (a, b))
     assert main(["compare", str(a), str(b), "--out", str(tmp_path / "cmp")]) == 0
     printed = capsys.readouterr().out
-    line = next(ln for ln in printed.splitlines() if ln.startswith("forces.wall_x_N"))
-    d = sb["forces"]["wall_x_N"] - sa["forces"]["wall_x_N"]
-    assert f"{sa['forces']['wall_x_N']:.6g}" in line and f"{d:+.4g}" in line
-    assert f"{d / abs(sa['forces']['wall_x_N']):+.3%}" in line
-    html = (tmp_path / "cmp" / "compare.html").read_text()
-    assert "data:image/png;base64," in html and ">a<" in html and ">b<" in html
+    assert "x/run" in printed and "y/run" in printed
+    # the wall force in kN (the reducer's is about 157 kN), the difference and the relative difference
+    line = next(ln for ln in printed.splitlines() if ln.startswith("wall axial force"))
+    va, vb, d, rel = _numbers(line)
+    fa, fb = sa["forces"]["wall_x_N"], sb["forces"]["wall_x_N"]
+    assert va == pytest.approx(fa / 1e3, rel=1e-5) and vb == pytest.approx(fb / 1e3, rel=1e-5)
+    assert d == pytest.approx((fb - fa) / 1e3, rel=1e-3)
+    assert rel == pytest.approx((fb - fa) / abs(fa) * 100, abs=5e-4)  # printed to 0.001 %
+    # the bolt load of each joint of the case is compared
+    for j, k in zip(sa["joints"], sb["joints"]):
+        line = next(ln for ln in printed.splitlines() if ln.startswith(f"bolt load, joint {j['name']}"))
+        assert _numbers(line)[:2] == pytest.approx([j["load_N"] / 1e3, k["load_N"] / 1e3], rel=1e-5)
+    # gauge pressures: no per cent (their zero is the ambient)
+    line = next(ln for ln in printed.splitlines() if ln.startswith("least wall pressure, gauge"))
+    assert "%" not in line
+    page = tmp_path / "cmp" / "compare.html"
+    html = page.read_text()
+    assert "data:image/png;base64," in html and "x/run" in html and "y/run" in html
+    assert "bolt load, joint" in html and "Hydrodynamic load only" in html and "approved by" in html
+    assert_page_fits(page_layout, page)
     assert main(["compare", str(a), str(tmp_path)]) == 2  # not a run directory
+
+
+def test_compare_refuses_planar_beside_axisymmetric(tmp_path, capsys):
+    from axibore.run import run_case
+
+    a, p = tmp_path / "axi", tmp_path / "planar"
+    run_case(small(), a, report=False)
+    run_case(small().with_updates({"bore.symmetry": "planar", "joint": []}), p, report=False)  # joints are round
+    capsys.readouterr()
+    assert main(["compare", str(a), str(p), "--out", str(tmp_path / "cmp")]) == 2
+    err = capsys.readouterr().err
+    assert "planar" in err and "axisymmetric" in err and "Traceback" not in err
+    assert not (tmp_path / "cmp").exists()  # refused before anything is written
+    # the planar run's own report gives its flows and forces per metre of depth
+    from axibore.view.report import build_report
+
+    text = build_report(p, include_3d=False).read_text()
+    assert "kN/m" in text and "L/(s m)" in text
+
+
+def test_sweep_page_fits_screen_and_a4(tmp_path, page_layout):
+    import axibore
+
+    vary = {"inlet.flow_rate": "0.3 m^3/s,0.5 m^3/s", "bore.half_angle": "10 deg,20 deg"}
+    axibore.sweep(small(), vary=vary, workers=0, out=tmp_path / "sw")
+    page = tmp_path / "sw" / "sweep.html"
+    html = page.read_text()
+    assert "inlet flow rate" in html and "bore half angle" in html and "axial force on the part" in html
+    assert "approved by" in html and "page " not in html.split("<body>")[1]  # page numbers live in the print margins
+    assert_page_fits(page_layout, page)
 
 
 # ---------------------------------------------------------------------------------------------

@@ -15,6 +15,7 @@ pv.OFF_SCREEN = True
 
 from axibore.cli import main  # noqa: E402
 from axibore.io.files import read_csv  # noqa: E402
+from conftest import assert_page_fits  # noqa: E402
 
 
 @pytest.fixture(scope="module")
@@ -129,12 +130,15 @@ def test_report_numbers_equal_summary(run_dir):
     text = (run_dir / "report.html").read_text()
     found = re.findall(r'data-key="([\w.]+)" data-value="([^"]*)"', text)
     keys = {k for k, _ in found}
-    assert {"forces.wall_x_N", "forces.reconciliation_rel", "pressure.min_wall_gauge_Pa", "pressure.cavitation_index",
-            "flow.volume_flow_m3_s", "forces.onedim_x_N"} <= keys
+    assert {"forces.wall_x_N", "forces.total_x_N", "forces.reconciliation_rel", "pressure.min_wall_gauge_Pa",
+            "pressure.cavitation_index", "flow.volume_flow_m3_s", "forces.onedim_x_N", "hand_1d.volume_flow_m3_s",
+            "hand_1d.force_x_N"} <= keys
     for key, value in found:
-        section, name = key.split(".")
+        node = s
+        for part in key.split("."):  # joints.0.load_N indexes the list of joints
+            node = node[int(part)] if isinstance(node, list) else node[part]
         if value:
-            assert float(value) == s[section][name], key
+            assert float(value) == node, key
     assert "hydrodynamic load only" in text.lower() and "licensed engineering practice" in text
     assert "<img" in text and "src='data:image/png;base64," in text and "http" not in text.split("<body>")[1]
     for w in s["warnings"]:
@@ -150,6 +154,55 @@ def test_report_rebuilds(run_dir):
 def test_bad_run_dir(tmp_path, capsys):
     assert main(["view", str(tmp_path)]) == 2
     assert "not a run directory" in capsys.readouterr().err
+
+
+def test_report_page_one_on_a4(tmp_path, page_pdf, page_layout):
+    """Printed on A4, page 1 holds the bolt load, the headline numbers 1D | 2D, the sketch, the margins, the
+    numerical uncertainty, the cautions and the sign-off; every printed page carries its number."""
+    from pathlib import Path
+
+    text = (Path(__file__).parents[1] / "cases" / "deck_wash_nozzle.toml").read_text().replace("size = 0.05", "size = 0.2")
+    case = tmp_path / "deck.toml"
+    case.write_text(text)
+    out = tmp_path / "deck"
+    assert main(["run", str(case), "--out", str(out), "--level", "0"]) == 0
+    report = out / "report.html"
+    pages = page_pdf(report)
+    assert len(pages) >= 3
+    first = pages[0]
+    for words in ("Bolt load", "Headline numbers", "1D, by hand", "2D, axibore", "Margins", "cavitation",
+                  "Numerical uncertainty", "axibore gridstudy", "Hydrodynamic load only", "checked by", "approved by",
+                  "case hash"):
+        assert words in first, words
+    assert first.index("Bolt load") < first.index("Headline numbers")  # the bolt load near the top
+    for i, page in enumerate(pages, 1):
+        assert f"page {i} of {len(pages)}" in page
+    assert "sketch of the bore" in report.read_text() and (out / "plot_sketch.png").exists()
+    # the table labels fit: no header or first-column label of the headline and bolt tables over two lines
+    m = assert_page_fits(page_layout, report)
+    for t in m["tables"][:2]:
+        assert all(n <= 2 for _, n in t["headers"] + t["labels"]), t
+
+
+def test_hand_bolt_load_of_a_joint_at_the_inlet():
+    # derived: the part beyond a joint at the inlet is the whole bore, so its 1D load is the 1D force on the
+    # part plus the pressure on the gasket annulus, F + p1 pi (G^2 - D1^2) / 4; numbers invented
+    import math
+
+    from axibore.view.reportparts import hand_joint_load
+
+    rho, d1, d2, p1 = 1000.0, 0.1, 0.05, 3e5
+    a1, a2 = math.pi * d1 ** 2 / 4, math.pi * d2 ** 2 / 4
+    q = a2 * math.sqrt(2 * p1 / (rho * (1 - (a2 / a1) ** 2)))
+    v1, v2 = q / a1, q / a2
+    force = p1 * a1 + rho * q * (v1 - v2)
+    s = {"forces": {"centerbody_x_N": 0.0}, "geometry": {"per_unit_depth": False},
+         "hand_1d": {"volume_flow_m3_s": q, "mass_flow_kg_s": rho * q, "inlet_velocity_m_s": v1, "exit_velocity_m_s": v2,
+                     "inlet_gauge_Pa": p1, "exit_gauge_Pa": 0.0}}
+    joint = {"bore_diameter_m": d1, "gasket_diameter_m": 0.14}
+    assert hand_joint_load(s, joint) == pytest.approx(force + p1 * math.pi * (0.14 ** 2 - d1 ** 2) / 4, rel=1e-12)
+    # a joint at the exit: the part beyond it is a zero-length stub, no wall force; p2 = 0 gauge leaves no load
+    assert hand_joint_load(s, {"bore_diameter_m": d2, "gasket_diameter_m": 0.08}) == pytest.approx(0.0, abs=1e-6)
 
 
 def _chromium():
@@ -178,6 +231,11 @@ def test_report_renders_in_headless_chromium(run_dir, tmp_path):
     assert img[..., :3].std() > 0.05
     console = [ln for ln in proc.stderr.splitlines() if "CONSOLE" in ln or "Uncaught" in ln]
     assert not console, console
+
+
+def test_report_fits_screen_and_a4(run_dir, page_layout):
+    # no horizontal overflow at 900 px nor at the printed A4 width; no table wider than the page; no raw keys
+    assert_page_fits(page_layout, run_dir / "report.html")
 
 
 def test_plots_of_dense_meshes_are_sampled(run_dir, tmp_path, monkeypatch):

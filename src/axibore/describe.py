@@ -124,3 +124,41 @@ def deviation_text(o: dict, unit: str = "bar") -> str:
     if o.get("wall_pressure_max_dev_local") is not None:
         text += f", {o['wall_pressure_max_dev_local']:.3g} of the local gauge pressure"
     return text
+
+
+def cavitation_verdict(p: dict) -> str:
+    """The cavitation margin with its verdict: sigma against the ideal inception index -Cp_min."""
+    sigma, sigma_i = p["cavitation_index"], p["inception_index"]
+    if sigma is None or sigma_i is None or sigma != sigma:
+        return "no vapour pressure known for this fluid: no verdict"
+    if sigma_i <= 0:
+        return (f"none expected: the wall pressure nowhere falls below the outlet pressure (inception index "
+                f"{sigma_i:.3g} <= 0; cavitation index {sigma:.4g})")
+    margin = sigma - sigma_i
+    if margin <= 0 and p.get("min_wall_at_singular_point"):
+        return (f"no verdict: the index {sigma:.4g} is below the inception index {sigma_i:.4g} only at "
+                f"{p['min_wall_at_singular_point']}, where potential flow's suction is singular (see the warning)")
+    verdict = "none expected" if margin > 0 else "EXPECTED"
+    return (f"{verdict}: cavitation index {sigma:.4g} against the inception index {sigma_i:.4g} (margin {margin:+.3g}; "
+            "cavitation where the index is below the inception index)")
+
+
+def critical_pressure_ratio(gamma: float) -> float:
+    """The back-to-total pressure ratio below which a convergent passage chokes, (2 / (gamma + 1))^(gamma / (gamma - 1))
+    (isentropic flow of an ideal gas, derived)."""
+    return (2.0 / (gamma + 1.0)) ** (gamma / (gamma - 1.0))
+
+
+def choke_verdict(flow: dict, case: Case | None) -> str:
+    """Choked or not, with the pressure ratio that decides it (a gas run; ``case``: its resolved case, if it loads)."""
+    ratio = ""
+    if case is not None and case.inlet.total_pressure is not None:
+        amb = case.ambient_pressure
+        p0, pb = case.inlet.total_pressure + amb, (case.outlet.pressure or 0.0) + amb
+        crit = critical_pressure_ratio(case.fluid.gamma)
+        ratio = (f"back pressure / inlet total pressure {pb / p0:.3f} (absolute), "
+                 f"{'below' if pb / p0 < crit else 'above'} the critical {crit:.3f} of gamma = {case.fluid.gamma:.4g}")
+    mach = flow.get("mach_max")
+    m = f"highest Mach number {mach:.3g}" if mach is not None else ""
+    head = "CHOKED" if flow.get("choked") else "not choked"
+    return f"{head}: " + "; ".join(x for x in (ratio, m) if x)

@@ -18,12 +18,17 @@ def add_args(p) -> None:
 
 def run(args) -> int:
     from ..io.files import OutputError, atomic_dir, check_output_dir
-    from ..study.compare import compare_runs, write_html
+    from ..study.compare import CompareError, compare_runs, write_html
 
     if len(args.runs) < 2:
         err("compare: expected two or more run directories")
         return 2
     dirs = [run_dir(r) for r in args.runs]  # CaseError naming a directory that is not a run: exit 2
+    try:
+        cmp = compare_runs(dirs)
+    except CompareError as exc:
+        err(f"compare: {exc}")
+        return 2
     outdir = None
     if args.out:
         try:
@@ -31,7 +36,6 @@ def run(args) -> int:
         except OutputError as exc:
             err(f"--out: {exc}")
             return 2
-    cmp = compare_runs(dirs)
     for line in cmp.lines():
         out(line)
     out("")

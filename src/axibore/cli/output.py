@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from ..describe import absolute_wall_pressure, deviation_text
+from ..describe import absolute_wall_pressure, cavitation_verdict, deviation_text
 from ..units import show
 
 
@@ -10,23 +10,6 @@ def table(rows: list[tuple[str, str]]) -> list[str]:
     """Two aligned columns (label, value)."""
     width = max(len(k) for k, _ in rows)
     return [f"  {k:<{width}}  {v}" for k, v in rows]
-
-
-def cavitation_verdict(p: dict) -> str:
-    """The cavitation margin with its verdict: sigma against the ideal inception index -Cp_min."""
-    sigma, sigma_i = p["cavitation_index"], p["inception_index"]
-    if sigma is None or sigma_i is None or sigma != sigma:
-        return "no vapour pressure known for this fluid: no verdict"
-    if sigma_i <= 0:
-        return (f"none expected: the wall pressure nowhere falls below the outlet pressure (inception index "
-                f"{sigma_i:.3g} <= 0; cavitation index {sigma:.4g})")
-    margin = sigma - sigma_i
-    if margin <= 0 and p.get("min_wall_at_singular_point"):
-        return (f"no verdict: the index {sigma:.4g} is below the inception index {sigma_i:.4g} only at "
-                f"{p['min_wall_at_singular_point']}, where potential flow's suction is singular (see the warning)")
-    verdict = "none expected" if margin > 0 else "EXPECTED"
-    return (f"{verdict}: cavitation index {sigma:.4g} against the inception index {sigma_i:.4g} (margin {margin:+.3g}; "
-            "cavitation where the index is below the inception index)")
 
 
 def headline(summary: dict, unit: str = "bar") -> list[str]:

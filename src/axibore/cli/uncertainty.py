@@ -72,7 +72,7 @@ def run(args) -> int:
     out("u_num: GCI (Celik et al. 2008) / 2; u_input: central differences (or Monte Carlo); U = 2 u_c "
         "(ASME V&V 20-2009; GUM, JCGM 100:2008).")
     out(f"Caution: {CAUTION}")
-    out(f"wrote {outdir}/ (uncertainty.json, uncertainty.csv, runs/)")
+    out(f"wrote {outdir}/ (uncertainty.html, uncertainty.json, uncertainty.csv, runs/)")
     if res.failed:
         for f in res.failed:
             err(f"run failed or did not converge: {f}")

@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import base64
-import html
 import json
 import math
 import shutil
@@ -17,9 +15,10 @@ from ..io.ownership import record, remove_own, replaceable
 from ..io.rundir import FIELD_FILES, resolved_case_text
 from .gci import gci, GCIResult
 from ..run import run_case
-from ..safety import CAUTIONS
-from ..view.plots import figure, save
-from ..view.report import CSS, write_report
+from ..view.labels import display, label, number
+from ..view.page import Col, Page, signoff_for, text_hash
+from ..view.plots import figure, line_style, save
+from ..view.report import write_report
 from .runner import SerialExecutor
 from .runstore import install_run, run_point
 
@@ -35,17 +34,12 @@ QUANTITIES = (
     ("max_speed_m_s", "flow", "max_speed_m_s"),
 )
 DESIGN_ORDER = 2.0
-# human label and display (unit, factor from SI) of each quantity
-LABELS = {
-    "wall_x_N": ("wall axial force", "N", 1.0),
-    "centerbody_x_N": ("centre-body axial force", "N", 1.0),
-    "total_x_N": ("total axial force", "N", 1.0),
-    "volume_flow_m3_s": ("volume flow", "L/min", 6e4),
-    "discharge_coefficient": ("discharge coefficient", "-", 1.0),
-    "contraction_coefficient": ("contraction coefficient", "-", 1.0),
-    "min_wall_gauge_Pa": ("minimum wall pressure (gauge)", "kPa", 1e-3),
-    "max_speed_m_s": ("maximum speed", "m/s", 1.0),
-}
+
+
+def quantity_label(name: str) -> str:
+    """The human name of a quantity of the study (view/labels.py holds them all)."""
+    section = next((sec for n, sec, _ in QUANTITIES if n == name), "")
+    return label(f"{section}.{name}").text
 
 
 @dataclass
@@ -219,48 +213,47 @@ def write_study(study: GridStudy, out_dir: Path) -> None:
 
 def write_html(study: GridStudy, out_dir: Path) -> Path:
     """gridstudy.html: self-contained (the plot embedded), prints on A4."""
-
-
-    e = html.escape
     ok = sorted([lv for lv in study.levels if lv.summary], key=lambda lv: -lv.summary["mesh"]["h_m"])
-    parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>axibore grid study: {e(study.title)}</title>",
-             f"<style>{CSS}</style></head><body><h1>Grid study: {e(study.title)}</h1>",
-             "<p class='meta'>procedure: Celik, Ghia, Roache, Freitas, Coleman &amp; Raad, J. Fluids Eng. 130(7) 078001, 2008; "
-             "safety factor 1.25 with three or more grids, 3 with two</p>",
-             "<div class='caution'><strong>Caution.</strong> " + " ".join(e(c) for c in CAUTIONS) + "</div>",
-             "<h2>Levels</h2><table><tr><th>level</th><th>cells</th><th>h</th><th>refinement ratio to the next coarser</th>"
-             "<th>solve</th></tr>"]
+    page = Page("Grid study", study.title, ["procedure: Celik, Ghia, Roache, Freitas, Coleman & Raad, J. Fluids Eng. "
+                                            "130(7) 078001, 2008", "safety factor 1.25 with three or more grids, 3 with two"])
+    page.cautions()
+    page.h2("Levels")
+    rows = []
     for i, lv in enumerate(ok):
-        ratio = f"{ok[i - 1].summary['mesh']['h_m'] / lv.summary['mesh']['h_m']:.3f}" if i else "-"
-        sv = lv.summary["solver"]
-        parts.append(f"<tr><td>{lv.level}</td><td class='num'>{lv.summary['mesh']['cells']:,}</td>"
-                     f"<td class='num'>{lv.summary['mesh']['h_m'] * 1e3:.4g} mm</td><td class='num'>{ratio}</td>"
-                     f"<td>{e(str(sv.get('method', '')))}{'' if sv['converged'] else ' (NOT converged)'}</td></tr>")
-    for lv in study.levels:
-        if lv.error:
-            parts.append(f"<tr><td>{lv.level}</td><td colspan='4'>failed: {e(lv.error)}</td></tr>")
-    parts.append("</table><h2>Quantities</h2><table><tr><th>quantity</th>" + "".join(f"<th>L{lv.level}</th>" for lv in ok)
-                 + "<th>observed order</th><th>extrapolated</th><th>GCI fine</th></tr>")
+        sv, m = lv.summary["solver"], lv.summary["mesh"]
+        ratio = number(ok[i - 1].summary["mesh"]["h_m"] / m["h_m"], 1.0, 4) if i else "–"
+        rows.append([str(lv.level), f"{m['cells']:,}", number(m["h_m"], 1e3, 4), ratio,
+                     f"{sv.get('method', '')}" + ("" if sv["converged"] else " (NOT converged)")])
+    rows += [[str(lv.level), "–", "–", "–", f"failed: {lv.error}"] for lv in study.levels if lv.error]
+    page.table([Col("level", num=False), Col("cells"), Col("cell size h", "mm"), Col("refinement ratio"),
+                Col("linear solve", num=False)], rows)
+    page.h2("Quantities")
+    cols = [Col("quantity", num=False), Col("unit", num=False)] + [Col(f"level {lv.level}") for lv in ok]
+    cols += [Col("observed order"), Col("extrapolated"), Col("GCI, finest", "%")]
+    rows, notes = [], {}
     for name, r in study.results.items():
-        label, unit, k = LABELS.get(name, (name, "", 1.0))
+        section = next(sec for n, sec, _ in QUANTITIES if n == name)
+        lab = label(f"{section}.{name}")
+        unit, k = display(lab.dim, list(r.phi))
         vals = dict(zip(r.h, r.phi))
-        cells = "".join(f"<td class='num'>{vals[lv.summary['mesh']['h_m']] * k:.7g}</td>" if lv.summary["mesh"]["h_m"] in vals
-                        else "<td>-</td>" for lv in ok)
-        order = "-" if r.order is None else f"{r.order:.2f}"
-        ext = "-" if r.extrapolated is None else f"{r.extrapolated * k:.7g}"
-        g = "-" if r.gci_fine is None else f"{r.gci_fine:.3%}"
-        parts.append(f"<tr><td>{e(label)} [{e(unit)}]</td>{cells}<td class='num'>{order}</td><td class='num'>{ext}</td>"
-                     f"<td class='num'>{g}</td></tr>")
-        for flag in r.flags + study.notes.get(name, []):
-            parts.append(f"<tr><td colspan='{len(ok) + 4}' class='warn'>{e(label)}: {e(flag)}</td></tr>")
-    parts.append("</table>")
+        cells = [number(vals[lv.summary["mesh"]["h_m"]], k, lab.digits + 1) if lv.summary["mesh"]["h_m"] in vals else "–"
+                 for lv in ok]
+        rows.append([lab.text, unit] + cells + ["–" if r.order is None else f"{r.order:.2f}",
+                                                number(r.extrapolated, k, lab.digits + 1),
+                                                "–" if r.gci_fine is None else number(r.gci_fine * 100, 1.0, 3)])
+        notes[len(rows) - 1] = r.flags + study.notes.get(name, [])
+    page.table(cols, rows, notes=notes)
     plot = out_dir / "convergence.png"
     if plot.exists():
-        src = "data:image/png;base64," + base64.b64encode(plot.read_bytes()).decode("ascii")
-        parts.append(f"<h2>Convergence</h2><figure><img alt='convergence' src='{src}'><figcaption>Relative difference "
-                     "from the extrapolated value against the cell size, with a slope-2 guide.</figcaption></figure>")
-    parts.append("</body></html>")
-    return atomic_write_text(out_dir / "gridstudy.html", "\n".join(parts))
+        page.h2("Convergence")
+        page.figure(plot, "Relative difference from the extrapolated value against the cell size, with a slope-2 guide.",
+                    "convergence")
+    finest = ok[-1] if ok else None
+    case_hash = "–"
+    if finest is not None and (finest.run_dir / "case.toml").exists():
+        case_hash = f"{text_hash((finest.run_dir / 'case.toml').read_text(encoding='utf-8'))} (level {finest.level})"
+    page.signoff(signoff_for(study.title, case_hash))
+    return page.write(out_dir / "gridstudy.html")
 
 
 def plot_convergence(study: GridStudy, path: Path) -> Path:
@@ -268,7 +261,6 @@ def plot_convergence(study: GridStudy, path: Path) -> Path:
 
     fig, ax = figure(6.4, 4.6, dpi=120)
     hs_all = []
-    styles = [("o", "-"), ("s", "--"), ("^", "-."), ("D", ":"), ("v", "-"), ("P", "--"), ("X", "-.")]
     for k, (name, r) in enumerate(study.results.items()):
         if r.extrapolated is None or not r.extrapolated or r.gci_fine in (None, 0.0):
             continue
@@ -278,19 +270,23 @@ def plot_convergence(study: GridStudy, path: Path) -> Path:
             continue
         hs, es = zip(*pts)
         hs_all += hs
-        text = LABELS.get(name, (name,))[0]
-        label = f"{text} (p = {r.order:.2f})" if r.order is not None else text
-        marker, line = styles[k % len(styles)]  # lines that coincide stay distinguishable
-        ax.loglog(hs, es, marker=marker, ls=line, ms=7 - k % 3, mfc="none", label=label)
+        text = quantity_label(name)
+        name_p = f"{text} (p = {r.order:.2f})" if r.order is not None else text
+        ax.loglog([h * 1e3 for h in hs], es, label=name_p, **line_style(k))  # lines that coincide stay distinguishable
     if hs_all:
         h0, h1 = min(hs_all), max(hs_all)
         ref = [1e-3 * (h / h1) ** 2 for h in (h0, h1)]
-        ax.loglog([h0, h1], ref, "k--", lw=1, label="slope 2")
+        ax.loglog([h0 * 1e3, h1 * 1e3], ref, "k", lw=0.8, ls=(0, (1, 2)), label="slope 2")
     else:
         ax.text(0.5, 0.5, "no quantity has an extrapolated value to plot\n(converged to round-off, or no observed order)",
                 transform=ax.transAxes, ha="center", va="center", fontsize=9)
-    ax.set_xlabel("representative cell size h [m]")
-    ax.set_ylabel("|value - extrapolated| / |extrapolated|")
+    from matplotlib.ticker import FuncFormatter
+
+    plain = FuncFormatter(lambda v, _: f"{v:g}")  # 4, 5, 6 mm rather than 4 x 10^0 on a log axis within a decade
+    ax.xaxis.set_major_formatter(plain)
+    ax.xaxis.set_minor_formatter(plain)
+    ax.set_xlabel("representative cell size h [mm]")
+    ax.set_ylabel("|value − extrapolated| / |extrapolated|")
     ax.set_title(f"Grid convergence: {study.title}", fontsize=10)
     ax.grid(True, which="both", alpha=0.3)
     if hs_all:

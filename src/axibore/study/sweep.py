@@ -371,7 +371,7 @@ def write_results(result: SweepResult, case: Case, out_dir: Path, plots: tuple[s
     atomic_write_text(out_dir / "sweep.csv", buf.getvalue())
     _write_json(out_dir, case, result.keys, result.rows, "complete" if result.ok else "some points failed", vary, zip_)
     pngs = plot_sweep(result, out_dir, DEFAULT_PLOTS if plots is None else plots)
-    html_path = write_html(result, out_dir, pngs)
+    html_path = write_html(result, out_dir, pngs, point_name(resolved_case_text(without_sweep(case))))
     record(out_dir, "sweep", ["sweep.csv", html_path, *pngs])
 
 

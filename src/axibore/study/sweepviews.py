@@ -2,17 +2,14 @@
 
 from __future__ import annotations
 
-import base64
-import html
 import math
 import re
 from pathlib import Path
 
-from ..io.files import atomic_write_text
 from ..io.ownership import remove_own
-from ..safety import CAUTIONS
-from ..view.plots import figure, save
-from ..view.report import CSS
+from ..view.labels import case_key_label, display, label, number
+from ..view.page import Cell, Col, Page, signoff_for
+from ..view.plots import figure, line_style, save
 
 _NUMBER_UNIT = re.compile(r"^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$")
 
@@ -21,13 +18,9 @@ def _numeric(v) -> bool:
     return isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
 
 
-# how an output is drawn: summary-key suffix -> (factor from SI, unit)
-_PLOT_UNITS = (("_x_N", 1e-3, "kN"), ("_Pa", 1e-5, "bar"), ("_m3_s", 6e4, "L/min"), ("_kg_s", 1.0, "kg/s"),
-               ("_m_s", 1.0, "m/s"))
-
-
-def _plot_unit(output: str) -> tuple[float, str]:
-    return next(((k, u) for suffix, k, u in _PLOT_UNITS if output.endswith(suffix)), (1.0, "-"))
+def _unit(output: str, rows: list[dict]) -> tuple[str, float]:
+    """The display unit and factor of an output column (one unit for the whole column; view/labels.py)."""
+    return display(label(output).dim, [r.get(output) for r in rows if _numeric(r.get(output))])
 
 
 def _given_axis(rows: list[dict], key: str) -> tuple[list[float], str] | None:
@@ -63,51 +56,58 @@ def plot_sweep(result: "SweepResult", out_dir: Path, outputs: tuple[str, ...]) -
             groups: dict[tuple, list] = {}
             for r in rows:
                 groups.setdefault(tuple(r.get(k) for k in others), []).append(r)
-            for g, members in groups.items():
-                k_o = _plot_unit(o)[0]
+            unit, k_o = _unit(o, rows)
+            for i, (g, members) in enumerate(groups.items()):
                 pts = sorted((xval[id(r)], r[o] * k_o) for r in members if _numeric(r.get(o)))
                 if not pts:
                     continue
-                label = ", ".join(f"{k}={v}" for k, v in zip(others, g)) or None
-                ax.plot([p[0] for p in pts], [p[1] for p in pts], marker="o", label=label)
-            unit = _plot_unit(o)[1]
-            ax.set_ylabel(f"{o} [{unit}]", fontsize=8)
+                name = ", ".join(f"{case_key_label(k)} {v}" for k, v in zip(others, g)) or None
+                ax.plot([p[0] for p in pts], [p[1] for p in pts], label=name, **line_style(i))
+            ax.set_ylabel(f"{label(o).text}" + (f" [{unit}]" if unit else ""), fontsize=8)
             ax.ticklabel_format(axis="y", useOffset=False, style="plain")
             ax.grid(True, alpha=0.3)
             if others and len(groups) <= 8:
                 ax.legend(fontsize=7)
-        axes[-1, 0].set_xlabel(f"{key} [{given[1]}]" if given and given[1] else f"{key} (SI)")
-        fig.suptitle(f"{result.title}: against {key}", fontsize=10)
+        axes[-1, 0].set_xlabel(f"{case_key_label(key)} [{given[1]}]" if given and given[1] else f"{case_key_label(key)} (SI)")
+        fig.suptitle(f"{result.title}: against {case_key_label(key)}", fontsize=10)
         fig.tight_layout()
-        paths.append(save(fig, out_dir / f"plot_vs_{key.replace('.', '_').replace('[', '_').replace(']', '')}.png"))
+        paths.append(save(fig, out_dir / f"plot_vs_{_stem(key)}.png"))
     return paths
 
 
-def write_html(result: "SweepResult", out_dir: Path, pngs: list[Path]) -> Path:
-    """sweep.html: the table and the plots (embedded), self-contained."""
+SHOWN = ("forces.total_x_N", "flow.volume_flow_m3_s", "flow.mass_flow_kg_s", "flow.discharge_coefficient",
+         "pressure.min_wall_gauge_Pa", "forces.wall_x_N")
 
 
-    e = html.escape
-    shown = ("forces.wall_x_N", "forces.total_x_N", "flow.volume_flow_m3_s", "flow.mass_flow_kg_s",
-             "flow.discharge_coefficient", "pressure.min_wall_gauge_Pa")
-    parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>axibore sweep: {e(result.title)}</title>",
-             f"<style>{CSS}</style></head><body><h1>Sweep: {e(result.title)}</h1>",
-             f"<p class='meta'>{len(result.rows)} points, {len(result.failed)} not ok; varied: {e(', '.join(result.keys))}</p>",
-             "<div class='caution'><strong>Caution.</strong> " + " ".join(e(c) for c in CAUTIONS) + "</div>",
-             "<h2>Points</h2><table><tr><th>#</th>" + "".join(f"<th>{e(k)}</th>" for k in result.keys)
-             + "".join(f"<th>{e(s)}</th>" for s in shown) + "<th>status</th><th>run directory</th></tr>"]
+def write_html(result: "SweepResult", out_dir: Path, pngs: list[Path], case_hash: str = "–") -> Path:
+    """sweep.html: the table and the plots (embedded), self-contained, on the page scaffold."""
+    ok = [r for r in result.rows if r["status"] == "ok"]
+    shown = [o for o in SHOWN if any(_numeric(r.get(o)) for r in result.rows)]
+    varied = ", ".join(case_key_label(k) for k in result.keys)
+    page = Page("Sweep", result.title, [f"{len(result.rows)} points, {len(result.failed)} not ok", f"varied: {varied}"])
+    page.cautions()
+    page.h2("Points")
+    cols = [Col("point")] + [Col(case_key_label(k), num=False) for k in result.keys]
+    units = {o: _unit(o, ok) for o in shown}
+    cols += [Col(label(o).text, units[o][0]) for o in shown]
+    cols += [Col("status", num=False), Col("run folder", num=False, cls="name")]
+    rows = []
     for r in result.rows:
-        cells = "".join(f"<td>{e(str(r.get(k, '')))}</td>" for k in result.keys)
-        cells += "".join(f"<td class='num'>{'-' if r.get(s) is None else f'{r[s]:.6g}'}</td>" for s in shown)
-        status = e(r["status"]) + (f": {e(str(r['error']))}" if r.get("error") else "")
-        cls = "" if r["status"] == "ok" else " class='warn'"
-        parts.append(f"<tr><td>{r['point']}</td>{cells}<td{cls}>{status}</td>"
-                     f"<td><a href='{e(r['run_dir'])}/summary.json'>{e(r['run_dir'])}</a></td></tr>")
-    parts.append("</table>")
+        row = [str(r["point"])] + [str(r.get(k, "")) for k in result.keys]
+        row += [Cell(number(r.get(o), units[o][1], label(o).digits), o, r.get(o)) for o in shown]
+        row += [r["status"] + (f": {r['error']}" if r.get("error") else ""), r["run_dir"]]
+        rows.append(row)
+    page.table(cols, rows)
+    page.p("Forces are by the fluid on the part, +x downstream; gauge pressures relative to the ambient. Each run "
+           "folder holds the point's own report.", "meta")
     if pngs:
-        parts.append("<h2>Plots</h2>")
+        page.h2("Plots")
     for p in pngs:
-        src = "data:image/png;base64," + base64.b64encode(Path(p).read_bytes()).decode("ascii")
-        parts.append(f"<figure><img alt='{e(p.stem)}' src='{src}'><figcaption>{e(p.stem)}</figcaption></figure>")
-    parts.append("</body></html>")
-    return atomic_write_text(out_dir / "sweep.html", "\n".join(parts))
+        key = next((k for k in result.keys if p.stem == f"plot_vs_{_stem(k)}"), None)
+        page.figure(p, f"The outputs against {case_key_label(key)}" if key else p.stem, p.stem)
+    page.signoff(signoff_for(result.title, case_hash))
+    return page.write(out_dir / "sweep.html")
+
+
+def _stem(key: str) -> str:
+    return key.replace(".", "_").replace("[", "_").replace("]", "")

@@ -42,6 +42,7 @@ from ..units import UnitError, to_si
 from .gci import gci
 from .gridstudy import DESIGN_ORDER
 from .sweep import Point, _si_value, point_name, run_sweep, without_sweep
+from .uncertaintyviews import plot_contributions, write_csv, write_html
 
 CAUTION = ("Covered: the discretisation (grid study) and the stated input uncertainties. Not covered: model-form "
            "error (inviscid flow or a boundary-layer model, steady, axisymmetric or planar) and validation against "
@@ -213,6 +214,7 @@ class UncertaintyResult:
     quantities: list[QuantityUncertainty]
     failed: list[str]  # points that failed or did not converge
     out_dir: Path | None = None
+    case_hash: str = "–"  # the name of the finest grid point's run folder (the hash of its resolved case)
 
     def as_dict(self) -> dict:
         return {"kind": "axibore uncertainty", "title": self.title, "levels": self.levels, "method": self.method,
@@ -342,17 +344,17 @@ def run_uncertainty(case: Case, inputs: list[Input], levels: list[int], out_dir:
                 q.montecarlo = {"samples": int(a.size), "mean": float(a.mean()), "std": float(a.std(ddof=1)),
                                 "q2.5": float(np.quantile(a, 0.025)), "q97.5": float(np.quantile(a, 0.975))}
         quantities.append(q)
-    result = UncertaintyResult(case.title, sorted(levels), inputs, method, quantities, failed, out_dir)
+    result = UncertaintyResult(case.title, sorted(levels), inputs, method, quantities, failed, out_dir, grid[-1].name)
     write_result(result, out_dir)
     return result
 
 
 def write_result(result: UncertaintyResult, out_dir: Path) -> None:
+    """uncertainty.json, uncertainty.csv (the same numbers, a row a quantity), uncertainty.html and its chart."""
     out_dir.mkdir(parents=True, exist_ok=True)
     atomic_write_text(out_dir / "uncertainty.json", json.dumps(result.as_dict(), indent=2, default=str) + "\n")
-    rows = ["quantity,value,u_numerical,gci_fine_rel,observed_order,u_input,u_combined,expanded_k2"]
-    for q in result.quantities:
-        cells = [q.value, q.u_num, q.gci_fine, q.observed_order, q.u_input, q.u_combined, q.expanded]
-        rows.append(f'"{q.name}",' + ",".join("" if v is None else f"{v:.10g}" for v in cells))
-    atomic_write_text(out_dir / "uncertainty.csv", "\n".join(rows) + "\n")
-    record(out_dir, "uncertainty", ["uncertainty.json", "uncertainty.csv"])
+    write_csv(result, out_dir)
+    chart = plot_contributions(result, out_dir / "uncertainty_contributions.png")
+    write_html(result, out_dir, chart, CAUTION, result.case_hash)
+    record(out_dir, "uncertainty", ["uncertainty.json", "uncertainty.csv", "uncertainty.html"]
+           + (["uncertainty_contributions.png"] if chart is not None else []))

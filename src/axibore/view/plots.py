@@ -313,3 +313,15 @@ def all_plots(run_dir, unit: str = "bar") -> dict[str, Path]:
         out["mesh"] = mesh_plot(run)
         out["speed"] = speed_plot(run)
     return out
+
+
+_MARKERS = ("o", "s", "^", "D", "v", "P", "X", "<", ">", "h")
+_LINES = ("-", "--", "-.", ":")
+_COLOURS = ("#23395b", "#b5462b", "#2d6a36", "#c8941a", "#6a3d9a", "#1b7f8c", "#7a5230", "#555555")
+
+
+def line_style(i: int) -> dict:
+    """The i-th line of a plot: colour, marker and dash cycle at different lengths, so that lines that cross or
+    coincide stay apart (and in black-and-white print)."""
+    return {"color": _COLOURS[i % len(_COLOURS)], "marker": _MARKERS[i % len(_MARKERS)],
+            "ls": _LINES[(i // len(_COLOURS) + i) % len(_LINES)], "mfc": "none" if i % 2 else None, "ms": 5}
