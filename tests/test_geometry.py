@@ -1,5 +1,6 @@
 """Bore profiles: templates build valid outlines; bad outlines name the offending segment."""
 
+import copy
 import math
 
 import numpy as np
@@ -138,3 +139,38 @@ def test_points_file_units_and_a_cone_ending_at_the_exit(tmp_path, nozzle_dict):
     with pytest.raises(CaseError) as exc:
         case_from_dict(nozzle_dict, source="n.toml")
     assert "n.toml: bore.lip_radius: a lip rounding needs a straight tip" in str(exc.value)
+
+
+def test_case_file_conveniences_of_the_templates(nozzle_dict):
+    # issue 22, item 9: the conical cone by its length or its half angle (one of them); inlet_length = 0;
+    # a contoured nozzle with tip_length = 0; a stroke change of the shipped spear case
+    by_angle = case_from_dict(nozzle_dict)
+    d = copy.deepcopy(nozzle_dict)
+    del d["bore"]["half_angle"]
+    d["bore"]["length"] = f"{27.5 / math.tan(math.radians(15.0)):.9f} mm"  # (40 - 12.5) mm / tan 15 deg (derived)
+    by_length = case_from_dict(d)
+    np.testing.assert_allclose(by_length.profile.wall_points, by_angle.profile.wall_points, atol=1e-9)
+    d["bore"]["half_angle"] = "15 deg"
+    assert error_of(d).startswith("p.toml: bore.half_angle:") and "got both" in error_of(d)
+    del d["bore"]["half_angle"], d["bore"]["length"]
+    assert error_of(d).startswith("p.toml: bore.length:") and "got neither" in error_of(d)
+
+    d = copy.deepcopy(nozzle_dict)
+    d["bore"]["inlet_length"] = "0 mm"
+    wall = case_from_dict(d).profile.wall
+    assert wall[0].start == (0.0, 0.04) and wall[0].key == "bore.half_angle"  # the cone starts at the inlet plane
+    c = {**nozzle_dict, "bore": {"template": "contoured", "inlet_diameter": "80 mm", "exit_diameter": "25 mm",
+                                 "contraction_length": "100 mm", "inlet_length": "0 mm", "tip_length": "0 mm"}}
+    wall = case_from_dict(c).profile.wall
+    assert len(wall) == 1 and wall[0].key == "bore.contraction_length"
+    assert wall[0].start[0] == 0.0 and wall[-1].end == pytest.approx((0.1, 0.0125))
+
+    from pathlib import Path
+
+    from axibore.case import load_case
+
+    spear = load_case(Path(__file__).parents[1] / "cases" / "spear_nozzle.toml")
+    assert spear.with_updates({"bore.stroke": "4 mm"}).model.bore.stroke == pytest.approx(0.004)
+    with pytest.raises(CaseError) as exc:
+        spear.with_updates({"bore.stroke": "500 mm"})
+    assert exc.value.lines()[0].split("): ")[1].startswith("bore.stroke: the needle tip would be upstream")

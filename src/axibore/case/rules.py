@@ -136,6 +136,10 @@ def cross_checks(m: CaseModel) -> list[tuple[str, str]]:
         problems.append(("joint" if m.joint else "flange",
                          'not with bore.symmetry = "planar": joint loads use round gaskets (pi G^2 / 4) and bolt circles, '
                          "which a per-metre planar section does not have"))
+    if m.bore.template == "conical" and (m.bore.half_angle is None) == (m.bore.length is None):
+        problems.append(("bore.half_angle" if m.bore.half_angle is not None else "bore.length",
+                         "expected the cone given by one of bore.half_angle or bore.length (its axial length), "
+                         + ("got both" if m.bore.half_angle is not None else "got neither")))
     if m.bore.template == "spear" and getattr(m.bore, "centerbody", None) is not None:
         problems.append(("bore.centerbody", "the spear template builds its own needle"))
     return problems

@@ -155,8 +155,9 @@ class ConicalBore(_Section):
     symmetry: Literal["axisymmetric", "planar"] = "axisymmetric"  # planar: a slot or gate, per unit depth
     inlet_diameter: PosLength
     exit_diameter: PosLength
-    half_angle: HalfAngle
-    inlet_length: PosLength
+    half_angle: HalfAngle | None = None  # the cone by its half angle ...
+    length: PosLength | None = None  # ... or by its axial length (one of the two)
+    inlet_length: NonNegLength  # 0: the cone starts at the inlet plane
     tip_length: NonNegLength  # 0: the cone ends at the exit plane
     lip_radius: NonNegLength = 0.0
     centerbody: CenterbodySpec | None = None
@@ -168,8 +169,8 @@ class ContouredBore(_Section):
     inlet_diameter: PosLength
     exit_diameter: PosLength
     contraction_length: PosLength
-    inlet_length: PosLength
-    tip_length: PosLength
+    inlet_length: NonNegLength  # 0: the contraction starts at the inlet plane
+    tip_length: NonNegLength  # 0: the contraction ends at the exit plane
     centerbody: CenterbodySpec | None = None
 
 
@@ -179,7 +180,7 @@ class ReducerBore(_Section):
     inlet_diameter: PosLength
     outlet_diameter: PosLength
     half_angle: HalfAngle
-    inlet_length: PosLength
+    inlet_length: NonNegLength
     outlet_length: PosLength
     knuckle_radius: NonNegLength = 0.0
     centerbody: CenterbodySpec | None = None
@@ -191,7 +192,7 @@ class SpearBore(_Section):
     inlet_diameter: PosLength
     orifice_diameter: PosLength
     half_angle: HalfAngle
-    inlet_length: PosLength
+    inlet_length: NonNegLength
     tip_length: NonNegLength  # 0: the orifice edge is the exit (the lip of a free jet)
     needle_diameter: PosLength
     needle_half_angle: HalfAngle

@@ -34,7 +34,7 @@ def fillet_chain(vertices, radii, keys, radius_keys) -> list[Segment]:
 
     keys[k] names straight piece k, radius_keys[k] names the fillet at interior vertex k+1.
     """
-    v = [np.asarray(p, float) for p in vertices]
+    v, radii, keys, radius_keys = _without_empty_pieces(vertices, radii, keys, radius_keys)
     n = len(v)
     cut_in = [0.0] * n  # distance taken off the piece arriving at vertex k
     arcs: dict[int, tuple[np.ndarray, np.ndarray, float]] = {}
@@ -66,6 +66,22 @@ def fillet_chain(vertices, radii, keys, radius_keys) -> list[Segment]:
             segs.append(Segment(tuple(s0), tuple(e0), "arc", R, key=radius_keys[k - 1]))
         segs.append(Segment(tuple(a + d0 * t), tuple(b - d1 * t), key=keys[k]))
     return segs
+
+
+def _without_empty_pieces(vertices, radii, keys, radius_keys):
+    """The vertices with those that repeat the one before dropped (a length given as 0: the piece is not
+    there), with the keys of the pieces and the radii of the interior vertices that remain."""
+    v = [np.asarray(p, float) for p in vertices]
+    scale = max(float(np.max(np.abs(np.array(v)))), 1e-300)
+    kept = [0]
+    for i in range(1, len(v)):
+        if float(np.linalg.norm(v[i] - v[kept[-1]])) > 1e-12 * scale:
+            kept.append(i)
+    if len(kept) == len(v):
+        return v, list(radii), list(keys), list(radius_keys)
+    # the piece ending at kept vertex b is named by the last piece given before it; an interior vertex keeps its radius
+    return ([v[i] for i in kept], [radii[i - 1] for i in kept[1:-1]], [keys[b - 1] for b in kept[1:]],
+            [radius_keys[i - 1] for i in kept[1:-1]])
 
 
 MAX_CONE_ASPECT = 1000.0  # a cone longer than this many diameters is a typo in the angle
@@ -220,7 +236,7 @@ def build_profile(bore, base_dir: Path | None = None, free_jet: bool = False) ->
         ri, re = b.inlet_diameter / 2, b.exit_diameter / 2
         if not re < ri:
             raise ProfileError("bore.exit_diameter", f"expected less than inlet_diameter ({b.inlet_diameter:.6g} m) for a nozzle, got {b.exit_diameter:.6g} m")
-        lc = _straight_cone(ri, re, b.half_angle)
+        lc = _straight_cone(ri, re, b.half_angle) if b.length is None else b.length
         v = [(0, ri), (b.inlet_length, ri), (b.inlet_length + lc, re), (b.inlet_length + lc + b.tip_length, re)]
         wall = _cone_and_tip(v, b.tip_length, b.lip_radius)
     elif t == "reducer":
@@ -245,6 +261,7 @@ def build_profile(bore, base_dir: Path | None = None, free_jet: bool = False) ->
             Segment(tuple(pts[0]), tuple(pts[-1]), "spline", via=tuple(map(tuple, pts[1:-1])), key="bore.contraction_length"),
             Segment((x0 + L, re), (x0 + L + b.tip_length, re), key="bore.tip_length"),
         ]
+        wall = [w for w in wall if w.chord > 0.0]  # an inlet or tip length of 0: no such piece
         notes.append("contraction: fifth-order polynomial (Bell & Mehta 1988)")
     elif t == "spear":
         ri, ro, rn = b.inlet_diameter / 2, b.orifice_diameter / 2, b.needle_diameter / 2
