@@ -275,20 +275,27 @@ def test_wall_load_faceting_factor(run_dir):
 
 def test_load_files_read_with_ordinary_readers(run_dir):
     # header first: numpy's genfromtxt with names=True reads every CSV of a run as it is
-    for name in ("wall.csv", "wall_load.csv", "wall_load_points.csv", "centerbody_load.csv", "solver_history.csv"):
+    for name in ("wall.csv", "wall_load.csv", "centerbody_load.csv", "solver_history.csv"):
         data = np.atleast_1d(np.genfromtxt(run_dir / name, delimiter=",", names=True))
         # the wall-layer columns are NaN (written "nan") where the layer is separated (layer_state 2), and only there
         attached = data["layer_state"] != 2 if "layer_state" in data.dtype.names else np.ones(data.size, bool)
         assert data.size >= 1 and all(np.isfinite(data[n][attached]).all() for n in data.dtype.names), name
         side = json.loads((run_dir / (name + ".json")).read_text())
         assert side["columns"] == list(data.dtype.names) and side["description"]
-    pts = np.genfromtxt(run_dir / "wall_load_points.csv", delimiter=",", names=True)
-    n = np.column_stack([pts["n_x"], pts["n_y"], pts["n_z"]])
+    # the revolved load surface, read by meshio as an FE pre-processor would: unit normals at its points,
+    # which lie on the revolved wall (their distance from the axis is the wall radius at their x), each
+    # face end once (consecutive faces share their ends)
+    import meshio
+
+    from axibore.io.wall_load import SEGMENTS
+
+    surf = meshio.read(run_dir / "wall_load.vtu")
+    pts, n = surf.points, surf.point_data["normal"]
     assert np.allclose(np.linalg.norm(n, axis=1), 1.0)
-    # points lie on the revolved wall: their distance from the axis is the wall radius at their x
     w = read_csv(run_dir / "wall.csv")
-    r = np.hypot(pts["y_m"], pts["z_m"])
-    assert np.allclose(r, np.interp(pts["x_m"], w["x_m"], w["r_m"]), atol=2 * w["face_length_m"].max())
+    r = np.hypot(pts[:, 1], pts[:, 2])
+    assert np.allclose(r, np.interp(pts[:, 0], w["x_m"], w["r_m"]), atol=2 * w["face_length_m"].max())
+    assert len(pts) == (w["x_m"].size + 1) * SEGMENTS
     # the needle tip touches the axis: its revolved points there are merged into one
     m = pv.read(run_dir / "centerbody_load.vtu")
     key = np.round(np.asarray(m.points) / 1e-9)

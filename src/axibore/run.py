@@ -133,7 +133,8 @@ def run_case(case: Case, out_dir: str | Path, progress: Progress | None = None, 
     for d in clean_stale_partials(Path(out_dir).parent):
         progress("write", f"removed {d.name}, left by an interrupted run")
     with atomic_dir(out_dir, "run", force) as tmp:
-        res = solve_case(case, progress, msh_path=tmp / "mesh.msh", max_cells=max_cells)
+        # the mesh is written once, in fields.vtu (`axibore mesh` writes Gmsh .msh files)
+        res = solve_case(case, progress, max_cells=max_cells)
         write_run(res, tmp)
         atomic_write_text(tmp / UNDERSTOOD, "\n".join(describe(case, cells=res.mesh.n_cells)) + "\n")
         if report:

@@ -20,7 +20,7 @@ def add_args(p) -> None:
     p.add_argument("--scheduler", default=None,
                    help="run the levels on an existing dask.distributed cluster (address tcp://HOST:PORT or a scheduler file)")
     p.add_argument("--keep", choices=["fields"], action="append", default=[],
-                   help="--keep fields: keep the field files (fields.vtu, mesh.msh, load surfaces) of every level, "
+                   help="--keep fields: keep the field files (fields.vtu, load surfaces) of every level, "
                         "not only of the finest")
 
 

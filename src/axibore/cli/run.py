@@ -78,7 +78,7 @@ def run(args) -> int:
     if (s.get("viscous") or {}).get("caution"):
         out(f"Wall layer: {s['viscous']['caution']}")
     written = ["report.html"] if (outdir / "report.html").exists() else []
-    written += ["summary.json", "wall.csv", "wall_load.vtu", "fields.vtu", "mesh.msh", "case.toml"]
+    written += ["summary.json", "wall.csv", "wall_load.vtu", "fields.vtu", "case.toml"]
     out(f"wrote {outdir}/ ({', '.join(written)})")
     if abs(s["forces"]["reconciliation_rel"] or 0.0) > RECONCILIATION_LIMIT:
         err(f"the wall force and the momentum balance differ by {s['forces']['reconciliation_rel']:+.2%} (more than "

@@ -29,7 +29,7 @@ def add_args(p) -> None:
                    help="outputs to plot against each varied key, comma-separated (default: forces.total_x_N,"
                         "flow.discharge_coefficient,pressure.min_wall_gauge_Pa)")
     p.add_argument("--keep", choices=["fields"], action="append", default=[],
-                   help="--keep fields: bring back the field files (fields.vtu, mesh.msh, load surfaces) of every point")
+                   help="--keep fields: bring back the field files (fields.vtu, load surfaces) of every point")
 
 
 def run(args) -> int:

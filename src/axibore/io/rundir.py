@@ -1,4 +1,4 @@
-"""Run directories: case.toml, mesh.msh, fields.vtu, wall.csv, solver_history.csv, summary.json
+"""Run directories: case.toml, fields.vtu (the mesh and the fields), wall.csv, solver_history.csv, summary.json
 (the index, written last), report.html.
 
 ``write_run`` writes into a directory that ``run_case`` has made temporary and renames when
