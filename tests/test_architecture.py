@@ -113,7 +113,7 @@ def test_planar_mesh_measures():
 # from layers below it (DEVELOPERS.md, "Architecture"). A solver never reads a case file, an outlet
 # model never draws, the output layer never drives a view.
 LAYERS = (
-    ("names", "units", "fluids", "safety", "textin", "version"),
+    ("names", "units", "fluids", "safety", "textin", "version", "estimate"),
     ("geometry",),
     ("mesh",),
     ("numerics",),
@@ -266,3 +266,17 @@ def test_a_registered_solver_runs_end_to_end(tmp_path, capsys):
     finally:
         unregister("stub")
     assert "stub" not in SOLVERS
+
+
+def test_countdown_of_an_iteration():
+    # a residual falling by 10 a step from 1 to 1e-2 with 2 s a step: to 1e-6, four more steps, 8 s
+    from axibore.estimate import Countdown, remaining_time
+
+    ticks = iter([0.0, 2.0, 4.0, 6.0, 8.0])
+    c = Countdown(1e-6, clock=lambda: next(ticks))
+    assert c.update(1.0) == "" and c.update(0.1) == ""
+    assert c.update(1e-2) == ", about 4 more steps (8 s)"
+    c.update(2e-2)
+    assert c.update(0.2) == ", not converging at the moment"  # above where it was two steps before
+    # grid levels of 10 s, each next about twice: 20 + 40 s on one worker
+    assert remaining_time([5.0, 10.0], 2, growth=2.0) == ", about 60 s left"

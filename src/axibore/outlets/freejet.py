@@ -41,6 +41,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from ..estimate import Countdown
 from ..geometry import Profile
 from ..geometry.jet import JetShape, exit_area, far_area, jet_problem, lip_angle, trial_jet, with_jet
 from ..mesh import MeshError, mesh_profile, target_size
@@ -318,11 +319,13 @@ class FreeJetOutlet:
         J, fresh = jp.jacobian(st), True
         lam = LM_START * float(np.linalg.norm(J, 2)) ** 2
         history: list[JetIteration] = []
+        left = Countdown(tol)
         for it in range(1, MAX_ITERATIONS + 1):
             r = st["residual"]
             res = float(np.max(np.abs(r))) / scale
             cc = far_area(jp.profile, float(st["P"][-1, 1])) / exit_area(jp.profile)
-            progress("solve", f"free jet {it}: face residual {res:.2e} of V r_lip, contraction coefficient {cc:.6f}")
+            progress("solve", f"free jet {it}: face residual {res:.2e} of V r_lip, contraction coefficient {cc:.6f}"
+                     f"{left.update(res)}")
             if res < tol:
                 history.append(JetIteration(it, res, cc, 0.0, time.perf_counter() - t0))
                 return st, history, True

@@ -10,6 +10,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Callable
 
+from ..estimate import remaining_time
 from ..io.files import atomic_write_text, is_run_directory
 from ..io.ownership import record, remove_own, replaceable
 from ..io.rundir import FIELD_FILES, resolved_case_text
@@ -145,25 +146,30 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
     else:
         fn, jobs = run_level, [(cases[lv.level], lv.run_dir) for lv in todo]
     progress(f"{len(todo)} of {len(levels)} levels to run on {executor.workers} worker{'s' if executor.workers > 1 else ''}")
-    t0 = time.perf_counter()
+    t0 = t_last = time.perf_counter()
+    took: list[float] = []
     for k, (i, summary, error) in enumerate(executor.run(fn, jobs), 1):
         lv = todo[i]
         lv.seconds = time.perf_counter() - t0
+        took.append(time.perf_counter() - t_last)
+        t_last = time.perf_counter()
+        # each level about twice the cells of the one before, and about twice the time
+        ahead = remaining_time(took, len(todo) - k, growth=2.0, workers=executor.workers)
         if remote and error is None:
             install_run(lv.run_dir, summary["files"], resolved_case_text(cases[lv.level]))
             summary = json.loads(summary["files"]["summary.json"])
         if error is None and not summary["solver"]["converged"]:  # kept for diagnosis, left out of the GCI
             lv.error = (f"not converged (residual {summary['solver']['residual']:.2e}; "
                         f"{summary['solver'].get('criterion', '')}): left out of the study")
-            progress(f"[{k}/{len(todo)}] level {lv.level}: NOT CONVERGED, left out of the study")
+            progress(f"[{k}/{len(todo)}] level {lv.level}: NOT CONVERGED, left out of the study{ahead}")
         elif error is None:
             lv.summary = summary
-            progress(f"[{k}/{len(todo)}] level {lv.level}: {summary['mesh']['cells']:,} cells, {lv.seconds:.1f} s")
+            progress(f"[{k}/{len(todo)}] level {lv.level}: {summary['mesh']['cells']:,} cells, {lv.seconds:.1f} s{ahead}")
         else:  # a failed level is reported; the study goes on with the others
             lv.error = error.message
             atomic_write_text(out_dir / f"level-{lv.level}.error.txt", error.traceback)
             record(out_dir, "gridstudy", [f"level-{lv.level}.error.txt"])
-            progress(f"[{k}/{len(todo)}] level {lv.level}: FAILED ({lv.error})")
+            progress(f"[{k}/{len(todo)}] level {lv.level}: FAILED ({lv.error}){ahead}")
     study = GridStudy(case.title, done)
     ok = [lv for lv in done if lv.summary]
     for name, section, key in QUANTITIES:

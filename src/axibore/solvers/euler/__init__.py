@@ -15,6 +15,7 @@ from typing import Annotated
 
 from pydantic import BaseModel, ConfigDict, Field
 
+from ...estimate import Countdown
 from ...mesh import target_size
 from ..base import FlowError, FlowResult, SolveRecord, boundary_state
 from .driver import EulerResult, GasBoundary, coarse_meshes, make_scheme, residual_of, solve_euler
@@ -46,10 +47,12 @@ def solve(case, profile, mesh, progress=None):
                         f"above the back pressure ({p_back:.6g} Pa absolute): nothing drives a flow through the bore")
     settings = settings_from_case(case)
     report_every = max(1, settings.max_steps // 30)
+    left = Countdown(10.0 ** (-settings.residual_orders))
 
     def step_line(step, rel, cfl):
+        ahead = left.update(rel)  # every step (the rate); shown on the reported ones
         if progress is not None and (step == 1 or step % report_every == 0):
-            progress("solve", f"euler step {step}: residual {rel:.2e} of the quasi-1D start's, CFL {cfl:.3g}")
+            progress("solve", f"euler step {step}: residual {rel:.2e} of the quasi-1D start's, CFL {cfl:.3g}{ahead}")
 
     coarse = ()
     if settings.sequencing:
