@@ -149,6 +149,22 @@ class _no_raise:
         return False
 
 
+def test_a_field_file_cut_short_is_named_without_reader_noise(tmp_path, capfd):
+    # a fields.vtu cut in half (a full disk, a copy broken off): `view` and `report` name the file and exit 2;
+    # the VTK reader (C++, writing to the process's stderr) is never handed the broken file
+    case = write(tmp_path, REDUCER + "\n[mesh]\nsize = 0.3\n")
+    run_dir = tmp_path / "run"
+    assert main(["run", str(case), "--out", str(run_dir)]) == 0
+    capfd.readouterr()
+    f = run_dir / "fields.vtu"
+    f.write_bytes(f.read_bytes()[: f.stat().st_size // 2])
+    for argv in (["view", str(run_dir), "--png", str(tmp_path / "v.png")], ["report", str(run_dir)]):
+        rc = main(argv)
+        cap = capfd.readouterr()
+        assert rc == 2 and "fields.vtu: damaged or cut short" in cap.err, cap.err
+        assert "Traceback" not in cap.err and "ERROR" not in cap.err and "vtkXML" not in cap.err
+
+
 @pytest.mark.parametrize("damage", ["garbage", "{}", "[]", "truncated", "no wall.csv", "no fields.vtu"])
 def test_report_on_a_damaged_run(tmp_path, capsys, damage):
     case = write(tmp_path, REDUCER + "\n[mesh]\nsize = 0.3\n")

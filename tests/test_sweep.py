@@ -437,3 +437,17 @@ def test_ctrl_c_during_a_local_dask_sweep_is_one_line(tmp_path):
     # no traceback; the last line is the one the tool says (Dask may warn about a port in use on a busy machine)
     assert "Traceback" not in stderr and stderr.strip().splitlines()[-1] == "interrupted: nothing half-written was left behind"
     assert stderr.count("\n") <= 5, stderr
+
+
+def test_a_point_missing_one_of_its_files_is_run_again(tmp_path, capsys):
+    # a point folder whose wall.csv is gone (deleted by hand, a disk cleaned up) is not a complete run: the
+    # next sweep runs it again instead of reporting it as reused (before, summary.json alone made it complete)
+    argv = ["sweep", str(REDUCER), "--vary", "bore.half_angle=10 deg,12 deg", "--vary", "mesh.size=0.3",
+            "--workers", "0", "--out", str(tmp_path / "s")]
+    assert main(argv) == 0
+    first, second = complete_dirs(tmp_path / "s")
+    (first / "wall.csv").unlink()
+    capsys.readouterr()
+    assert main(argv) == 0
+    assert "1 complete already (reused), 1 to run" in capsys.readouterr().out
+    assert (first / "wall.csv").stat().st_size > 0

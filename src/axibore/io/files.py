@@ -192,6 +192,22 @@ class DamagedFile(ValueError):
     """A file axibore wrote that can no longer be read (cut short, edited): names the file."""
 
 
+def intact_vtk(path: str | Path) -> Path:
+    """``path`` if it is a whole VTK XML file (it ends with its closing tag), else DamagedFile: checked
+    before a reader parses it, which would print its own complaints about a file cut short."""
+    path = Path(path)
+    try:
+        size = path.stat().st_size
+        with open(path, "rb") as f:
+            f.seek(max(0, size - 256))
+            tail = f.read()
+    except OSError as exc:
+        raise DamagedFile(f"{path}: cannot be read ({exc.strerror}); run the case again to write it anew") from None
+    if b"</VTKFile>" not in tail:
+        raise DamagedFile(f"{path}: damaged or cut short (no closing </VTKFile>); run the case again to write it anew")
+    return path
+
+
 def mesh_to_meshio(mesh, cell_data: dict[str, np.ndarray] | None = None, point_data: dict[str, np.ndarray] | None = None):
     """meshio.Mesh of an FVMesh (z = 0 plane: x along the axis, y = r); cell data per cell."""
     import meshio

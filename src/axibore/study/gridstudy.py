@@ -189,8 +189,8 @@ def run_grid_study(case, levels: list[int], out_dir: Path, progress: Callable[[s
         finest = max(lv.level for lv in ok)
         for lv in ok:
             if lv.level != finest:
-                for name in FIELD_FILES:
-                    (lv.run_dir / name).unlink(missing_ok=True)
+                for name in FIELD_FILES:  # the level's own files only, its manifest kept true
+                    remove_own(lv.run_dir, name)
 
     for lv in ok:  # reports last, so that each embeds the study's convergence plot
         error = write_report(lv.run_dir)

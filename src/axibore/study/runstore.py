@@ -13,7 +13,7 @@ import time
 from pathlib import Path
 
 from ..io.files import is_run_directory
-from ..io.ownership import replaceable, write_manifest
+from ..io.ownership import file_hash, read_manifest, replaceable, write_manifest
 from ..io.rundir import FIELD_FILES
 from ..run import run_case
 
@@ -42,7 +42,20 @@ def complete_summary(run_dir: Path, text: str) -> dict | None:
         summary = json.loads((run_dir / "summary.json").read_text(encoding="utf-8"))
     except (OSError, ValueError):
         return None
-    return summary if isinstance(summary, dict) and summary.get("software", {}).get("name") == "axibore" else None
+    if not (isinstance(summary, dict) and summary.get("software", {}).get("name") == "axibore"):
+        return None
+    # every file the run wrote is still there, unchanged (a point missing its wall.csv, or with an edited
+    # summary.json, is run again rather than reused)
+    manifest = read_manifest(run_dir)
+    if manifest is None or manifest.partial:
+        return None
+    for rel, digest in manifest.files.items():
+        try:
+            if file_hash(run_dir / rel) != digest:
+                return None
+        except OSError:
+            return None
+    return summary
 
 
 def install_run(run_dir: Path, files: dict[str, bytes], text: str) -> bool:

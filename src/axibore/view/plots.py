@@ -9,7 +9,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..io.files import atomic_file, read_csv
+from ..io.files import atomic_file, intact_vtk, read_csv
 from ..io.rundir import read_summary
 from ..units import PRESSURE_UNITS
 
@@ -51,7 +51,7 @@ def fields(run: dict) -> dict:
     if "fields" not in run:
         import meshio
 
-        m = meshio.read(run["dir"] / "fields.vtu")
+        m = meshio.read(intact_vtk(run["dir"] / "fields.vtu"))
         cells = [c.data for c in m.cells]
         run["fields"] = {
             "nodes": m.points[:, :2],

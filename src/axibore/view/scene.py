@@ -11,7 +11,7 @@ from pathlib import Path
 
 import numpy as np
 
-from ..io.files import atomic_file, read_csv
+from ..io.files import atomic_file, intact_vtk, read_csv
 from ..io.rundir import read_summary
 from ..io.wall_load import SEGMENTS, revolve
 from ..units import PRESSURE_UNITS
@@ -73,7 +73,7 @@ def has_display() -> bool:
 def _meridional_grid(run_dir: Path):
     import pyvista as pv
 
-    return pv.read(run_dir / "fields.vtu")
+    return pv.read(intact_vtk(run_dir / "fields.vtu"))
 
 
 def _rotated(grid, angle_rad: float):
