@@ -292,19 +292,23 @@ def test_bad_uncertainty_entries_are_refused_before_work(tmp_path, capsys, entry
     assert not (tmp_path / "u").exists()
 
 
+def reducer_with_flow_and_outlet_pressure():
+    from axibore.case import case_from_dict
+
+    bore = {"template": "reducer", "inlet_diameter": "200 mm", "outlet_diameter": "120 mm", "half_angle": "15 deg",
+            "inlet_length": "200 mm", "outlet_length": "200 mm", "knuckle_radius": "100 mm"}
+    return case_from_dict({"fluid": {"kind": "water", "temperature": "15 degC"}, "bore": bore,
+                           "inlet": {"flow_rate": "0.05 m^3/s"}, "outlet": {"kind": "pipe", "pressure": "4 bar"},
+                           "mesh": {"size": 0.2}, "viscous": {"model": "none"}})
+
+
 def test_uncertainty_sensitivity_to_the_outlet_pressure_is_the_area_difference(tmp_path):
     # A reducer with the flow rate and the outlet pressure given, pipe outlet: by the momentum theorem
     # the wall force is p1 A1 - p2 A2 + rho Q (V1 - V2) with p1 = p2 + rho (V2^2 - V1^2) / 2 (Bernoulli),
     # so at a fixed flow dF/dp2 = A1 - A2 exactly (derived). Through the Python API, two levels.
     import axibore
 
-    bore = {"template": "reducer", "inlet_diameter": "200 mm", "outlet_diameter": "120 mm", "half_angle": "15 deg",
-            "inlet_length": "200 mm", "outlet_length": "200 mm", "knuckle_radius": "100 mm"}
-    from axibore.case import case_from_dict
-
-    case = case_from_dict({"fluid": {"kind": "water", "temperature": "15 degC"}, "bore": bore,
-                           "inlet": {"flow_rate": "0.05 m^3/s"}, "outlet": {"kind": "pipe", "pressure": "4 bar"},
-                           "mesh": {"size": 0.2}, "viscous": {"model": "none"}})
+    case = reducer_with_flow_and_outlet_pressure()
     res = axibore.uncertainty(case, inputs={"outlet.pressure": "0.2 bar"}, levels=(0, 1), out=tmp_path / "u")
     row = next(r for r in res.rows if r["name"] == "wall force on the part [N]")
     A1, A2 = math.pi * 0.1**2, math.pi * 0.06**2
@@ -321,13 +325,8 @@ def test_monte_carlo_agrees_with_the_linear_estimate_on_a_near_linear_case(tmp_p
     # 1/sqrt(2 (N - 1)) relative (GUM Supplement 1, JCGM 101:2008, sec. 7; Latin hypercubes do better), the
     # mean within twice u/sqrt(N) of the nominal value, and the 95 % interval about +-1.96 sigma.
     import axibore
-    from axibore.case import case_from_dict
 
-    bore = {"template": "reducer", "inlet_diameter": "200 mm", "outlet_diameter": "120 mm", "half_angle": "15 deg",
-            "inlet_length": "200 mm", "outlet_length": "200 mm", "knuckle_radius": "100 mm"}
-    case = case_from_dict({"fluid": {"kind": "water", "temperature": "15 degC"}, "bore": bore,
-                           "inlet": {"flow_rate": "0.05 m^3/s"}, "outlet": {"kind": "pipe", "pressure": "4 bar"},
-                           "mesh": {"size": 0.2}, "viscous": {"model": "none"}})
+    case = reducer_with_flow_and_outlet_pressure()
     inputs = {"outlet.pressure": "0.2 bar", "inlet.flow_rate": "1 %"}
     lin = axibore.uncertainty(case, inputs=inputs, levels=(0,), out=tmp_path / "lin")
     n = 16
