@@ -130,6 +130,16 @@ def test_runaway_meshes_are_refused_before_meshing(tmp_path, capsys):
         assert not (tmp_path / "r").exists()
 
 
+def test_max_cells_cannot_go_past_the_machines_memory(tmp_path, capsys):
+    # --max-cells moves the cell limit, but a mesh that needs more memory than the machine has is refused
+    # before meshing (before: Gmsh meshed until the kernel killed the process, exit 137, nothing said)
+    case = write(tmp_path, REDUCER + "\n[mesh]\nlevel = 12\n")
+    t = time.perf_counter()
+    rc, _, err = run_cli(["run", str(case), "--max-cells", str(10**12), "--out", str(tmp_path / "r")], capsys)
+    assert rc == 2 and "cannot go past the machine's memory" in err and time.perf_counter() - t < 20
+    assert not (tmp_path / "r").exists()
+
+
 # -- command-line misuse -----------------------------------------------------------------------
 @pytest.mark.parametrize("argv", [["gridstudy", "--levels", "2,1"], ["gridstudy", "--levels", "1,,2"], ["run", "--level", "x"],
                                   ["view", "nowhere"], ["report", "nowhere"]])

@@ -25,6 +25,7 @@ class Budget:
     memory_bytes: float
     available_bytes: float
     limit_cells: int
+    overridden: bool = False  # the limit is --max-cells (at most what the available memory holds)
 
     @property
     def within(self) -> bool:
@@ -73,7 +74,10 @@ def budget(case, max_cells: int | None = None, precise: bool = True) -> Budget:
     run does not mesh twice."""
     avail = available_memory()
     per = bytes_per_cell(case.solver_kind)
-    limit = max_cells if max_cells is not None else int(max(0.0, MEMORY_FRACTION * avail - BASE_BYTES) / per)
+    # --max-cells moves the limit up to what the available memory holds at the most, never past it (a mesh
+    # beyond it ends in the kernel killing the process, with nothing said)
+    hard = int(max(0.0, avail - BASE_BYTES) / per)
+    limit = min(max_cells, hard) if max_cells is not None else int(max(0.0, MEMORY_FRACTION * avail - BASE_BYTES) / per)
     n, how = (None, "")
     if not precise:
         n, how = expected_cells(case.profile, case.mesh.size, case.mesh.level, case.mesh.cells, precise=False)
@@ -81,10 +85,15 @@ def budget(case, max_cells: int | None = None, precise: bool = True) -> Budget:
             n = None
     if n is None:
         n, how = _cells(case)
-    return Budget(n, how, memory_estimate(n, case.solver_kind), avail, limit)
+    return Budget(n, how, memory_estimate(n, case.solver_kind), avail, limit, max_cells is not None)
 
 
 def refusal(b: Budget) -> str:
+    if b.overridden:
+        return (f"the mesh would have {'' if b.how == 'counted' else 'about '}{b.cells:,} cells and need about "
+                f"{b.memory_bytes / 1e9:.3g} GB of memory, more than the {b.available_bytes / 1e9:.3g} GB available "
+                f"(at most {b.limit_cells:,} cells): --max-cells cannot go past the machine's memory; raise mesh.size "
+                "or lower mesh.level, or run on a machine with more memory")
     return (f"the mesh would have {'' if b.how == 'counted' else 'about '}{b.cells:,} cells and need about "
             f"{b.memory_bytes / 1e9:.3g} GB of memory, above the limit of {b.limit_cells:,} cells for the "
             f"{b.available_bytes / 1e9:.3g} GB available: raise mesh.size or lower mesh.level, or override the limit "
