@@ -274,6 +274,9 @@ def test_countdown_of_an_iteration():
 
     ticks = iter([0.0, 2.0, 4.0, 6.0, 8.0])
     c = Countdown(1e-6, clock=lambda: next(ticks))
+    slow = Countdown(1e-6, max_steps=5, clock=iter([0.0, 1.0, 2.0]).__next__)
+    assert slow.update(1.0) == "" and slow.update(0.9) == ""
+    assert slow.update(0.81) == ", too slow to reach 1e-06 in the 2 steps left"  # 131 more needed
     assert c.update(1.0) == "" and c.update(0.1) == ""
     assert c.update(1e-2) == ", about 4 more steps (8 s)"
     c.update(2e-2)

@@ -21,8 +21,9 @@ class Countdown:
     """``Countdown(tol).update(residual)`` after each step: "" until three steps show a geometric rate
     of convergence, then ", about N more steps (T)". A residual that does not fall says so."""
 
-    def __init__(self, tolerance: float, clock=time.perf_counter):
+    def __init__(self, tolerance: float, max_steps: int | None = None, clock=time.perf_counter):
         self.tolerance = tolerance
+        self.max_steps = max_steps  # the iteration's limit: a rate too slow to reach the tolerance within it is said
         self.clock = clock
         self.points: list[tuple[float, float]] = []  # (time, residual)
 
@@ -36,6 +37,8 @@ class Countdown:
         rate = (r1 / r0) ** 0.5  # per step, over the last two
         steps = max(1, math.ceil(math.log(residual / self.tolerance) / -math.log(rate) - 1e-9))
         per_step = (t1 - t0) / 2.0
+        if self.max_steps is not None and steps > self.max_steps - len(self.points):
+            return f", too slow to reach {self.tolerance:.0e} in the {max(self.max_steps - len(self.points), 0)} steps left"
         return f", about {steps} more step{'s' if steps != 1 else ''} ({_duration(steps * per_step)})"
 
 

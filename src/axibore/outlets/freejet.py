@@ -319,7 +319,7 @@ class FreeJetOutlet:
         J, fresh = jp.jacobian(st), True
         lam = LM_START * float(np.linalg.norm(J, 2)) ** 2
         history: list[JetIteration] = []
-        left = Countdown(tol)
+        left = Countdown(tol, MAX_ITERATIONS)
         for it in range(1, MAX_ITERATIONS + 1):
             r = st["residual"]
             res = float(np.max(np.abs(r))) / scale

@@ -47,7 +47,7 @@ def solve(case, profile, mesh, progress=None):
                         f"above the back pressure ({p_back:.6g} Pa absolute): nothing drives a flow through the bore")
     settings = settings_from_case(case)
     report_every = max(1, settings.max_steps // 30)
-    left = Countdown(10.0 ** (-settings.residual_orders))
+    left = Countdown(10.0 ** (-settings.residual_orders), settings.max_steps + 1)
 
     def step_line(step, rel, cfl):
         ahead = left.update(rel)  # every step (the rate); shown on the reported ones
