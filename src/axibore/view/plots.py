@@ -111,6 +111,12 @@ def _window(run: dict, zoom_at=None) -> tuple[dict, tuple[float, float, float, f
     return fc, (x - h, x + h, fc["r0"] * 1e3, fc["r1"] * 1e3)
 
 
+def _height(nodes_mm: np.ndarray, extra: float) -> float:
+    """Figure height (in) for a plane drawn to scale about 5 in wide, plus ``extra`` for titles and colour bar."""
+    span = np.ptp(nodes_mm[:, 0]) or 1.0
+    return float(min(5.2, max(3.0, extra + 5.0 * nodes_mm[:, 1].max() / span)))
+
+
 def _outlines(ax, run: dict, label_body: bool = False, lw: float = 0.9) -> None:
     """The wall and the centre body as lines; the centre body named beside it."""
     for name, t in run["tables"].items():
@@ -143,7 +149,7 @@ def mesh_plot(run, path=None, zoom_at: tuple[float, float] | None = None) -> Pat
     f = fields(run)
     nodes, allc = f["nodes"] * 1e3, f["polygons"]  # drawn in millimetres
     fc, win = _window(run, zoom_at)
-    fig, axes = figure(8.0, 3.1, layout="constrained", nrows=1, ncols=2, gridspec_kw={"width_ratios": [2.3, 1]})
+    fig, axes = figure(8.0, _height(nodes, 1.4), layout="constrained", nrows=1, ncols=2, gridspec_kw={"width_ratios": [2.3, 1]})
     centre = nodes[allc].mean(axis=1)
     pad = 0.25 * (win[1] - win[0])
     inside = ((centre[:, 0] > win[0] - pad) & (centre[:, 0] < win[1] + pad) & (centre[:, 1] > win[2] - pad)
@@ -239,7 +245,7 @@ def speed_figure(run, lines: int = 12):
     psi = f["point_data"]["stream_function_m3_s"]
     levels = np.linspace(psi.min(), psi.max(), lines + 2)[1:-1]
     fc, win = _window(run)
-    fig, axes = figure(8.0, 3.5, layout="constrained", nrows=1, ncols=2, gridspec_kw={"width_ratios": [2.3, 1]})
+    fig, axes = figure(8.0, _height(nodes, 1.9), layout="constrained", nrows=1, ncols=2, gridspec_kw={"width_ratios": [2.3, 1]})
     pc = _draw_field(axes[0], f, speed, cmap, lo, hi, levels)
     _draw_field(axes[1], f, speed, cmap, lo, hi, levels, window=win, px=500)
     jet_csv = run["dir"] / "jet.csv"

@@ -145,7 +145,7 @@ def titles(plotter, title: str, quantity: str, note: str = "") -> None:
     plotter.add_text(quantity, position=(int(0.015 * w), int(h - 66)), font_size=10, color="#3a4652", font="arial",
                      name="quantity")
     if note:
-        plotter.add_text(note, position="upper_right", font_size=8, color="#5d6b78", font="arial", name="note")
+        plotter.add_text(note + "  ", position="upper_right", font_size=8, color="#5d6b78", font="arial", name="note")
     plotter.add_text("axibore", position="lower_right", font_size=7, color="#9aa3ab", font="arial", name="mark")
 
 
@@ -206,7 +206,7 @@ def _frame(plotter, grid, angle_deg: float, title: str, labels: bool = False) ->
     plotter.camera.Elevation(18.0)
     plotter.camera.OrthogonalizeViewUp()
     plotter.reset_camera()
-    plotter.camera.Zoom(1.3)
+    plotter.camera.Zoom(1.2)
     return b
 
 

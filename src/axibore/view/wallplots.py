@@ -110,8 +110,9 @@ def unrolled_figure(run, unit: str = "bar"):
         t = run["tables"][name]
         sm = t["s_m"] * 1e3
         p = t["p_gauge_Pa"] / k
-        ax.axhline(0.0, color="#9aa3ab", lw=0.7)
-        ax.fill_between(sm, 0.0, p, color=INK_OF[name], alpha=0.12, lw=0)
+        if p.min() < 0.5 * p.max():  # the load from zero gauge where it shows the variation; else the variation alone
+            ax.axhline(0.0, color="#9aa3ab", lw=0.7)
+            ax.fill_between(sm, 0.0, p, color=INK_OF[name], alpha=0.12, lw=0)
         ax.plot(sm, p, color=INK_OF[name], lw=1.5)
         total = float(np.sum(t["face_length_m"])) * 1e3
         ax.set_xlim(0.0, total)
@@ -128,10 +129,8 @@ def unrolled_figure(run, unit: str = "bar"):
                     fontsize=7, color="#5d6b78", bbox={"boxstyle": "circle,pad=0.2", "fc": "white", "ec": "#b8c0c7", "lw": 0.6})
         i = int(np.argmin(p))
         ax.plot(sm[i], p[i], marker="o", ms=4.5, mfc="none", mec=FOCUS, mew=1.2)
-        ax.set_ylabel(f"gauge pressure [{unit}]")
+        ax.set_ylabel(f"{part_name(run, name)}\ngauge pressure [{unit}]", color=INK_OF[name])
         ax.set_xlabel(f"s along the {part_name(run, name)} from the inlet [mm] (total {total:.4g} mm)")
-        ax.text(0.99, 0.96, part_name(run, name), transform=ax.transAxes, ha="right", va="top", fontsize=8.5,
-                fontweight="bold", color=INK_OF[name], bbox={"fc": "white", "ec": "none", "alpha": 0.85, "pad": 1.5})
         ax.grid(alpha=0.25)
     headline(fig, s, f"Gauge pressure unrolled along the wall [{unit}]; pieces numbered from the inlet, solid lines: "
              "corners, dotted: smooth joints", axes[0, 0])
