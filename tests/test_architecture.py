@@ -92,7 +92,8 @@ def test_plots_use_no_global_matplotlib_state(tmp_path):
     code = ("import sys; from axibore.view.plots import all_plots; paths = all_plots(sys.argv[1]); "
             "print('pyplot' if 'matplotlib.pyplot' in sys.modules else 'clean', len(paths))")
     res = subprocess.run([sys.executable, "-c", code, str(out)], capture_output=True, text=True, check=True)
-    assert res.stdout.split() == ["clean", "5"]  # wall pressure, axial force, wall layer, mesh, speed
+    # wall pressure, axial force, wall layer, mesh, speed, wall Cp against x/D, wall pressure unrolled along the wall
+    assert res.stdout.split() == ["clean", "7"]
 
 
 def test_planar_mesh_measures():

@@ -322,3 +322,140 @@ def test_free_jet_views(tmp_path):
     translucent = [a for a in p.renderer.actors.values() if getattr(a, "prop", None) is not None
                    and abs(a.prop.opacity - 0.25) < 1e-9]
     assert len(translucent) == 1 + n_before
+
+
+# ---- pictures of our own (issue 22 item 6) ------------------------------------------------------------------
+def _is_round_series(values):
+    """Equally spaced by 1, 2, 2.5 or 5 times a power of ten, each a whole multiple of the step."""
+    v = np.asarray(values, float)
+    if len(v) < 3:
+        return False
+    steps = np.diff(v)
+    step = steps[0]
+    if not np.allclose(steps, step, rtol=1e-9):
+        return False
+    mant = step / 10.0 ** np.floor(np.log10(step))
+    return (any(abs(mant - m) < 1e-9 for m in (1, 2, 2.5, 5))
+            and np.allclose(v / step, np.round(v / step), atol=1e-6))
+
+
+def _least_wall_point(run_dir):
+    best = None
+    for name in ("wall", "centerbody"):
+        t = read_csv(run_dir / f"{name}.csv")
+        i = int(np.argmin(t["p_gauge_Pa"]))
+        if best is None or t["p_gauge_Pa"][i] < best[2]:
+            best = (t["x_m"][i], t["r_m"][i], t["p_gauge_Pa"][i])
+    return best
+
+
+def test_3d_colour_bar_ticks_round_title_and_zero_white(run_dir):
+    from axibore.view.scene import build_cutaway
+
+    s = json.loads((run_dir / "summary.json").read_text())
+    p = pv.Plotter(off_screen=True)
+    info = build_cutaway(p, run_dir, "pressure", 270.0)
+    bar = p.scalar_bars["gauge pressure [bar]"]
+    labels = bar.GetCustomLabels()
+    values = [labels.GetValue(i) for i in range(labels.GetNumberOfTuples())]
+    assert bar.GetUseCustomLabels() and _is_round_series(values), values
+    lo, hi = info.field_range
+    assert all(lo <= v <= hi for v in values) and (values[-1] - values[0]) >= 0.5 * (hi - lo)
+    shown = [bar.GetLabelFormat() % v for v in values]  # the text drawn: the round numbers themselves
+    assert [float(t) for t in shown] == pytest.approx(values, abs=1e-12)
+    texts = [a.GetInput() for a in p.renderer.actors.values() if hasattr(a, "GetInput") and isinstance(a.GetInput(), str)]
+    assert s["title"] in texts and any("gauge pressure [bar]" in t.lower() for t in texts)
+    # this spear has suction at its rounded lip (below 0 gauge): the diverging map, 0 gauge paper white
+    assert lo < 0 < hi
+    mapper = next(a.mapper for a in p.renderer.actors.values()
+                  if getattr(getattr(a, "mapper", None), "dataset", None) is not None
+                  and "gauge pressure [bar]" in a.mapper.dataset.cell_data)
+    rgb = np.array(mapper.lookup_table.map_value(0.0)[:3], float)
+    rgb = rgb / 255 if rgb.max() > 1 else rgb
+    assert rgb.min() > 0.9, rgb
+    # the needle is named in the view
+    assert any(k.startswith("centre-body") for k in p.actors), list(p.actors)
+    p.close()
+
+
+def _lightness(rgb):
+    # sRGB -> CIE L* (IEC 61966-2-1 transfer curve, Rec. 709 luminance weights; derived)
+    c = np.asarray(rgb, float)
+    lin = np.where(c <= 0.04045, c / 12.92, ((c + 0.055) / 1.055) ** 2.4)
+    y = lin @ np.array([0.2126, 0.7152, 0.0722])
+    return np.where(y > (6 / 29) ** 3, 116 * np.cbrt(y) - 16, y * (29 / 3) ** 3)
+
+
+def test_colour_maps_are_perceptually_ordered():
+    from axibore.view.style import colours
+
+    L = _lightness(colours("depth", 64))
+    assert np.all(np.diff(L) > 0) and L[0] < 25 and L[-1] > 90  # a ramp in lightness, also in grey print
+    T = _lightness(colours("tide", 64))
+    assert np.all(np.diff(T[:32]) > 0) and np.all(np.diff(T[32:]) < 0)  # light at zero, darker both ways
+    assert np.allclose(T[:32], T[32:][::-1], atol=3.0)  # equal distance from zero, equal lightness
+
+
+def test_speed_plot_round_ticks_title_and_zoom_on_least_pressure(run_dir):
+    from axibore.view.plots import speed_figure
+
+    s = json.loads((run_dir / "summary.json").read_text())
+    fig = speed_figure(run_dir)
+    assert fig.get_suptitle() == s["title"]
+    bar = next(a for a in fig.axes if a.get_xlabel() == "speed [m/s]")
+    ticks = bar.get_xticks()
+    assert _is_round_series(ticks)
+    assert [t.get_text().replace("\u2212", "-") for t in bar.get_xticklabels()] == [f"{v:g}" for v in ticks]
+    speed = np.concatenate(meshio.read(run_dir / "fields.vtu").cell_data["speed_m_s"])
+    assert ticks.min() >= speed.min() and ticks.max() <= speed.max()
+    x, r, _ = _least_wall_point(run_dir)
+    zoom = fig.axes[1]
+    (x0, x1), (r0, r1) = zoom.get_xlim(), zoom.get_ylim()
+    assert x0 < x * 1e3 < x1 and r0 < r * 1e3 < r1
+    whole = fig.axes[0]
+    assert (x1 - x0) < 0.5 * np.diff(whole.get_xlim())[0]  # a zoom, not the whole bore
+    assert "needle" in [t.get_text() for t in whole.texts]
+
+
+def test_cp_plot_is_cp_of_wall_csv(run_dir):
+    from axibore.view.wallplots import cp_figure
+
+    s = json.loads((run_dir / "summary.json").read_text())
+    w = read_csv(run_dir / "wall.csv")
+    q = 0.5 * s["flow"]["density_kg_m3"] * s["flow"]["outlet_mean_velocity_m_s"] ** 2  # the exit dynamic pressure
+    cp = (w["p_gauge_Pa"] - s["pressure"]["outlet_gauge_Pa"]) / q
+    d, x_in = 0.150, 0.0  # the spear case: inlet_diameter 150 mm, the bore starts at x = 0
+    fig = cp_figure(run_dir)
+    ax = fig.axes[0]
+    line = next(ln for ln in ax.get_lines() if ln.get_label() == "wall, 2D")
+    assert np.allclose(line.get_ydata(), cp, rtol=1e-6, atol=1e-9)
+    assert np.allclose(line.get_xdata(), (w["x_m"] - x_in) / d, rtol=1e-9, atol=1e-9)
+    assert "D = 150 mm" in ax.get_xlabel() and "outlet pressure" in ax.get_title(loc="left")
+    assert cp[0] == pytest.approx(1.0, abs=0.05)  # the inlet stagnates near the exit's dynamic pressure (Bernoulli)
+
+
+def test_unrolled_wall_pressure_spans_the_wall(run_dir):
+    from axibore.view.wallplots import unrolled_figure
+
+    fig = unrolled_figure(run_dir, unit="kPa")
+    wall_ax, body_ax = fig.axes[:2]
+    for ax, name in ((wall_ax, "wall"), (body_ax, "centerbody")):
+        t = read_csv(run_dir / f"{name}.csv")
+        pts = np.column_stack([t["x_m"], t["r_m"]])
+        chord = np.sum(np.linalg.norm(np.diff(pts, axis=0), axis=1)) + 0.5 * (t["face_length_m"][0] + t["face_length_m"][-1])
+        lo, hi = ax.get_xlim()
+        assert lo == 0 and hi == pytest.approx(chord * 1e3, rel=2e-3)
+        curve = max(ax.get_lines(), key=lambda ln: len(ln.get_xdata()))
+        assert np.allclose(curve.get_ydata(), t["p_gauge_Pa"] / 1e3)
+    # the wall's corner at the end of the 150 mm inlet pipe (x = 150 mm) is marked at s = 150 mm
+    marks = [ln.get_xdata()[0] for ln in wall_ax.get_lines() if len(ln.get_xdata()) == 2 and ln.get_xdata()[0] == ln.get_xdata()[1]]
+    assert any(abs(m - 150.0) < 1.0 for m in marks), marks
+    assert body_ax.get_ylabel().startswith("needle")
+
+
+def test_report_carries_the_new_plots(run_dir):
+    text = (run_dir / "report.html").read_text()
+    for key in ("unrolled", "cp"):
+        assert (run_dir / {"unrolled": "plot_wall_unrolled.png", "cp": "plot_wall_cp.png"}[key]).exists()
+    assert "unrolled along the wall" in text and "Wall pressure coefficient" in text
+    assert "hydrodynamic load only" in text.lower()

@@ -31,10 +31,16 @@ CAPTIONS = {
     "wall_pressure": "Wall gauge pressure along the axis: the 2D result and the 1D model (Bernoulli and continuity with the "
                      "local flow area).",
     "axial_force": "Cumulative axial force on the part from the inlet; its end value is the wall force.",
-    "speed": "Speed in the meridional plane with streamlines.",
+    "speed": "Speed in the meridional plane with streamlines; right: a zoom at the least wall pressure (the circle).",
+    "cp": "Wall pressure coefficient Cp = (p − p_out) / q_exit against the distance from the inlet plane in inlet bore "
+          "diameters: reference pressure the outlet pressure, reference dynamic pressure the exit dynamic pressure of the "
+          "1D answer; dashed: the 1D model. Hydrodynamic (inviscid) pressure only.",
+    "unrolled": "Wall gauge pressure unrolled along the wall, for the structural model: arc length s from the inlet, the "
+                "pieces of the wall numbered, corners (solid, with their turn) and smooth joints (dotted) marked with their "
+                "x; a centre body on its own row. Hydrodynamic (inviscid) pressure only.",
     "wall_layer": "Wall layer: wall shear along the flow and shape factor; shaded: separated ranges, where the inviscid "
                   "wall pressure is not reliable; dotted: transition.",
-    "mesh": "The mesh, with a zoom at the least wall pressure.",
+    "mesh": "The mesh, with a zoom at the least wall pressure (the circle).",
     "jet": "Free jet: the settled jet boundary from the lip, the far-jet radius and the vena contracta; below, the "
            "remaining speed mismatch along it (zero on an exact free streamline).",
     "gridstudy": "Grid convergence of the grid study this run belongs to.",
@@ -147,7 +153,7 @@ def build_report(run_dir: str | Path, include_3d: bool = True, shown_dir: str | 
         page.caution("Joints.", JOINT_CAUTION)
     page.h2("Plots")
     captions = dict(CAPTIONS, view3d=CAPTIONS["view3d_planar" if planar else "view3d"])
-    for key in ("view3d", "wall_pressure", "axial_force", "jet", "wall_layer", "speed", "mesh", "gridstudy"):
+    for key in ("view3d", "wall_pressure", "unrolled", "cp", "axial_force", "jet", "wall_layer", "speed", "mesh", "gridstudy"):
         if key in figs:
             page.figure(figs[key], captions[key], key)
     page.h2("The case as understood")

@@ -15,12 +15,13 @@ from ..io.files import atomic_file, intact_vtk, read_csv
 from ..io.rundir import read_summary
 from ..io.wall_load import SEGMENTS, revolve
 from ..units import PRESSURE_UNITS
+from .style import BODY_INK, INK, body_name, colour_map, diverges, nice_ticks, tick_text
 
 FIELDS = {
     "pressure": ("p_gauge_Pa", "gauge pressure"),
     "speed": ("speed_m_s", "speed [m/s]"),
     "mach": ("mach", "Mach number"),
-    "cp": ("cp", "Cp = (p - p_out) / q_out"),
+    "cp": ("cp", "pressure coefficient (p - p_out) / q_exit"),
     "shear": ("speed_m_s", "wall shear [Pa]"),  # the wall coloured by its shear (the cut planes show the speed)
 }
 
@@ -101,6 +102,53 @@ def revolved_bounds(x0: float, x1: float, rmax: float, angle_deg: float) -> tupl
 WALL_P = "wall gauge pressure [Pa]"
 
 
+def bar_args(title: str) -> dict:
+    """Our colour bar: across the foot of the picture, its title above it."""
+    return {"title": title, "vertical": False, "position_x": 0.30, "position_y": 0.015, "width": 0.44, "height": 0.12,
+            "title_font_size": 15, "label_font_size": 13, "color": INK, "font_family": "arial", "n_labels": 2,
+            "fmt": "%.4g", "outline": False}
+
+
+def round_ticks(plotter, title: str, lo: float, hi: float) -> list[str]:
+    """Put the colour bar's ticks at round numbers inside (lo, hi) (``style.nice_ticks``); returns their text."""
+    import vtk
+
+    ticks = nice_ticks(lo, hi)
+    text = tick_text(ticks)
+    places = len(text[0].split(".")[1]) if "." in text[0] else 0
+    bar = plotter.scalar_bars[title]
+    arr = vtk.vtkDoubleArray()
+    for v in ticks:
+        arr.InsertNextValue(float(v))
+    bar.SetUseCustomLabels(True)
+    bar.SetCustomLabels(arr)
+    bar.SetLabelFormat(f"%.{places}f")
+    bar.SetDrawTickLabels(True)
+    bar.SetTitle("")  # the title is ours, at the bar's left (VTK puts a horizontal bar's title over its numbers)
+    w, h = plotter.window_size
+    pos = bar.GetPositionCoordinate().GetValue()
+    height = bar.GetPosition2Coordinate().GetValue()[1]
+    actor = plotter.add_text(title, position=(int(pos[0] * w) - 12, int((pos[1] + 0.3 * height) * h)), font_size=10,
+                             color=INK, font="arial", name="bar-title")
+    actor.GetTextProperty().SetJustificationToRight()
+    return text
+
+
+def _cmap(field: str, lo: float, hi: float):
+    return colour_map("pressure" if field in ("pressure", "cp") else field, lo, hi)
+
+
+def titles(plotter, title: str, quantity: str, note: str = "") -> None:
+    """The case title (bold) and the quantity with its unit at the top left; a note at the top right."""
+    w, h = plotter.window_size
+    plotter.add_text(title, position=(int(0.015 * w), int(h - 38)), font_size=13, color=INK, font="arial", name="case-title")
+    plotter.add_text(quantity, position=(int(0.015 * w), int(h - 66)), font_size=10, color="#3a4652", font="arial",
+                     name="quantity")
+    if note:
+        plotter.add_text(note + "  ", position="upper_right", font_size=8, color="#5d6b78", font="arial", name="note")
+    plotter.add_text("axibore", position="lower_right", font_size=7, color="#9aa3ab", font="arial", name="mark")
+
+
 def _wall_surfaces(run_dir: Path, angle_deg: float) -> list:
     """Wall (and centre body) revolved from 0 to ``angle_deg``, gauge pressure as point data."""
     import pyvista as pv
@@ -148,7 +196,6 @@ def _frame(plotter, grid, angle_deg: float, title: str, labels: bool = False) ->
     if labels:
         plotter.add_point_labels(np.array([[x0, 0, 0], [x1, 0, 0], [0.5 * (x0 + x1), 0, 0]]), ["inlet", "outlet", "axis"],
                                  font_size=14, point_size=8, point_color="black", text_color="black", shape_opacity=0.4)
-    plotter.add_text(title, position="upper_left", font_size=10, color="black")
     plotter.set_background("white")
     tm = np.radians(angle_deg + 0.5 * (360.0 - angle_deg)) if angle_deg < 360 else np.radians(-45.0)
     dist = 2.5 * rmax + 1.25 * (x1 - x0)
@@ -159,7 +206,7 @@ def _frame(plotter, grid, angle_deg: float, title: str, labels: bool = False) ->
     plotter.camera.Elevation(18.0)
     plotter.camera.OrthogonalizeViewUp()
     plotter.reset_camera()
-    plotter.camera.Zoom(1.15)
+    plotter.camera.Zoom(1.2)
     return b
 
 
@@ -185,13 +232,19 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
             w = sf.point_data[WALL_P] / PRESSURE_UNITS[opts.unit]
             lo, hi = min(lo, float(w.min())), max(hi, float(w.max()))
     frange = opts.colour_range or (lo, hi)
-    bar = {"title": label, "vertical": True, "position_x": 0.88, "position_y": 0.12, "width": 0.06, "height": 0.7,
-           "fmt": "%.4g", "title_font_size": 16, "label_font_size": 13, "color": "black"}
+    bar = bar_args(label)
+    cmap = _cmap(field, *frange)
     planes = [grid] if angle_deg >= 360 else [grid, _rotated(grid, np.radians(angle_deg))]
     for k, g in enumerate(planes):
         if field == "shear":
             break
-        plotter.add_mesh(g, scalars=name, cmap="viridis", clim=frange, show_scalar_bar=(k == 0), scalar_bar_args=bar)
+        plotter.add_mesh(g, scalars=name, cmap=cmap, clim=frange, show_scalar_bar=(k == 0), scalar_bar_args=bar, ambient=0.3,
+                         diffuse=0.75)
+    summary = read_summary(run_dir)
+    if field != "shear":
+        round_ticks(plotter, label, *frange)
+        titles(plotter, summary.get("title") or run_dir.name, _quantity(label, angle_deg),
+               "flow in +x" + ("; zero gauge is white" if field in ("pressure", "cp") and diverges(*frange) else ""))
 
     if field == "shear":
         return _shear_cutaway(plotter, run_dir, grid, angle_deg, opts, surfaces, planes, bar)
@@ -200,12 +253,33 @@ def build_cutaway(plotter, run_dir: str | Path, field: str = "pressure", angle_d
     for surf in surfaces:
         if field == "pressure":  # one colour scale for planes and wall
             surf.point_data[name] = surf.point_data[WALL_P] / PRESSURE_UNITS[opts.unit]
-            plotter.add_mesh(surf, scalars=name, cmap="viridis", clim=frange, show_scalar_bar=False, opacity=0.55)
+            plotter.add_mesh(surf, scalars=name, cmap=cmap, clim=frange, show_scalar_bar=False, opacity=0.55)
         else:
             plotter.add_mesh(surf, color="#b0b8c0", opacity=0.35, show_scalar_bar=False)
     _add_jet_surface(plotter, run_dir, angle_deg, opts)
+    _label_body(plotter, run_dir, opts)
     b = _frame(plotter, grid, angle_deg, "flow in +x", labels=True)
     return SceneInfo(b, field, frange, (float(wr[0]), float(wr[1])))
+
+
+def _quantity(label: str, angle_deg: float) -> str:
+    what = label[0].upper() + label[1:]
+    return f"{what}: cut planes and wall, revolved {angle_deg:.0f}° about the axis" if angle_deg < 360 else what
+
+
+def _label_body(plotter, run_dir: Path, opts: ViewOptions) -> None:
+    """Name the centre body (the spear's needle, a plug) at the middle of its outline on the first cut plane."""
+    src = run_dir / "centerbody.csv"
+    if not src.exists():
+        return
+    t = read_csv(src)
+    keep = np.ones(len(t["x_m"]), bool) if opts.x_range is None else (t["x_m"] >= opts.x_range[0]) & (t["x_m"] <= opts.x_range[1])
+    if not keep.any():
+        return
+    i = np.flatnonzero(keep)[int(keep.sum()) // 2]
+    plotter.add_point_labels(np.array([[t["x_m"][i], t["r_m"][i], 0.0]]), [body_name(run_dir)], font_size=14, bold=True,
+                             point_size=7, point_color=BODY_INK, text_color=BODY_INK, shape_color="white",
+                             shape_opacity=0.75, always_visible=True, name="centre-body")
 
 
 WALL_TAU = "wall shear [Pa]"
@@ -240,8 +314,12 @@ def _shear_cutaway(plotter, run_dir: Path, grid, angle_deg, opts, surfaces, plan
     for g in planes:
         plotter.add_mesh(g, color="#c8ced4", opacity=0.5, show_scalar_bar=False)
     for k, sf in enumerate(tau_surfaces):
-        plotter.add_mesh(sf, scalars=WALL_TAU, cmap="plasma", clim=frange, show_scalar_bar=(k == 0),
+        plotter.add_mesh(sf, scalars=WALL_TAU, cmap=colour_map("shear", *frange), clim=frange, show_scalar_bar=(k == 0),
                          scalar_bar_args={**bar, "title": WALL_TAU})
+    round_ticks(plotter, WALL_TAU, *frange)
+    titles(plotter, read_summary(run_dir).get("title") or run_dir.name, "Wall shear [Pa] of the wall layer on the wall "
+           "(separated: 0); grey: the cut planes", "flow in +x")
+    _label_body(plotter, run_dir, opts)
     b = _frame(plotter, grid, angle_deg, "flow in +x; wall coloured by the wall shear (separated: 0)")
     return SceneInfo(b, "shear", frange, frange)
 
@@ -258,9 +336,8 @@ def build_meridional(plotter, run_dir: str | Path, field: str = "speed", lines: 
     name, label = _field(grid, field, opts)
     values = grid.cell_data[name]
     frange = opts.colour_range or (float(values.min()), float(values.max()))
-    plotter.add_mesh(grid, scalars=name, cmap="viridis", clim=frange,
-                     scalar_bar_args={"title": label, "fmt": "%.4g", "color": "black", "vertical": True,
-                                      "position_x": 0.86, "position_y": 0.15, "width": 0.06, "height": 0.7})
+    plotter.add_mesh(grid, scalars=name, cmap=_cmap(field, *frange), clim=frange, scalar_bar_args=bar_args(label))
+    round_ticks(plotter, label, *frange)
     levels = np.linspace(psi_all.min(), psi_all.max(), lines + 2)[1:-1]  # the same flow fractions in a zoom
     iso = grid.cell_data_to_point_data().contour(isosurfaces=levels, scalars="stream_function_m3_s")
     if iso.n_points:
@@ -269,7 +346,8 @@ def build_meridional(plotter, run_dir: str | Path, field: str = "speed", lines: 
     plotter.set_background("white")
     plotter.show_bounds(xtitle="x [mm]", ytitle="r [mm]", ztitle="", color="black", location="outer", ticks="outside",
                         font_size=16, show_zaxis=False, use_2d=True, fmt="%.4g")
-    plotter.add_text(f"{label}: {run_dir.name}", position="upper_edge", font_size=12, color="black")
+    titles(plotter, read_summary(run_dir).get("title") or run_dir.name, f"{label[0].upper() + label[1:]} in the meridional "
+           "plane; white: streamlines", "flow in +x")
     plotter.view_xy()
     b = tuple(float(v) * 1e-3 for v in grid.bounds)  # back in metres
     return SceneInfo(b, field, frange, frange)
