@@ -156,7 +156,7 @@ def test_cli_mesh_writes_files(tmp_path, capsys):
     m = meshio.read(tmp_path / "mesh.vtu")
     assert sum(len(c.data) for c in m.cells) > 1000
     out = capsys.readouterr().out
-    assert "cells" in out and "non-orthogonality" in out
+    assert "cells" in out and "deg off the face normal" in out
 
 
 def _hyperboloid_case(tmp_path, smooth=True, points=41):

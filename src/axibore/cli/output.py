@@ -60,9 +60,9 @@ def headline(summary: dict, unit: str = "bar") -> list[str]:
                                  f"{show(fl['jet_radius_m'], 'length')}, vena contracta at x = {show(fl['vena_contracta_x_m'], 'length')}"))
         ep = summary.get("exit_plane_model") or {}
         if ep.get("volume_flow_m3_s"):
-            rows.append(("exit-plane model", f"flow {ep['flow_rel_diff']:+.2%}, force {ep['force_rel_diff']:+.2%}, min wall pressure "
-                                             f"{show(ep['min_wall_gauge_Pa'], 'pressure', unit=unit)} gauge (the same bore with a "
-                                             "uniform exit; off by, against the free jet)"))
+            rows.append(("exit-plane model", f"the same bore with the outlet pressure imposed across its exit plane: flow "
+                                             f"{ep['flow_rel_diff']:+.2%} and force {ep['force_rel_diff']:+.2%} against the free "
+                                             f"jet, min wall pressure {show(ep['min_wall_gauge_Pa'], 'pressure', unit=unit)} gauge"))
     rows += [
         ("min wall pressure", f"{show(p['min_wall_gauge_Pa'], 'pressure', unit=unit)} gauge at x = {show(p['min_wall_x_m'], 'length')} "
          f"({p['min_wall_boundary']})"),
@@ -130,7 +130,8 @@ def mesh_lines(build, level: int) -> list[str]:
     return [
         f"mesh      {q['cells']:,} cells ({q['triangles']:,} triangles, {q['quads']:,} quads), {q['faces']:,} faces, "
         f"level {level}, target {show(build.h_target, 'length')}, {build.seconds:.2f} s",
-        f"quality   non-orthogonality max {q['max_non_orthogonality_deg']:.1f} deg (mean {q['mean_non_orthogonality_deg']:.1f}), "
-        f"skewness max {q['max_skewness']:.3f}, aspect ratio max {q['max_aspect_ratio']:.2f}",
+        f"cells     centre-to-centre lines up to {q['max_non_orthogonality_deg']:.1f} deg off the face normal (mean "
+        f"{q['mean_non_orthogonality_deg']:.1f}), meeting faces up to {q['max_skewness']:.3f} face lengths off their "
+        f"middle; sides at most {q['max_aspect_ratio']:.2f} : 1",
         "boundary  " + ", ".join(f"{k} {v}" for k, v in sorted(q["boundary_faces"].items())) + " faces",
     ]
