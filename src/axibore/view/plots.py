@@ -140,6 +140,17 @@ def _focus_text(run: dict, fc: dict) -> str:
     return f"zoom at the least wall pressure, {part_name(run, fc['part'])} at x = {fc['x'] * 1e3:.4g} mm"
 
 
+def _whole_and_zoom(axes, nodes, fc, win) -> None:
+    """The whole meridian on the first panel (the zoom window boxed), the window on the second."""
+    _mark_focus(axes[0], fc, win)
+    _mark_focus(axes[1], fc)
+    axes[0].set_xlim(nodes[:, 0].min(), nodes[:, 0].max())
+    axes[0].set_ylim(0, nodes[:, 1].max() * 1.02)
+    axes[1].set_xlim(win[0], win[1])
+    axes[1].set_ylim(win[2], win[3])
+    axes[0].set_ylabel("r [mm]")
+
+
 def mesh_plot(run, path=None, zoom_at: tuple[float, float] | None = None) -> Path:
     """The meridional mesh, and a zoom around the least wall pressure (a lip, knuckle or needle tip)."""
     from matplotlib.collections import PolyCollection
@@ -168,13 +179,7 @@ def mesh_plot(run, path=None, zoom_at: tuple[float, float] | None = None) -> Pat
             ax.plot(j["x_m"] * 1e3, j["r_m"] * 1e3, color=JET, lw=1.1, ls="--")
         ax.set_aspect("equal")
         ax.set_xlabel("x [mm]")
-    _mark_focus(axes[0], fc, win)
-    _mark_focus(axes[1], fc)
-    axes[0].set_xlim(nodes[:, 0].min(), nodes[:, 0].max())
-    axes[0].set_ylim(0, nodes[:, 1].max() * 1.02)
-    axes[1].set_xlim(win[0], win[1])
-    axes[1].set_ylim(win[2], win[3])
-    axes[0].set_ylabel("r [mm]")
+    _whole_and_zoom(axes, nodes, fc, win)
     headline(fig, s, f"Mesh: {s['mesh']['cells']:,} cells ({s['mesh']['method']})", axes[0])
     axes[1].set_title(_focus_text(run, fc).replace("zoom at the least wall pressure, ", "zoom: least wall pressure,\n"),
                       loc="left", fontsize=7.5, color=FOCUS)
@@ -258,13 +263,7 @@ def speed_figure(run, lines: int = 12):
         ax.set_xlabel("x [mm]")
     if j is not None:
         axes[0].legend(fontsize=7, loc="upper right", framealpha=0.85)
-    _mark_focus(axes[0], fc, win)
-    _mark_focus(axes[1], fc)
-    axes[0].set_xlim(nodes[:, 0].min(), nodes[:, 0].max())
-    axes[0].set_ylim(0, nodes[:, 1].max() * 1.02)
-    axes[1].set_xlim(win[0], win[1])
-    axes[1].set_ylim(win[2], win[3])
-    axes[0].set_ylabel("r [mm]")
+    _whole_and_zoom(axes, nodes, fc, win)
     label = "Mach number" if mach else "speed [m/s]"
     headline(fig, run["summary"], f"{label[0].upper() + label[1:]}; white: streamlines, each band carries 1/{lines + 1} "
              "of the flow", axes[0])
