@@ -286,7 +286,10 @@ def run_uncertainty(case: Case, inputs: list[Input], levels: list[int], out_dir:
             points.append(p)
     progress(f"{len(points)} runs: {len(levels)} grid levels, {len(extra)} input points at level {finest}")
     runs = out_dir / "runs"
-    run_sweep(base, points, runs, executor, progress=progress, plots=())
+    # the finest levels first (longest processing time first): the short coarse runs fill the workers' gaps
+    # at the end instead of delaying the long ones
+    order = sorted(points, key=lambda p: -p.case.mesh.level)
+    run_sweep(base, order, runs, executor, progress=progress, plots=())
 
     def read(name: str) -> dict | None:
         try:

@@ -11,7 +11,7 @@ import numpy as np
 
 from ..names import Boundary
 from . import layer as L
-from .march import MIN_LAYER_RE, _face_index, _reference_state, _viscosity, march_chain
+from .march import MIN_LAYER_RE, _face_index, _reference_state, _viscosity, march_chain, perimeter
 from .results import CAUTION, G_STANDARD, THICK_LAYER, ChainLayer, Coupling, LayerWithheld, ViscousResult, ViscousSettings
 
 
@@ -166,7 +166,7 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
     mu_in, source = _viscosity(case, flow)
     rho_in = flow.inlet_density
     # Reynolds number on the inlet plane: mean velocity and hydraulic diameter 4 A / P (wetted perimeter)
-    P_in = sum((1.0 if planar else 2.0 * math.pi * float(t.r[0])) for t in tables.values() if t.x.size
+    P_in = sum(float(perimeter(t.r[0], planar)) for t in tables.values() if t.x.size
                and abs(t.x[0] - profile.x_inlet) <= t.length[0])
     A_in = flow.inlet_area
     d_h = 4.0 * A_in / P_in if P_in > 0 else 2.0 * profile.r_inlet

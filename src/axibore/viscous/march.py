@@ -216,6 +216,12 @@ def _start_theta(settings: ViscousSettings, ue0: float, nu0: float, r0: float, p
     return theta if planar else min(theta, 7.0 / 72.0 * r0)  # at most a fully developed pipe layer (delta = r)
 
 
+def perimeter(r, planar: bool):
+    """The wetted perimeter of a wall at radius ``r``: 2 pi r, or 1 (per unit depth) for a planar section."""
+    r = np.asarray(r, dtype=float)
+    return np.ones_like(r) if planar else 2.0 * math.pi * r
+
+
 THICK_FRACTION = 0.25  # delta* at most this share of the wall's distance from the axis (or symmetry plane)
 
 
@@ -270,9 +276,9 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
     speed = table.speed if speed is None else speed
     width_next = np.full(n, SMOOTH_FACES)
     s_all, x_all, r_all = table.s, table.x, table.r
-    perim = np.ones(n) if planar else 2.0 * math.pi * r_all
+    perim = perimeter(r_all, planar)
     tx = _tangent_x(table)
-    area = table.length if planar else 2.0 * math.pi * r_all * table.length
+    area = perim * table.length
     theta = np.full(n, np.nan)
     dstar = np.full(n, np.nan)
     H = np.full(n, np.nan)
@@ -377,7 +383,7 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
         # the momentum integral of the attached part: int t_x [d(rho P ue^2 theta) + rho P delta* ue due]
         att = np.flatnonzero(w.state != L.SEPARATED)
         if att.size >= 2:
-            P_run = np.ones(s_run.size) if planar else 2.0 * math.pi * r_run
+            P_run = perimeter(r_run, planar)
             tx_run = np.r_[tx[face_in_run[0]], tx[face_in_run]]
             th_a = np.where(np.isfinite(w.theta), w.theta, 0.0)[att]
             M = rho_run[att] * P_run[att] * ue_run[att] ** 2 * th_a
@@ -385,7 +391,7 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
             du = np.diff(ue_run[att])
             txm = 0.5 * (tx_run[att][1:] + tx_run[att][:-1])
             mom_fx += float(np.sum(txm * (np.diff(M) + 0.5 * (D[1:] + D[:-1]) * du)))
-        P0 = 1.0 if planar else 2.0 * math.pi * r_run[0]
+        P0 = float(perimeter(r_run[0], planar))
         if how == "start" and th0:
             H0 = w.H[0] if np.isfinite(w.H[0]) else L.TURBULENT_START_H
             start_def = 0.5 * rho_run[0] * P0 * ue_run[0] ** 3 * float(_energy_thickness(th0, H0))
