@@ -95,9 +95,10 @@ def describe(case: Case, cells: int | None = None) -> list[str]:
         lines.append("viscous   none (no wall layer: " + ("viscous.model = \"none\")" if v.model == "none"
                                                          else "the fluid's viscosity is not known; give fluid.viscosity)"))
     for j in case.joints:
-        at = j.at if isinstance(j.at, str) else f"x = {show(j.at, 'length')}"
+        at = f"the {j.at} plane" if isinstance(j.at, str) else f"x = {show(j.at, 'length')}"
         g = f", gasket reaction diameter {show(j.gasket_diameter, 'length')}" if j.gasket_diameter else ", no gasket diameter"
-        lines.append(f"joint     {j.name or at} at {at}{g}" + (f", {j.bolts} bolts" if j.bolts else ""))
+        name = f'"{j.name or (j.at if isinstance(j.at, str) else "joint")}"'  # as the results name it
+        lines.append(f"joint     {name} at {at}{g}" + (f", {j.bolts} bolts" if j.bolts else ""))
     for msg in case.unsupported():
         lines.append(f"note      {msg}; `run` will refuse this case")
     return lines
