@@ -174,3 +174,13 @@ def test_case_file_conveniences_of_the_templates(nozzle_dict):
     with pytest.raises(CaseError) as exc:
         spear.with_updates({"bore.stroke": "500 mm"})
     assert exc.value.lines()[0].split("): ")[1].startswith("bore.stroke: the needle tip would be upstream")
+
+
+def test_free_jet_outline_below_the_axis_is_named_not_hung():
+    # a capillary whose arc bulges through the axis, discharging as a free jet: the free-jet check sized its
+    # first trial jet by the channel height (zero here) and never finished; now the arc is named at once
+    d = seg_case(["0 mm", "6 mm"], [{"to": ["20.7 mm", "0.5 mm"], "radius": "72.6 mm"}, {"to": ["21.3 mm", "0.5 mm"]},
+                                    {"to": ["53.7 mm", "0.5 mm"], "radius": "-111.3 mm"}, {"to": ["53.8 mm", "0.5 mm"]}])
+    d["outlet"] = {"kind": "free-jet"}
+    msg = error_of(d)
+    assert msg.startswith("p.toml: bore.segment[3]: goes below the axis"), msg

@@ -89,6 +89,8 @@ def estimated_contraction(angle: float) -> float:
 
 def spacing(h: float, length: float) -> np.ndarray:
     """Element lengths from the lip: LIP_SIZE h growing by GROWTH to FAR_SPACING h, reaching ``length``."""
+    if not (h > 0.0 and length / h < 1e7):  # a zero or absurd cell size would never reach the length
+        raise ValueError(f"jet spacing: cell size {h!r} for a length {length!r}")
     out, d, total = [], LIP_SIZE * h, 0.0
     while total < length:
         out.append(d)

@@ -7,16 +7,28 @@ import numpy as np
 from .profile import Profile, ProfileError, Segment
 
 
-def validate(profile: Profile) -> Profile:
-    """Raise ProfileError naming the offending segment; return the profile when it is valid."""
-    scale = profile.length_scale
-    tol = 1e-9 * scale
+def _check_pieces(profile: Profile, tol: float) -> None:
+    """The checks of each piece on its own, whatever closes the outline: a proper segment, no repeated
+    points, nowhere below the axis."""
     chains = list(profile.chains.items())
     for _, chain in chains:
         for seg in chain:
             _check_segment(seg, tol)
     for _, chain in chains:
         _check_repeats(chain, tol)
+    for _, chain in chains:
+        for seg in chain:
+            p = seg.sample()
+            if p[:, 1].min() < -tol:
+                i = int(np.argmin(p[:, 1]))
+                raise ProfileError(seg.key, f"goes below the axis (r = {p[i, 1]:.6g} m at x = {p[i, 0]:.6g} m); r must be >= 0")
+
+
+def validate(profile: Profile) -> Profile:
+    """Raise ProfileError naming the offending segment; return the profile when it is valid."""
+    scale = profile.length_scale
+    tol = 1e-9 * scale
+    _check_pieces(profile, tol)
 
     if not profile.x_outlet > profile.x_inlet + tol:
         raise ProfileError(profile.wall[-1].key, f"the wall must end downstream of where it starts (x_out = {profile.x_outlet:.6g} m <= x_in = {profile.x_inlet:.6g} m)")
@@ -24,13 +36,6 @@ def validate(profile: Profile) -> Profile:
         raise ProfileError(profile.wall[0].key, "the wall must start away from the axis (inlet radius > 0)")
     if profile.r_outlet <= tol:
         raise ProfileError(profile.wall[-1].key, "the wall must end away from the axis (outlet radius > 0)")
-
-    for _, chain in chains:
-        for seg in chain:
-            p = seg.sample()
-            if p[:, 1].min() < -tol:
-                i = int(np.argmin(p[:, 1]))
-                raise ProfileError(seg.key, f"goes below the axis (r = {p[i, 1]:.6g} m at x = {p[i, 0]:.6g} m); r must be >= 0")
 
     if profile.centerbody:
         _check_centerbody(profile, tol)
@@ -46,8 +51,11 @@ def validate_free_jet(profile: Profile) -> Profile:
     from .jet import first_trial, jet_problem
 
     last = profile.wall[-1]
+    _check_pieces(profile, 1e-9 * profile.length_scale)  # before a trial jet is sized by the channel height
     if last.end[1] <= 1e-9 * profile.length_scale:
         raise ProfileError(last.key, "a free jet leaves from the lip where the wall ends: the wall must end away from the axis")
+    if not profile.min_channel_height > 0.0:
+        raise ProfileError(last.key, "the wall touches the axis (or the centre body): no channel for the flow")
     trial = first_trial(profile, 0.05 * profile.min_channel_height)
     problem = jet_problem(profile, trial.chain_points("jet"))
     if problem:
