@@ -1,21 +1,19 @@
 """Seeing the result: off-screen 3D views, plots, report.html, the structural load export."""
 
 import json
-import os
 import re
-import shutil
 import subprocess
 
 import meshio
 import numpy as np
 import pytest
 
-pv = pytest.importorskip("pyvista")
+import pyvista as pv  # a dependency of the tool (pyproject)
 pv.OFF_SCREEN = True
 
 from axibore.cli import main  # noqa: E402
 from axibore.io.files import read_csv  # noqa: E402
-from conftest import assert_page_fits  # noqa: E402
+from conftest import _chromium_or_skip, assert_page_fits  # noqa: E402
 
 
 @pytest.fixture(scope="module")
@@ -205,20 +203,8 @@ def test_hand_bolt_load_of_a_joint_at_the_inlet():
     assert hand_joint_load(s, {"bore_diameter_m": d2, "gasket_diameter_m": 0.08}) == pytest.approx(0.0, abs=1e-6)
 
 
-def _chromium():
-    for name in ("chromium", "chromium-browser", "google-chrome"):
-        path = shutil.which(name)
-        if path:
-            return path
-    return None
-
-
 def test_report_renders_in_headless_chromium(run_dir, tmp_path):
-    exe = _chromium()
-    if exe is None:
-        if os.environ.get("CI"):
-            pytest.fail("headless Chromium is needed in CI (.ci/run installs it)")
-        pytest.skip("chromium is not installed")
+    exe = _chromium_or_skip()  # a machine without Chromium skips (README); CI fails without it
     shot = tmp_path / "report.png"
     proc = subprocess.run(
         [exe, "--headless", "--no-sandbox", "--disable-gpu", "--disable-quic", "--no-first-run",
