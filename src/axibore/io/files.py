@@ -14,6 +14,7 @@ from pathlib import Path
 import numpy as np
 
 from .ownership import OwnershipError, claim, install, read_manifest, stale_partial, write_manifest
+from .vtu import write_unstructured
 
 
 def atomic_write_text(path: str | Path, text: str) -> Path:
@@ -208,29 +209,15 @@ def intact_vtk(path: str | Path) -> Path:
     return path
 
 
-def mesh_to_meshio(mesh, cell_data: dict[str, np.ndarray] | None = None, point_data: dict[str, np.ndarray] | None = None):
-    """meshio.Mesh of an FVMesh (z = 0 plane: x along the axis, y = r); cell data per cell."""
-    import meshio
-
-    pts = np.column_stack([mesh.nodes, np.zeros(len(mesh.nodes))])
-    tri = mesh.nvert == 3
-    blocks, order = [], []
-    if np.any(tri):
-        blocks.append(("triangle", mesh.cells[tri, :3]))
-        order.append(np.flatnonzero(tri))
-    if np.any(~tri):
-        blocks.append(("quad", mesh.cells[~tri]))
-        order.append(np.flatnonzero(~tri))
-    data = {}
-    for name, values in (cell_data or {}).items():
-        values = np.asarray(values)  # (C,) scalars or (C, 3) vectors
-        data[name] = [values[idx] for idx in order]
-    return meshio.Mesh(pts, blocks, cell_data=data, point_data=point_data or {})
-
-
 def write_vtu(path: str | Path, mesh, cell_data: dict[str, np.ndarray] | None = None,
               point_data: dict[str, np.ndarray] | None = None) -> Path:
-    m = mesh_to_meshio(mesh, cell_data, point_data)
+    """An FVMesh and its fields as a compressed binary .vtu (z = 0 plane: x along the axis, y = r);
+    cell data per cell, (C,) scalars or (C, 3) vectors, in the cell order of each cell kind's block."""
+    pts = np.column_stack([mesh.nodes, np.zeros(len(mesh.nodes))])
+    tri = mesh.nvert == 3
+    order = [idx for idx in (np.flatnonzero(tri), np.flatnonzero(~tri)) if len(idx)]
+    blocks = [("triangle" if mesh.nvert[idx[0]] == 3 else "quad", mesh.cells[idx, :mesh.nvert[idx[0]]]) for idx in order]
+    data = {name: [np.asarray(values)[idx] for idx in order] for name, values in (cell_data or {}).items()}
     with atomic_file(path) as tmp:
-        m.write(str(tmp), file_format="vtu", compression="zlib")  # binary, compressed (2.2x smaller, 0.1 s)
+        write_unstructured(tmp, pts, blocks, point_data, data)  # binary, zlib level 1
     return Path(path)
