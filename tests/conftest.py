@@ -2,8 +2,15 @@ import copy
 import os
 
 import pytest
+from hypothesis import settings
 
 os.environ.setdefault("PYVISTA_OFF_SCREEN", "true")
+
+# The fuzz tests draw the same examples on every run (same numbers on two runs, issue 23); set
+# HYPOTHESIS_PROFILE=explore to draw new ones.
+settings.register_profile("repeatable", derandomize=True)
+settings.register_profile("explore", derandomize=False)
+settings.load_profile(os.environ.get("HYPOTHESIS_PROFILE", "repeatable"))
 
 NOZZLE = {
     "title": "test nozzle",

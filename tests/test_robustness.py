@@ -74,6 +74,58 @@ def test_impossible_out(tmp_path, capsys):
     assert rc == 2 and "--out" in err
 
 
+def test_a_full_disk_is_one_line_and_leaves_nothing_half_written(tmp_path, capsys, monkeypatch):
+    # The disk fills while fields.vtu is half written: the run names the file and the reason, exits
+    # 2, leaves no partial folder, and an earlier run in --out is kept whole.
+    import errno
+
+    import axibore.io.files as files
+
+    case = write(tmp_path, REDUCER)
+    out = tmp_path / "run"
+    assert run_cli(["run", str(case), "--out", str(out)], capsys)[0] == 0
+    before = {p.name: p.read_bytes() for p in out.iterdir() if p.is_file()}
+
+    def full(path, *args, **kwargs):
+        Path(path).write_bytes(b"<?xml version=\"1.0\"?>\n<VTKFile")
+        raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC), str(path))
+
+    monkeypatch.setattr(files, "write_unstructured", full)
+    rc, _, err = run_cli(["run", str(case), "--out", str(out), "--force"], capsys)
+    assert rc == 2 and "No space left on device" in err and "fields.vtu" in err and "Traceback" not in err
+    assert len(err.strip().splitlines()) == 1
+    assert {p.name: p.read_bytes() for p in out.iterdir() if p.is_file()} == before
+    assert not list(tmp_path.glob(".*partial*"))
+
+
+def test_gmsh_failing_on_the_coarse_estimate_mesh_is_not_a_traceback(tmp_path, capsys, monkeypatch):
+    # Gmsh refuses some outlines at the coarse size of the cell estimate ("1D mesh cannot be divided
+    # by 2") while the real mesh works: `check` falls back to the area estimate and says so.
+    import axibore.mesh.build as build
+
+    def refuse(*args, **kwargs):
+        raise Exception("1D mesh cannot be divided by 2")
+
+    monkeypatch.setattr(build, "mesh_loop", refuse)
+    case = write(tmp_path, REDUCER + '\n[mesh]\ncells = "triangles"\n')
+    rc, out, err = run_cli(["check", str(case)], capsys)
+    assert rc == 0 and "from the area (a coarse estimate mesh failed: 1D mesh cannot be divided by 2)" in out + err
+
+
+def test_a_comparison_model_that_cannot_be_built_is_one_line(monkeypatch):
+    # The exit-plane model beside a free jet is optional: whatever stops it is a note, the run goes on.
+    from axibore.case import load_case
+    from axibore.outlets import comparison
+
+    def refuse(*args, **kwargs):
+        raise RuntimeError("1D mesh cannot be divided by 2")
+
+    monkeypatch.setattr(comparison.PlaneOutlet, "solve", refuse)
+    case = load_case(CASES / "tank_drain_orifice.toml")
+    note = comparison.exit_plane_comparison(case, case.profile, None, None)
+    assert not note.meaningful and "could not be built or solved (RuntimeError: 1D mesh cannot be divided by 2)" in note.note
+
+
 # -- input files -------------------------------------------------------------------------------
 @pytest.mark.parametrize("content, expected", [
     (b"title = \"x\xff\"\n", "not UTF-8 text (byte 0xff on line 1)"),
@@ -253,6 +305,11 @@ def _fuzz_once(tmp_path, capsys, mutation):
     for part in parents:
         node = node[part]
     node[leaf] = value
+    _check_once(tmp_path, capsys, data)
+
+
+def _check_once(tmp_path, capsys, data):
+    """`check` of ``data`` as a case file: exit 0, or exit 2 with a line naming the file and a key."""
     try:
         text = tomli_w.dumps(data)
     except (TypeError, ValueError):  # not representable in TOML (NaN in a table is, None is not)
@@ -280,6 +337,67 @@ def test_fuzzed_cases_exit_0_or_2_with_a_key(tmp_path, capsys, mutation):
 @given(mutation=_mutations())
 def test_fuzzed_cases_many(tmp_path, capsys, mutation):
     _fuzz_once(tmp_path, capsys, mutation)
+
+
+# -- every key of the schema, set on a shipped case (most keys are in no shipped case) -------------
+def _schema_keys(template: str) -> list[str]:
+    """Every dotted key a case may hold, read from the case schema and the solver registry (so a
+    key added later is fuzzed without editing this test)."""
+    from typing import get_args
+
+    from pydantic import BaseModel
+
+    from axibore.case import schema
+    from axibore.solvers import SOLVERS
+
+    keys = []
+    for section, info in schema.CaseModel.model_fields.items():
+        model = next((a for a in (info.annotation, *get_args(info.annotation)) if isinstance(a, type) and issubclass(a, BaseModel)), None)
+        if section == "bore":
+            model = next(m for m in get_args(get_args(schema.BoreSpec)[0])
+                         if get_args(m.model_fields["template"].annotation) == (template,))
+        if model is not None:
+            keys += [f"{section}.{k}" for k in model.model_fields if k != "template"]
+    for entry in SOLVERS.values():
+        if entry.load_settings() is not None:
+            keys += [f"solver.{k}" for k in entry.load_settings().model_fields]
+    return keys + ["uncertainty.inlet.pressure", "uncertainty.bore.nothing", "sweep.vary.mesh.level", "joint"]
+
+
+def _any_key_once(tmp_path, capsys, mutation):
+    name, pick, value = mutation
+    data = tomllib.loads((CASES / name).read_text())
+    keys = _schema_keys(data["bore"]["template"])
+    key = keys[pick % len(keys)]
+    if key.startswith(("uncertainty.", "sweep.vary.")):  # a table whose keys are dotted case keys
+        table, _, inner = key.partition(".vary.") if key.startswith("sweep") else key.partition(".")
+        node = data.setdefault("sweep", {}).setdefault("vary", {}) if key.startswith("sweep") else data.setdefault(table, {})
+        node[inner] = value
+    elif "." not in key:
+        data[key] = value
+    elif key.startswith("joint."):  # [[joint]]: a list of tables
+        joints = data.get("joint") if isinstance(data.get("joint"), list) else [{}]
+        joints[0][key.split(".")[1]] = value
+        data["joint"] = joints
+    else:
+        section, leaf = key.split(".")
+        data.setdefault(section, {})[leaf] = value
+    _check_once(tmp_path, capsys, data)
+
+
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(mutation=st.tuples(st.sampled_from(sorted(p.name for p in CASES.glob("*.toml"))), st.integers(0, 200),
+                          _mutations().map(lambda m: m[2])))
+def test_every_schema_key_fuzzed_exits_0_or_2_with_a_key(tmp_path, capsys, mutation):
+    _any_key_once(tmp_path, capsys, mutation)
+
+
+@pytest.mark.slow
+@settings(max_examples=400, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(mutation=st.tuples(st.sampled_from(sorted(p.name for p in CASES.glob("*.toml"))), st.integers(0, 200),
+                          _mutations().map(lambda m: m[2])))
+def test_every_schema_key_fuzzed_many(tmp_path, capsys, mutation):
+    _any_key_once(tmp_path, capsys, mutation)
 
 
 def test_killed_grid_study_resumes_without_rerunning_finished_levels(tmp_path):

@@ -26,8 +26,10 @@ def atomic_write_text(path: str | Path, text: str) -> Path:
             fh.write(text)
         os.chmod(tmp, 0o644)
         os.replace(tmp, path)
-    except BaseException:
+    except BaseException as exc:
         Path(tmp).unlink(missing_ok=True)
+        if isinstance(exc, OSError) and exc.filename == tmp:  # name the file being written, not its temporary
+            raise OSError(exc.errno, exc.strerror, str(path)) from None
         raise
     return path
 
@@ -46,8 +48,10 @@ def atomic_file(path: str | Path, suffix: str | None = None):
         yield Path(tmp)
         os.chmod(tmp, 0o644)
         os.replace(tmp, path)
-    except BaseException:
+    except BaseException as exc:
         Path(tmp).unlink(missing_ok=True)
+        if isinstance(exc, OSError) and exc.filename == tmp:  # name the file being written, not its temporary
+            raise OSError(exc.errno, exc.strerror, str(path)) from None
         raise
 
 
@@ -133,11 +137,15 @@ def atomic_dir(path: str | Path, kind: str = "run", force: bool = False):
             signal.pthread_sigmask(signal.SIG_UNBLOCK, held)
             held = set()
         yield tmp
-    except BaseException:
+    except BaseException as exc:
         # an interrupt may land before ``tmp`` is bound (a signal already pending when the mask was set):
         # remove every temporary folder of this process for this path
         for d in [tmp] if tmp is not None else path.parent.glob(f".{path.name}.pid-{os.getpid()}.*.partial"):
             shutil.rmtree(d, ignore_errors=True)
+        if isinstance(exc, OSError) and tmp is not None and exc.filename and Path(exc.filename).is_relative_to(tmp):
+            # a disk filling up while the output is written: name the file as the user knows it
+            raise OSError(exc.errno, f"{exc.strerror or exc}; nothing was written to {path} (anything there before is "
+                          "unchanged)", str(path / Path(exc.filename).relative_to(tmp))) from None
         raise
     finally:
         if held:
