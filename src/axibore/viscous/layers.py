@@ -16,7 +16,7 @@ from .results import CAUTION, G_STANDARD, THICK_LAYER, ChainLayer, Coupling, Lay
 
 
 COUPLING_MAX_ITERATIONS = 25
-COUPLING_RELAXATION = 0.5
+COUPLING_RELAXATION = 1.0  # the first step undamped: the map B -> B is a weak contraction where the layer is attached
 COUPLING_TOLERANCE = 1e-3  # on the blockage B at every face
 MAX_BLOCKAGE = 0.5
 
