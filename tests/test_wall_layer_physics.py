@@ -94,7 +94,7 @@ def test_iso_nozzle_reynolds_trend_on_the_default_path(tmp_path):
     # changing by 0.061, at beta 0.6 Re_D 3e5)
     for v in (lo, hi):
         c = v["coupling_state"]
-        assert c["mode"] == "blockage" and c["converged"] and c["iterations"] <= 10
+        assert c["mode"] == "blockage" and c["converged"] and c["iterations"] <= 4
         assert c["last_change"] < c["tolerance"] and 0.0 < c["largest_blockage"] < 0.1
 
 
@@ -159,6 +159,23 @@ def test_demo_cases_respect_the_bounds(name):
     assert v["loss_coefficient"] is None or v["loss_coefficient"] >= 0.0
     for c in v["layers"].values():
         assert c["friction_x_N"] != 0.0
+    # the blockage coupling settles in a few marches (issue 20: at most 3 in the typical case; the deck-wash
+    # nozzle took 9 before the smoothing window became continuous in its width and the first step undamped)
+    c = v["coupling_state"]
+    assert c["converged"] and c["iterations"] <= 4
+
+
+def test_edge_speed_smoothing_is_continuous_in_its_width():
+    # The smoothing width follows the layer thickness of the previous march; a window that takes a whole
+    # station in as the width crosses a step made the coupling cycle between two states (deck-wash nozzle,
+    # B jumping by 1.1e-3 at one face for ever). Linear trends stay exact.
+    rng = np.random.default_rng(0)
+    t = np.arange(200.0)
+    u = 3.0 + 0.01 * t + rng.normal(0.0, 1.0, t.size)
+    widths = np.linspace(2.0, 4.0, 2001)  # steps of 1e-3 stations
+    out = np.array([stage.smooth_speed(u, w) for w in widths])
+    assert np.max(np.abs(np.diff(out, axis=0))) < 0.01  # a station entering whole moves the fit by ~0.1
+    np.testing.assert_allclose(stage.smooth_speed(3.0 + 0.01 * t, 2.7), 3.0 + 0.01 * t, rtol=1e-10)  # round-off of the sums
 
 
 def test_an_approach_layer_at_the_upstream_station_withholds_a_c_above_the_inviscid(tmp_path):

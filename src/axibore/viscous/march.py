@@ -82,25 +82,33 @@ from .results import (RESTART_CORNER_DEG, RESTART_CORNER_TOL_DEG, SMOOTH_FACES, 
 
 
 def smooth_speed(u: np.ndarray, width=SMOOTH_FACES) -> np.ndarray:
-    """Local linear fit of ``u`` at every station over the stations within sqrt(3) ``width`` of it
-    (a window of the same variance as a Gaussian of standard deviation ``width`` stations; a
-    number or one per station, shrunk at the ends): noise at the scale of a station is removed,
-    linear trends are kept exactly, at the ends too. O(n) by cumulative sums, whatever the width."""
+    """Local linear fit of ``u`` at every station over a window of half-width a = sqrt(3) ``width``
+    stations (the variance of a Gaussian of standard deviation ``width``; a number or one per station,
+    shrunk at the ends): noise at the scale of a station is removed, linear trends are kept exactly,
+    at the ends too. Each station weighs as much of its own unit interval as lies inside [-a, a], so
+    the fit is a continuous function of the width: a whole station entering the window as the width
+    crosses a step made the blockage coupling cycle between two states. O(n) by cumulative sums."""
     n = u.size
     w_i = np.broadcast_to(np.asarray(width, float), u.shape)
     if n < 3 or not np.any(w_i > 0):
         return u.copy()
     i = np.arange(n)
-    k = np.maximum(np.ceil(np.sqrt(3.0) * w_i).astype(np.int64), 1)
-    lo, hi = np.maximum(i - k, 0), np.minimum(i + k, n - 1) + 1  # window [lo, hi)
+    half = np.maximum(np.sqrt(3.0) * w_i, 1.0)
+    m = np.floor(half - 0.5).astype(np.int64)  # stations |j - i| <= m lie wholly inside
+    frac = half - 0.5 - m  # the weight of the two at m + 1 (in [0, 1))
+    lo, hi = np.maximum(i - m, 0), np.minimum(i + m, n - 1) + 1  # full-weight window [lo, hi)
     t = i.astype(float)
 
     def window_sum(a):
         c = np.r_[0.0, np.cumsum(a)]
-        return c[hi] - c[lo]
+        full = c[hi] - c[lo]
+        left, right = i - m - 1, i + m + 1
+        full += np.where(left >= 0, frac * a[np.maximum(left, 0)], 0.0)
+        full += np.where(right <= n - 1, frac * a[np.minimum(right, n - 1)], 0.0)
+        return full
 
-    # sums about each station's own index (t - i), from the cumulative sums of 1, t, t^2, u, t u
-    s0 = (hi - lo).astype(float)
+    # sums about each station's own index (t - i), from the windowed sums of 1, t, t^2, u, t u
+    s0 = window_sum(np.ones(n))
     s1 = window_sum(t) - i * s0
     s2 = window_sum(t * t) - 2.0 * i * window_sum(t) + i * i * s0
     sy = window_sum(u)
