@@ -41,6 +41,18 @@ def wall_layer_bounds_in_every_summary(request):
     import json
     from pathlib import Path
 
+    from axibore.io.ownership import MANIFEST, output_name, read_manifest
+
+    # every file a command records at the top of its folder has a name its kind declares (io.ownership:
+    # a foreign file of such a name is refused before any work, so the list must be complete)
+    for path in Path(tmp).rglob(MANIFEST):
+        m = read_manifest(path.parent)
+        if m is not None:
+            undeclared = [rel for rel in m.files if "/" not in rel and not output_name(m.kind, rel)]
+            assert not undeclared, f"{path.parent}: {m.kind} output wrote {undeclared}, not in io.ownership.OUTPUT_NAMES"
+            # and every CSV its NAME.csv.json sidecar (README: the columns and what the file holds)
+            bare = [rel for rel in m.files if rel.endswith(".csv") and rel + ".json" not in m.files]
+            assert not bare, f"{path.parent}: {bare} written without the NAME.csv.json sidecar"
     for path in Path(tmp).rglob("summary.json"):
         try:
             data = json.loads(path.read_text())

@@ -290,6 +290,10 @@ def test_bad_uncertainty_entries_are_refused_before_work(tmp_path, capsys, entry
     err = capsys.readouterr().err
     assert "uncertainty." in err and words in err, err
     assert not (tmp_path / "u").exists()
+    # `check` reads the table too (it passed such a case as valid before)
+    assert main(["check", str(case)]) == 2
+    err = capsys.readouterr().err
+    assert "uncertainty." in err and words in err, err
 
 
 def reducer_with_flow_and_outlet_pressure():

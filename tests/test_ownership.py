@@ -93,10 +93,10 @@ def test_a_run_never_replaces_a_sweep_folder(earlier_run, tmp_path, capsys):
 
     sweep_dir = tmp_path / "sw"
     sweep_dir.mkdir()
-    (sweep_dir / "sweep.csv").write_text("a,b\n")
-    record(sweep_dir, "sweep", ["sweep.csv"])
+    (sweep_dir / "sweep.json").write_text("{}\n")
+    record(sweep_dir, "sweep", ["sweep.json"])
     rc, _, err = cli(["run", earlier_run[1], "--out", sweep_dir, "--force"], capsys)
-    assert rc == 2 and "sweep output" in err and (sweep_dir / "sweep.csv").exists()
+    assert rc == 2 and "sweep output" in err and (sweep_dir / "sweep.json").exists()
 
 
 def test_mesh_keeps_a_users_mesh_and_obeys_the_cell_limit(earlier_run, tmp_path, capsys):
@@ -157,3 +157,82 @@ def test_claim_names_the_foreign_files(tmp_path):
         claim(d, "run")
     c = claim(d, "run", force=True)
     assert [p.name for p in c.foreign] == ["a.txt"] and not c.own
+
+
+@pytest.mark.parametrize("command, name", [
+    (["sweep", "{case}", "--vary", "mesh.level=0", "--workers", "1"], "sweep.csv"),
+    (["gridstudy", "{case}", "--levels", "0,1"], "gridstudy.json"),
+    (["uncertainty", "{case}", "--levels", "0,1", "--input", "inlet.pressure=0.1 bar"], "uncertainty.csv"),
+    (["run", "{case}"], "report.html"),
+    (["run", "{case}"], "summary.json"),
+])
+def test_force_never_writes_over_a_users_file_of_an_output_name(tmp_path, capsys, command, name):
+    # A folder without a manifest holding a user's file named as the command's own output: with --force
+    # the study commands wrote over it while saying "they are kept" (sweep.csv, gridstudy.json,
+    # uncertainty.csv), and `run` refused only after all its work. Now: refused at once, the file kept.
+    import time
+
+    out = tmp_path / "out"
+    out.mkdir()
+    (out / name).write_text("mine\n")
+    (out / "notes.txt").write_text("notes\n")
+    argv = [a.replace("{case}", str(small_case(tmp_path))) for a in command] + ["--out", out, "--force"]
+    t = time.perf_counter()
+    rc, _, err = cli(argv, capsys)
+    assert rc == 2 and name in err and "not replaced, even with --force" in err
+    assert time.perf_counter() - t < 3.0  # refused before any work
+    assert (out / name).read_text() == "mine\n" and (out / "notes.txt").read_text() == "notes\n"
+    assert sorted(p.name for p in out.iterdir()) == sorted([name, "notes.txt"])
+
+
+def test_the_write_itself_never_replaces_a_users_file(tmp_path):
+    # the last guard, in the one place every output file is written: a file that is not the tool's
+    # (no manifest lists it, no output name of the folder's kind, no picture mark) is never replaced
+    from axibore.io.files import ForeignFile, atomic_file, atomic_write_text, png_software
+
+    user = tmp_path / "table.csv"
+    user.write_text("mine\n")
+    with pytest.raises(ForeignFile, match="table.csv: exists and was not written by axibore"):
+        atomic_write_text(user, "x\n")
+    with pytest.raises(ForeignFile):
+        with atomic_file(user) as tmp:
+            tmp.write_text("x\n")
+    assert user.read_text() == "mine\n" and sorted(p.name for p in tmp_path.iterdir()) == ["table.csv"]
+    # the tool's own file (written by this process) is replaced; a picture it wrote carries its mark
+    own = atomic_write_text(tmp_path / "own.csv", "1\n")
+    atomic_write_text(own, "2\n")
+    assert own.read_text() == "2\n"
+    from axibore.view.style import figure, save
+
+    fig, ax = figure(2, 2)
+    png = save(fig, tmp_path / "p.png")
+    assert png_software(png).startswith(b"axibore")
+
+
+def test_view_png_force_replaces_only_the_tools_picture(earlier_run, tmp_path, capsys):
+    mine = tmp_path / "mine.png"
+    mine.write_bytes(b"\x89PNG\r\n\x1a\n not a picture of axibore")
+    run = earlier_run[0]
+    rc, _, err = cli(["view", run, "--png", mine, "--force"], capsys)
+    assert rc == 2 and "not replaced" in err and mine.read_bytes().endswith(b"not a picture of axibore")
+    ours = tmp_path / "ours.png"
+    assert cli(["view", run, "--png", ours], capsys)[0] == 0
+    assert cli(["view", run, "--png", ours, "--force"], capsys)[0] == 0  # its own picture, again
+
+
+def test_a_users_file_inside_a_level_folder_is_refused_before_the_grid_study(tmp_path, capsys):
+    # before: the other levels ran, then exit 1 suggesting --force, which had been given
+    out = tmp_path / "gs"
+    (out / "level-0").mkdir(parents=True)
+    (out / "level-0" / "notes.txt").write_text("mine\n")
+    rc, _, err = cli(["gridstudy", small_case(tmp_path), "--levels", "0,1", "--out", out, "--force"], capsys)
+    assert rc == 2 and "level-0/notes.txt" in err and "not replaced, even with --force" in err
+    assert (out / "level-0" / "notes.txt").read_text() == "mine\n" and sorted(p.name for p in out.iterdir()) == ["level-0"]
+
+
+def test_python_dash_m_runs_the_command_line():
+    import subprocess
+    import sys
+
+    res = subprocess.run([sys.executable, "-m", "axibore", "--version"], capture_output=True, text=True, timeout=120)
+    assert res.returncode == 0 and "axibore" in res.stdout + res.stderr

@@ -164,7 +164,7 @@ def test_concurrent_install_never_shows_half_a_directory(tmp_path):
     from axibore.study.sweep import complete_summary, install_run
 
     text = "# case\n"
-    files = {"case.toml": text.encode(), **{f"f{i}.csv": b"x" * 20000 for i in range(20)},
+    files = {"case.toml": text.encode(), **{f"f{i}.vtu": b"x" * 20000 for i in range(20)},
              "summary.json": b'{"software": {"name": "axibore"}}'}
     rounds = 12
     current = {"target": tmp_path / "pt0"}

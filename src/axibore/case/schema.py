@@ -59,16 +59,23 @@ def _plausible_pressure(value: float) -> float:
     return value
 
 
-def _positive(value: float) -> float:
-    if not value > 0.0:
-        raise PydanticCustomError("positive", f"expected a value greater than zero, got {value:.6g} (SI)")
-    return value
+def _positive_in(unit: str):
+    """Values above zero; the message gives the value in ``unit`` (the SI unit the input was read into)."""
+    def check(value: float) -> float:
+        if not value > 0.0:
+            raise PydanticCustomError("positive", f"expected a value greater than zero, got {value:.6g} {unit}".rstrip())
+        return value
+
+    return AfterValidator(check)
 
 
-def _non_negative(value: float) -> float:
-    if value < 0.0:
-        raise PydanticCustomError("non_negative", f"expected a value of zero or more, got {value:.6g} (SI)")
-    return value
+def _non_negative_in(unit: str):
+    def check(value: float) -> float:
+        if value < 0.0:
+            raise PydanticCustomError("non_negative", f"expected a value of zero or more, got {value:.6g} {unit}".rstrip())
+        return value
+
+    return AfterValidator(check)
 
 
 def _half_angle(value: float) -> float:
@@ -79,14 +86,14 @@ def _half_angle(value: float) -> float:
 
 
 Length = Annotated[float, _quantity("length"), AfterValidator(_plausible_length)]
-PosLength = Annotated[float, _quantity("length"), AfterValidator(_plausible_length), AfterValidator(_positive)]
-NonNegLength = Annotated[float, _quantity("length"), AfterValidator(_plausible_length), AfterValidator(_non_negative)]
+PosLength = Annotated[float, _quantity("length"), AfterValidator(_plausible_length), _positive_in("m")]
+NonNegLength = Annotated[float, _quantity("length"), AfterValidator(_plausible_length), _non_negative_in("m")]
 Pressure = Annotated[float, _quantity("pressure", "gauge"), AfterValidator(_plausible_pressure)]  # gauge unless the key says absolute
-AbsPressure = Annotated[float, _quantity("pressure", "absolute"), AfterValidator(_plausible_pressure), AfterValidator(_positive)]
-Temperature = Annotated[float, _quantity("temperature"), AfterValidator(_positive)]
-Density = Annotated[float, _quantity("density"), AfterValidator(_positive)]
+AbsPressure = Annotated[float, _quantity("pressure", "absolute"), AfterValidator(_plausible_pressure), _positive_in("Pa (absolute)")]
+Temperature = Annotated[float, _quantity("temperature"), _positive_in("K")]
+Density = Annotated[float, _quantity("density"), _positive_in("kg/m^3")]
 HalfAngle = Annotated[float, _quantity("angle"), AfterValidator(_half_angle)]
-GasConstant = Annotated[float, _quantity("specific_gas_constant"), AfterValidator(_positive)]
+GasConstant = Annotated[float, _quantity("specific_gas_constant"), _positive_in("J/(kg K)")]
 # A liquid's dynamic viscosity, bounded by physics: from 1e-6 Pa s (below liquid helium's, about 3e-6 Pa s,
 # the thinnest liquid) to 1e4 Pa s (a molten polymer or bitumen; a thicker fluid in a bore of some centimetres
 # flows at a Reynolds number far below one, where no thin wall layer and no inviscid core exist)
@@ -100,7 +107,7 @@ def _plausible_viscosity(value: float) -> float:
     return value
 
 
-Viscosity = Annotated[float, _quantity("dynamic_viscosity"), AfterValidator(_positive), AfterValidator(_plausible_viscosity)]
+Viscosity = Annotated[float, _quantity("dynamic_viscosity"), _positive_in("Pa s"), AfterValidator(_plausible_viscosity)]
 
 
 def _flow_rate(value: Any) -> tuple[str, float]:
@@ -133,7 +140,7 @@ class FluidSpec(_Section):
     kind: Literal["water", "seawater", "liquid", "ideal-gas"]
     temperature: Temperature | None = None
     density: Density | None = None
-    vapour_pressure: Annotated[float, _quantity("pressure", "absolute"), AfterValidator(_non_negative)] | None = None
+    vapour_pressure: Annotated[float, _quantity("pressure", "absolute"), _non_negative_in("Pa (absolute)")] | None = None
     gas: Literal["air", "nitrogen"] | None = None
     gas_constant: GasConstant | None = None
     gamma: Annotated[float, _quantity("dimensionless")] | None = None

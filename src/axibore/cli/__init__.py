@@ -15,7 +15,7 @@ from importlib import import_module
 
 from ..version import __version__
 from ..case import CaseError
-from ..io.files import DamagedFile, OutputError
+from ..io.files import DamagedFile, ForeignFile, OutputError
 from ..study.runner import SchedulerError
 from .common import err
 
@@ -63,6 +63,9 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         err("interrupted: nothing half-written was left behind")
         return 130
+    except ForeignFile as exc:
+        err(str(exc))
+        return 2
     except OutputError as exc:
         err(f"--out: {exc}")
         return 2

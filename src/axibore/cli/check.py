@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from ..describe import describe
-from .common import add_case_arg, load, out
+from .common import add_case_arg, err, load, out
 
 HELP = "validate a case and print what was understood"
 
@@ -14,6 +14,16 @@ def add_args(p) -> None:
 
 def run(args) -> int:
     case = load(args)
+    if case.model.uncertainty:  # read by `axibore uncertainty`, checked here too
+        from ..case import CaseError
+        from ..study.uncertainty import parse_inputs
+
+        try:
+            parse_inputs(case, dict(case.model.uncertainty), case.source)
+        except CaseError as exc:
+            for line in exc.lines():
+                err(line)
+            return 2
     for line in describe(case):
         out(line)
     from ..budget import budget

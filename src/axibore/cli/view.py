@@ -17,7 +17,7 @@ def add_args(p) -> None:
                    help="field on the cut planes (shear: the wall coloured by the wall shear of its wall layer)")
     p.add_argument("--angle", type=float, default=270.0, help="revolution angle in degrees (default 270: a cut-away)")
     p.add_argument("--png", help="render off-screen to this PNG file instead of opening a window (required without a display)")
-    p.add_argument("--force", action="store_true", help="replace an existing --png file")
+    p.add_argument("--force", action="store_true", help="replace an existing --png file that axibore wrote (a picture of anyone else is never replaced)")
     p.add_argument("--meridional", action="store_true", help="flat meridional view with streamlines and axes")
     p.add_argument("--units", choices=list(PRESSURE_UNITS), default="bar", help="pressure unit of the colour scale (default bar)")
     p.add_argument("--x-range", help='zoom on an axial range, e.g. "180 mm,215 mm" (numbers alone are metres)')

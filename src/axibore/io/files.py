@@ -13,12 +13,85 @@ from pathlib import Path
 
 import numpy as np
 
-from .ownership import OwnershipError, claim, install, read_manifest, stale_partial, write_manifest
+from .ownership import OwnershipError, claim, install, output_name, read_manifest, stale_partial, write_manifest
 from .vtu import write_unstructured
+
+
+class ForeignFile(ValueError):
+    """A file in the way that axibore did not write (or that changed since): never replaced."""
+
+
+_WRITTEN: set[Path] = set()  # files this process wrote: it may write them again
+PNG_SOFTWARE = b"axibore"  # the tEXt "Software" of every picture the tool writes
+
+
+def png_software(path: Path) -> bytes:
+    """The tEXt "Software" value of a PNG file (b"" where there is none or it is no PNG)."""
+    import struct
+
+    try:
+        with open(path, "rb") as f:
+            if f.read(8) != b"\x89PNG\r\n\x1a\n":
+                return b""
+            for _ in range(64):
+                head = f.read(8)
+                if len(head) < 8:
+                    return b""
+                n, kind = struct.unpack(">I4s", head)
+                if kind in (b"IDAT", b"IEND"):
+                    return b""
+                data = f.read(n)
+                f.read(4)
+                if kind == b"tEXt" and data.startswith(b"Software\0"):
+                    return data[len(b"Software\0"):]
+    except OSError:
+        pass
+    return b""
+
+
+def mark_png(path: Path) -> None:
+    """Put a tEXt "Software: axibore" chunk after the header of the PNG at ``path`` (in place)."""
+    import struct
+    import zlib
+
+    raw = Path(path).read_bytes()
+    end = 8 + 8 + struct.unpack(">I", raw[8:12])[0] + 4  # signature, IHDR chunk
+    body = b"tEXt" + b"Software\0" + PNG_SOFTWARE
+    chunk = struct.pack(">I", len(body) - 4) + body + struct.pack(">I", zlib.crc32(body) & 0xFFFFFFFF)
+    Path(path).write_bytes(raw[:end] + chunk + raw[end:])
+
+
+def written_by_axibore(path: str | Path) -> bool:
+    """Whether the file at ``path`` is the tool's to replace: written by this process, listed in the
+    manifest of its folder (or of one of the two above) or named as that kind of output writes (a
+    foreign file of such a name, or a listed one changed since, was refused when the folder was
+    claimed, before any work; one that changed since then is another axibore process's write of a
+    shared study folder), or a picture carrying the tool's mark."""
+    path = Path(os.path.abspath(path))
+    if path in _WRITTEN:
+        return True
+    folder = path.parent
+    for _ in range(3):
+        m = read_manifest(folder)
+        if m is not None:
+            rel = path.relative_to(folder).as_posix()
+            if rel in m.files or output_name(m.kind, rel):
+                return True
+            break
+        folder = folder.parent
+    return path.suffix.lower() == ".png" and png_software(path).startswith(PNG_SOFTWARE)
+
+
+def _not_foreign(path: Path) -> None:
+    """Refuse to write over a file the tool did not write (the product's first rule)."""
+    if path.is_file() and not written_by_axibore(path):
+        raise ForeignFile(f"{path}: exists and was not written by axibore (or was changed since): not replaced, "
+                          "even with --force; move it away or choose another name")
 
 
 def atomic_write_text(path: str | Path, text: str) -> Path:
     path = Path(path)
+    _not_foreign(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:
@@ -31,6 +104,7 @@ def atomic_write_text(path: str | Path, text: str) -> Path:
         if isinstance(exc, OSError) and exc.filename == tmp:  # name the file being written, not its temporary
             raise OSError(exc.errno, exc.strerror, str(path)) from None
         raise
+    _WRITTEN.add(Path(os.path.abspath(path)))
     return path
 
 
@@ -41,13 +115,18 @@ def atomic_file(path: str | Path, suffix: str | None = None):
     ``suffix`` keeps the file ending (writers such as Gmsh and meshio choose the format by it).
     """
     path = Path(path)
+    _not_foreign(path)
     path.parent.mkdir(parents=True, exist_ok=True)
     fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=suffix or path.suffix, dir=path.parent)
     os.close(fd)
     try:
         yield Path(tmp)
         os.chmod(tmp, 0o644)
+        if path.suffix.lower() == ".png" and not png_software(Path(tmp)).startswith(PNG_SOFTWARE):
+            mark_png(Path(tmp))
+        _not_foreign(path)  # a file put there while this one was written is kept too
         os.replace(tmp, path)
+        _WRITTEN.add(Path(os.path.abspath(path)))
     except BaseException as exc:
         Path(tmp).unlink(missing_ok=True)
         if isinstance(exc, OSError) and exc.filename == tmp:  # name the file being written, not its temporary
@@ -86,7 +165,9 @@ def check_output_dir(path: str | Path, kind: str = "run", force: bool = False, s
     except OwnershipError as exc:
         raise OutputError(str(exc)) from None
     if c.foreign and say:
-        say(f"--force: {path} holds {len(c.foreign)} files axibore did not write or that changed since; they are kept, "
+        n = len(c.foreign)
+        say(f"--force: {path} holds {n} {'file' if n == 1 else 'files'} axibore did not write or that changed since; "
+            f"{'it is' if n == 1 else 'they are'} kept, "
             f"and only the tool's own unchanged files are replaced")
     parent = path.parent
     while not parent.exists():
@@ -179,6 +260,16 @@ def write_csv(path: str | Path, columns: dict[str, np.ndarray], description: str
         buf.write("\n".join(fmt % tuple(row) for row in data.tolist()))
         buf.write("\n")
     return atomic_write_text(path, buf.getvalue())
+
+
+def write_table(path: str | Path, text: str, description: str) -> Path:
+    """Write CSV ``text`` (its header row first) to ``path`` and NAME.csv.json beside it with
+    ``description`` and the column names: for tables with text columns (studies, verify)."""
+    path = Path(path)
+    names = next(csv.reader(io.StringIO(text)), [])
+    atomic_write_text(path.with_name(path.name + ".json"),
+                      json.dumps({"file": path.name, "description": description, "columns": names}, indent=2) + "\n")
+    return atomic_write_text(path, text)
 
 
 def read_csv(path: str | Path) -> dict[str, np.ndarray]:

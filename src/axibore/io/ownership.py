@@ -29,6 +29,37 @@ MANIFEST = ".axibore-manifest.json"
 KINDS = ("run", "mesh", "sweep", "gridstudy", "compare", "verify", "uncertainty")
 CHUNK = 1 << 20
 
+# The names each kind of output writes at the top of its folder (glob patterns). A foreign file of
+# such a name is refused when the folder is claimed, before any work, even with --force: the tool
+# would have to replace it. tests/conftest.py checks every manifest the tests leave against these.
+OUTPUT_NAMES = {
+    "run": ("summary.json", "case.toml", "understood.txt", "report.html", "report_error.txt", "*.vtu", "*.csv", "*.csv.json", "plot_*.png",
+            "view_*.png"),
+    "mesh": ("mesh.msh", "mesh.vtu"),
+    "sweep": ("sweep.json", "sweep.csv", "sweep.csv.json", "sweep.html", "plot_*.png", "*.error.txt"),
+    "gridstudy": ("gridstudy.json", "gridstudy.csv", "gridstudy.csv.json", "gridstudy.html", "convergence.png",
+                  "level-*.error.txt"),
+    "compare": ("compare.html", "compare.csv", "compare.csv.json", "compare_*.png"),
+    "verify": ("verify.json", "verify.csv", "verify.csv.json", "verify.html", "verify_*.png"),
+    "uncertainty": ("uncertainty.json", "uncertainty.csv", "uncertainty.csv.json", "uncertainty.html",
+                    "uncertainty_*.png", "convergence.png", "*.error.txt"),
+}
+
+
+# ... and the sub-folders it writes whole (a run folder each), replaced with everything in them
+OUTPUT_FOLDERS = {"sweep": ("[0-9a-f]" * 12,), "gridstudy": ("level-*",), "uncertainty": ("runs",)}
+
+
+def output_name(kind: str, rel: str) -> bool:
+    """Whether ``kind`` output writes the file at ``rel`` (a path relative to its folder) itself, or
+    the sub-folder that holds it."""
+    from fnmatch import fnmatchcase
+
+    top, sep, _ = rel.partition("/")
+    if sep:
+        return any(fnmatchcase(top, pat) for pat in OUTPUT_FOLDERS.get(kind, ()))
+    return any(fnmatchcase(rel, pat) for pat in OUTPUT_NAMES[kind])
+
 
 class OwnershipError(ValueError):
     """An output folder that must not be replaced (names the folder and what is foreign in it)."""
@@ -176,6 +207,11 @@ def claim(path: str | Path, kind: str, force: bool = False) -> Claim:
     if changed:  # the tool writes these names again: even --force cannot write beside them
         raise OwnershipError(f"{path}: {_listing(changed, path)} was written by axibore and changed since: not replaced, "
                              "even with --force; move it away or give another --out")
+    clash = [f for f in foreign if f.is_file() and output_name(kind, f.relative_to(path).as_posix())]
+    if clash:  # even --force cannot write beside a file it would have to replace
+        raise OwnershipError(f"{path}: {_listing(clash, path)} {'is' if len(clash) == 1 else 'are'} not axibore's "
+                             f"(or changed since) and {kind} output writes that name: not replaced, even with "
+                             "--force; move it away or give another --out")
     if foreign and not force:
         why = "it has no axibore manifest" if m is None else "they were not written by axibore, or changed since"
         raise OwnershipError(f"{path}: holds files axibore did not write ({_listing(foreign, path)}; {why}): refusing "
@@ -207,8 +243,8 @@ def install(tmp: Path, c: Claim) -> None:
     clash = sorted(rel for rel in (s.relative_to(tmp).as_posix() for s in tmp.rglob("*") if not s.is_dir()) if rel in keep)
     if clash:
         shutil.rmtree(tmp, ignore_errors=True)
-        raise OwnershipError(f"{path}: {', '.join(clash)} exist(s) there and were not written by axibore (or changed "
-                             "since): not replaced, even with --force; give another --out")
+        raise OwnershipError(f"{path}: {', '.join(clash)}: put there while the command ran, not by axibore: not "
+                             "replaced, even with --force; give another --out")
     for p in own:
         if p.is_dir():
             shutil.rmtree(p, ignore_errors=True)

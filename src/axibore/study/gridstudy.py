@@ -11,7 +11,7 @@ from pathlib import Path
 from typing import Callable
 
 from ..estimate import remaining_time
-from ..io.files import atomic_write_text, is_run_directory
+from ..io.files import atomic_write_text, is_run_directory, write_table
 from ..io.ownership import record, remove_own, replaceable
 from ..io.rundir import FIELD_FILES, resolved_case_text
 from .gci import gci, GCIResult
@@ -210,11 +210,13 @@ def write_study(study: GridStudy, out_dir: Path) -> None:
             lines.append(f"{name},{lv.level},{lv.summary['mesh']['cells']},{h:.8g},{v:.10g},"
                          f"{'' if r.order is None else f'{r.order:.4f}'},{'' if r.extrapolated is None else f'{r.extrapolated:.10g}'},"
                          f"{'' if r.gci_fine is None else f'{r.gci_fine:.6g}'},{r.in_asymptotic_range},{flags}")
-    atomic_write_text(out_dir / "gridstudy.csv", "\n".join(lines) + "\n")
+    write_table(out_dir / "gridstudy.csv", "\n".join(lines) + "\n",
+                "axibore grid study: a row a quantity and level; the observed order, the extrapolated value and the "
+                "GCI of the finest level (Celik et al. 2008) repeated on each row of a quantity")
     if len(ok) >= 2:
         plot_convergence(study, out_dir / "convergence.png")
     write_html(study, out_dir)
-    record(out_dir, "gridstudy", ["gridstudy.json", "gridstudy.csv", "convergence.png", "gridstudy.html"])
+    record(out_dir, "gridstudy", ["gridstudy.json", "gridstudy.csv", "gridstudy.csv.json", "convergence.png", "gridstudy.html"])
 
 
 def write_html(study: GridStudy, out_dir: Path) -> Path:

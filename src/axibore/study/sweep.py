@@ -28,7 +28,7 @@ from pathlib import Path
 from typing import Any, Callable
 
 from ..case import Case, case_from_dict, CaseError, demo_case_path, load_case
-from ..io.files import atomic_write_text, check_output_dir, clean_stale_partials
+from ..io.files import atomic_write_text, check_output_dir, clean_stale_partials, write_table
 from ..io.ownership import record, remove_own
 from ..io.rundir import resolved_case_text
 from ..safety import CAUTIONS
@@ -167,7 +167,21 @@ class Point:
     si: dict = field(default_factory=dict)
 
     def label(self) -> str:
-        return ", ".join(f"{k}={v}" for k, v in self.values.items())
+        return ", ".join(f"{k}={_shown(v)}" for k, v in self.values.items())
+
+
+def _shown(value) -> str:
+    """A point's value as a person reads it: numbers to 10 significant digits (no binary noise such as
+    0.025050000000000003), the unit kept."""
+    if isinstance(value, float):
+        return f"{value:.10g}"
+    if isinstance(value, str):
+        num, sep, unit = value.partition(" ")
+        try:
+            return f"{float(num):.10g}{sep}{unit}"
+        except ValueError:
+            return value
+    return str(value)
 
 
 def without_sweep(case: Case) -> Case:
@@ -368,11 +382,12 @@ def write_results(result: SweepResult, case: Case, out_dir: Path, plots: tuple[s
     w.writerow(cols)
     for r in result.rows:
         w.writerow(["" if r.get(c) is None else (repr(r[c]) if isinstance(r[c], float) else r[c]) for c in cols])
-    atomic_write_text(out_dir / "sweep.csv", buf.getvalue())
+    write_table(out_dir / "sweep.csv", buf.getvalue(), "axibore sweep: a row a point; the varied keys, the status and "
+                "the headline results of its run (SI units, as named in each column)")
     _write_json(out_dir, case, result.keys, result.rows, "complete" if result.ok else "some points failed", vary, zip_)
     pngs = plot_sweep(result, out_dir, DEFAULT_PLOTS if plots is None else plots)
     html_path = write_html(result, out_dir, pngs, point_name(resolved_case_text(without_sweep(case))))
-    record(out_dir, "sweep", ["sweep.csv", html_path, *pngs])
+    record(out_dir, "sweep", ["sweep.csv", "sweep.csv.json", html_path, *pngs])
 
 
 def sweep(case_or_path=None, vary: dict | None = None, zip_: bool = False, workers: int | None = None,

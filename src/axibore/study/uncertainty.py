@@ -96,8 +96,8 @@ def parse_inputs(case: Case, table: dict[str, str], source: str) -> list[Input]:
         try:
             nominal = _si_value(base, key)
         except (AttributeError, IndexError, ValueError, TypeError):
-            problems.append((where, "not a key of this case (give a dotted key such as \"inlet.pressure\" or "
-                             "\"bore.outlet_diameter\")"))
+            problems.append((where, "not a key of this case (give a dotted key of the case file, such as "
+                             "\"inlet.pressure\")"))
             continue
         if nominal is None:
             problems.append((where, f"{key} is not given in this case: an uncertainty needs a value to vary"))
@@ -106,7 +106,8 @@ def parse_inputs(case: Case, table: dict[str, str], source: str) -> list[Input]:
             problems.append((where, "give the flow rate's uncertainty on a volume flow rate (m^3/s, L/min)"))
             continue
         if isinstance(nominal, bool) or not isinstance(nominal, (int, float)) or key in ("mesh.level",):
-            problems.append((where, f"cannot vary: {key} is not a number of the case (got {nominal!r})"))
+            problems.append((where, f"cannot vary: {key} is a setting, not a measured quantity that can carry an "
+                             f"uncertainty (got {nominal!r})"))
             continue
         dim = "volume_flow" if key.endswith("flow_rate") else _field_dimension(base, key)
         text = str(given).strip()
@@ -242,7 +243,8 @@ class UncertaintyResult:
                        f"{g(q.u_input)} {g(q.expanded)} {rel}" + (f"  ({q.note})" if q.note else ""))
         if self.method == "linear":
             for i in self.inputs:
-                out.append(f"  input {i.key} = {i.nominal:.6g} SI +- {i.u:.4g} (given {i.given})")
+                unit = " m^3/s" if i.key.endswith("flow_rate") else f" {SI_UNITS[i.dimension]}" if i.dimension else ""
+                out.append(f"  input {i.key} = {i.nominal:.6g}{unit} +- {i.u:.4g}{unit} (given {i.given})")
         return out
 
 
@@ -359,5 +361,5 @@ def write_result(result: UncertaintyResult, out_dir: Path) -> None:
     write_csv(result, out_dir)
     chart = plot_contributions(result, out_dir / "uncertainty_contributions.png")
     write_html(result, out_dir, chart, CAUTION, result.case_hash)
-    record(out_dir, "uncertainty", ["uncertainty.json", "uncertainty.csv", "uncertainty.html"]
+    record(out_dir, "uncertainty", ["uncertainty.json", "uncertainty.csv", "uncertainty.csv.json", "uncertainty.html"]
            + (["uncertainty_contributions.png"] if chart is not None else []))

@@ -9,7 +9,7 @@ import math
 import re
 from pathlib import Path
 
-from ..io.files import atomic_write_text
+from ..io.files import write_table
 from ..view.labels import case_key_label, display, number
 from ..view.page import Col, Page, signoff_for
 from ..view.plots import figure, save
@@ -62,7 +62,10 @@ def write_csv(result, out_dir: Path) -> Path:
         d = q.as_dict()
         w.writerow([d["name"]] + ["" if d[c] is None else f"{d[c]:.10g}" for c in CSV_COLUMNS[1:]]
                    + ["" if q.contributions.get(k) is None else f"{q.contributions[k]:.10g}" for k in keys])
-    return atomic_write_text(out_dir / "uncertainty.csv", buf.getvalue())
+    return write_table(out_dir / "uncertainty.csv", buf.getvalue(),
+                       "axibore uncertainty: a row a headline quantity; its value at the finest level, the numerical "
+                       "(grid) and input standard uncertainties, the combined one and U at k = 2 (ASME V&V 20-2009), "
+                       "and contributions.KEY = sensitivity x standard uncertainty of each input")
 
 
 def _parts(q) -> list[tuple[str, float]]:

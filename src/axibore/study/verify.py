@@ -16,7 +16,7 @@ from dataclasses import asdict, replace
 from pathlib import Path
 from typing import Callable
 
-from ..io.files import atomic_write_text
+from ..io.files import atomic_write_text, write_table
 from ..io.ownership import record
 from ..mesh import MeshError
 from ..run import RunRefused
@@ -90,8 +90,10 @@ def write_rows(rows: list[Row], out: Path) -> None:
         eo = "" if r.expected_order is None else f"{r.expected_order:g}"
         lines.append(f"{_csv_text(r.quantity)},{r.exact:.10g},{r.computed:.10g},{r.error:.4g},{po},{eo},{r.passed},"
                      f"{_csv_text(r.source)},{_csv_text(r.capability)}")
-    atomic_write_text(out / "verify.csv", "\n".join(lines) + "\n")
-    record(out, "verify", ["verify.json", "verify.csv"])
+    write_table(out / "verify.csv", "\n".join(lines) + "\n",
+                "axibore verify: a row a check; the exact or published value, the computed one, the error, the orders "
+                "where a check has them, pass or fail, and the source of the value")
+    record(out, "verify", ["verify.json", "verify.csv", "verify.csv.json"])
 
 
 def table_lines(rows: list[Row]) -> list[str]:

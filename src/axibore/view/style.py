@@ -18,6 +18,7 @@ import numpy as np
 
 from ..io.files import atomic_file, read_csv
 from ..io.rundir import read_summary
+from ..version import __version__
 
 INK = "#1d2733"  # text, axes and outlines
 WALL_INK = "#1d2733"
@@ -124,7 +125,7 @@ def figure(width: float, height: float, dpi: int = 130, layout: str | None = Non
 def save(fig, path: Path) -> Path:
     path = Path(path)
     with atomic_file(path) as tmp:
-        fig.savefig(tmp, format="png")
+        fig.savefig(tmp, format="png", metadata={"Software": f"axibore {__version__}"})  # the tool's mark (io.files)
     return path
 
 
