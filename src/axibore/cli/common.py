@@ -10,7 +10,8 @@ from ..case import MAX_LEVEL, Case, CaseError, demo_case_path, load_case
 
 
 FORCE_HELP = ("write into an existing --out folder that holds files axibore did not write (or changed since): those "
-              "are kept; only the tool's own unchanged files are replaced")
+              "are kept; only the tool's own unchanged files are replaced, and a file of yours with the name of one "
+              "the command writes is refused, even with --force")
 
 
 def out(text: str = "") -> None:
