@@ -71,11 +71,27 @@ def _direct(K: sp.spmatrix, b: np.ndarray, cache: dict | None = None):
 
 
 def _amg(P: sp.spmatrix, settings: LinearSettings):
+    """The AMG hierarchy of ``P``. The coarsest level is solved by sparse LU: pyamg's default, a
+    pseudo-inverse by dense SVD, was a quarter of the whole linear solve at 100k cells (0.47 s against
+    0.35 s, median of 8, 2 cores). A singular coarsest matrix (no value face at all) keeps the pseudo-
+    inverse."""
     import pyamg
 
-    if settings.amg == "smoothed-aggregation":
-        return pyamg.smoothed_aggregation_solver(P.tocsr(), max_coarse=settings.amg_max_coarse, symmetry="nonsymmetric")
-    return pyamg.ruge_stuben_solver(P.tocsr(), max_coarse=settings.amg_max_coarse)
+    def build(coarse):
+        if settings.amg == "smoothed-aggregation":
+            return pyamg.smoothed_aggregation_solver(P.tocsr(), max_coarse=settings.amg_max_coarse, symmetry="nonsymmetric",
+                                                     coarse_solver=coarse)
+        return pyamg.ruge_stuben_solver(P.tocsr(), max_coarse=settings.amg_max_coarse, coarse_solver=coarse)
+
+    ml = build("splu")
+    A_c = ml.levels[-1].A
+    try:
+        x = ml.coarse_solver(A_c, np.ones(A_c.shape[0]))  # factorises once, kept for the cycles
+        if not np.all(np.isfinite(x)):
+            raise RuntimeError("singular coarsest matrix")
+    except RuntimeError:
+        ml = build("pinv")
+    return ml
 
 
 def solve_linear(K: sp.spmatrix, b: np.ndarray, settings: LinearSettings = LinearSettings(),
