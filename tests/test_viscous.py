@@ -288,3 +288,21 @@ def test_forced_transition_and_no_density():
     assert np.all(w.state[s < 0.1] == LAMINAR) and np.all(w.state[s >= 0.1] == TURBULENT)
     assert w.theta[100] == pytest.approx(np.sqrt(0.45 * NU * 0.1 / U), rel=1e-9)
     assert w.H[100] == 1.4  # the turbulent start shape factor (common practice)
+
+
+@pytest.mark.parametrize("m", [0.0, -0.2])
+def test_turbulent_march_step_is_converged(monkeypatch, m):
+    # The RK4 substep of the turbulent march (at most TURBULENT_STEP_THETAS momentum thicknesses) is
+    # small enough that a step four times smaller changes theta and H by less than 1e-5 (relative): the
+    # march's own discretisation error is far below the closure's (a few per cent), on a flat plate and
+    # in an adverse gradient, starting from a thin layer where the substep limit binds.
+    s = np.linspace(0.0, 2.0, 5)  # stations far apart: the substep limit, not the stations, sets the step
+    ue = U * (1.0 + s) ** m
+    runs = []
+    for k in (layer.TURBULENT_STEP_THETAS, layer.TURBULENT_STEP_THETAS / 4):
+        monkeypatch.setattr(layer, "TURBULENT_STEP_THETAS", k)
+        runs.append(march(s, None, ue, NU, planar=True, start="turbulent", theta0=1e-5))
+    a, b = runs
+    assert a.separation_s is None and b.separation_s is None
+    np.testing.assert_allclose(a.theta[1:], b.theta[1:], rtol=1e-5)
+    np.testing.assert_allclose(a.H[1:], b.H[1:], rtol=1e-5)

@@ -160,7 +160,7 @@ def _laminar(s, r, ue, nu, due, theta0):
 
 # substeps of the turbulent march: at most this many momentum thicknesses per step (the entrainment
 # equation relaxes over some 30 theta; RK4 is accurate and stable well below that)
-TURBULENT_STEP_THETAS = 2.0
+TURBULENT_STEP_THETAS = 4.0
 
 
 def _turbulent(s, s_start, theta_start, H_start, ue, due, r, dr, nu, H_sep):
