@@ -48,6 +48,36 @@ def _bore_models():
     return (ConicalBore, ContouredBore, ReducerBore, SpearBore, SegmentsBore, PointsBore)
 
 
+
+# the validation library's own wording for the plain kinds of error, in the words of this tool
+_PLAIN = {
+    "greater_than": lambda c: f"expected a number above {c.get('gt')}",
+    "greater_than_equal": lambda c: f"expected a number of at least {c.get('ge')}",
+    "less_than": lambda c: f"expected a number below {c.get('lt')}",
+    "less_than_equal": lambda c: f"expected a number of at most {c.get('le')}",
+    "int_type": lambda c: "expected a whole number",
+    "int_from_float": lambda c: "expected a whole number",
+    "int_parsing": lambda c: "expected a whole number",
+    "float_type": lambda c: "expected a number",
+    "float_parsing": lambda c: "expected a number",
+    "bool_type": lambda c: "expected true or false",
+    "bool_parsing": lambda c: "expected true or false",
+    "string_type": lambda c: "expected text in quotes",
+    "finite_number": lambda c: "expected a finite number",
+    "list_type": lambda c: "expected a list in brackets",
+    "tuple_type": lambda c: "expected a list in brackets",
+    "dict_type": lambda c: "expected a table",
+    "model_type": lambda c: "expected a table",
+    "model_attributes_type": lambda c: "expected a table",
+}
+_TYPE_NAMES = ("str", "int", "float", "bool", "list", "tuple", "dict")
+
+
+def _is_type_name(item) -> bool:
+    """A location part the validation library adds for a member of a union type ("list[...]", "str")."""
+    return isinstance(item, str) and (item in _TYPE_NAMES or "[" in item or item.startswith("function-"))
+
+
 def format_validation(exc: ValidationError, data: dict, prefix: str = "", model=CaseModel) -> list[tuple[str, str]]:
     """(key path, message) for every error of ``exc`` (raised by ``model`` on ``data``); ``prefix``:
     the table the model validated (its keys are reported under it)."""
@@ -59,7 +89,7 @@ def format_validation(exc: ValidationError, data: dict, prefix: str = "", model=
         if len(loc) > 1 and loc[0] == "bore" and loc[1] == template:
             del loc[1]
         parts = []
-        for item in loc:
+        for item in (i for i in loc if not _is_type_name(i)):
             if isinstance(item, int):  # list positions count from 1, as in profile errors
                 parts[-1] = f"{parts[-1]}[{item + 1}]" if parts else f"[{item + 1}]"
             else:
@@ -85,6 +115,8 @@ def format_validation(exc: ValidationError, data: dict, prefix: str = "", model=
         elif kind == "list_type" and isinstance(given, dict):
             msg = (f"expected a list of tables, got one table: write [[{path}]] (double brackets) for each entry, "
                    f"or {path} = [{{...}}, ...]")
+        elif kind in _PLAIN:
+            msg = _PLAIN[kind](err.get("ctx") or {}) + f", got {given!r}"
         else:
             msg = err["msg"]
             if msg.startswith("Value error, "):
@@ -92,6 +124,20 @@ def format_validation(exc: ValidationError, data: dict, prefix: str = "", model=
             if kind not in ("quantity", "positive", "non_negative", "angle_range", "solver_kind", "plausible") and given is not None and not isinstance(given, (dict, list)):
                 msg = f"{msg} (got {given!r})"
         problems.append((path, msg))
-    return problems
+    return _merged(problems)
 
 
+def _merged(problems: list[tuple[str, str]]) -> list[tuple[str, str]]:
+    """One line a key where the members of a union type fail alike ("expected text in quotes, got 0"
+    and "expected a list in brackets, got 0" become "expected text in quotes or a list in brackets,
+    got 0"); other problems are kept as they are."""
+    out: list[tuple[str, str]] = []
+    for path, msg in problems:
+        if out and out[-1][0] == path and msg.startswith("expected ") and out[-1][1].startswith("expected "):
+            head, _, got = out[-1][1].rpartition(", got ")
+            new_head, _, new_got = msg.rpartition(", got ")
+            if got and got == new_got:
+                out[-1] = (path, f"{head} or {new_head[len('expected '):]}, got {got}")
+                continue
+        out.append((path, msg))
+    return out
