@@ -306,29 +306,3 @@ def test_lip_catalogue_settles(name, bore):
     res = solve_case(_case(bore))
     assert res.jet.settled and len(res.jet.history) <= 12, name
     assert 0.49 < res.jet.contraction_coefficient <= 1.001
-
-
-def test_a_nearby_mesh_reuses_the_factorisation():
-    # A difference quotient's mesh differs from the current one by a step of 1e-7: GMRES preconditioned
-    # by the current factorisation solves it to the LU's own residual in an iteration or two (the spear
-    # demo: 27 factorisations -> 9, 43 s -> 28 s); a mesh that differs by much gets its own.
-    from types import SimpleNamespace
-
-    import scipy.sparse as sp
-    import scipy.sparse.linalg as spla
-
-    from axibore.solvers.potential_jet import NEARBY_RESIDUAL, _nearby_solve
-
-    n = 400
-    rng = np.random.default_rng(2)
-    K0 = sp.diags([-1.0, -1.0, 4.0, -1.0, -1.0], [-20, -1, 0, 1, 20], shape=(n, n), format="csc")
-    b = rng.random(n)
-    near = SimpleNamespace(solve_rhs=spla.factorized(K0), phi=spla.spsolve(K0, b))
-    D = sp.diags(rng.random(n), 0, format="csc")
-    for eps, found in ((1e-7, True), (0.8, False)):
-        K = K0 + eps * D @ sp.random(n, n, density=0.01, random_state=3, format="csc")
-        x = _nearby_solve(K, b, near)
-        assert (x is not None) is found
-        if found:
-            assert np.linalg.norm(K @ x - b) <= NEARBY_RESIDUAL * np.linalg.norm(b)
-            np.testing.assert_allclose(x, spla.spsolve(K.tocsc(), b), rtol=1e-9, atol=1e-12)

@@ -200,10 +200,9 @@ class _JetProblem:
         scaled[:, 1] = self.bottom + (ro[:, 1] - self.bottom) * (P[-1, 1] - self.bottom) / (r_end0 - self.bottom)
         return np.vstack([P, scaled])
 
-    def evaluate(self, u: np.ndarray, V: float | None, near: dict | None = None) -> dict | None:
+    def evaluate(self, u: np.ndarray, V: float | None) -> dict | None:
         """The state at directions u and jet speed V (None: from the momentum balance, or, at the
-        first call of the local condition, the far speed); None where the mesh cannot follow.
-        ``near``: a state a difference-quotient step away, whose solve the service may reuse."""
+        first call of the local condition, the far speed); None where the mesh cannot follow."""
         theta = self.theta(u)
         P = self.shape.points(theta)
         if jet_problem(self.profile, P):
@@ -212,7 +211,7 @@ class _JetProblem:
             mesh = self.mover.move(self.positions(P))
         except MeshError:
             return None
-        field = self.service.solve(mesh, near=near["field"]) if near is not None else self.service.solve(mesh)
+        field = self.service.solve(mesh)
         L = np.linalg.norm(np.diff(P, axis=0), axis=1)
         s = np.r_[0.0, np.cumsum(L)]
         remaining = s[-1] - 0.5 * (s[:-1] + s[1:])
@@ -255,7 +254,7 @@ class _JetProblem:
         for j in range(min(FD_COLUMNS, Ju.shape[1])):  # near the lip: differences
             e = np.zeros_like(st["u"])
             e[j] = FD_STEP
-            other = self.evaluate(st["u"] + e, None if self.momentum else V, near=st)
+            other = self.evaluate(st["u"] + e, None if self.momentum else V)
             if other is not None:
                 Ju[:, j] = (other["residual"] - st["residual"]) / FD_STEP
         return Ju if self.momentum else np.column_stack([Ju, rem[self.rows]])

@@ -45,28 +45,6 @@ class JetField:
     R: object  # the right-hand-side operator of the boundary data
 
 
-# a nearby mesh's solve: GMRES (preconditioned residual) to NEARBY_RTOL, accepted where the true relative
-# residual is at most NEARBY_RESIDUAL, the level the sparse LU itself reaches on these matrices (1e-11 to
-# 1e-10 measured); its difference quotient divides by a step of 1e-7
-NEARBY_RTOL = 1e-13
-NEARBY_RESIDUAL = 1e-9
-NEARBY_ITERATIONS = 10
-
-
-def _nearby_solve(K, b: np.ndarray, near: JetField) -> np.ndarray | None:
-    """x with a relative residual of at most NEARBY_RESIDUAL by GMRES preconditioned with ``near``'s
-    factorisation, started from ``near``'s solution; None where NEARBY_ITERATIONS iterations do not
-    get there."""
-    import scipy.sparse.linalg as spla
-
-    M = spla.LinearOperator(K.shape, matvec=near.solve_rhs, dtype=float)
-    x, _info = spla.gmres(K, b, x0=near.phi, M=M, rtol=NEARBY_RTOL, atol=0.0, restart=NEARBY_ITERATIONS, maxiter=1)
-    bn = float(np.linalg.norm(b)) or 1.0
-    if not float(np.linalg.norm(K @ x - b)) <= NEARBY_RESIDUAL * bn:
-        return None
-    return x
-
-
 class PotentialJet:
     """Flows of the potential solver on moved copies of one mesh (same topology) with a jet."""
 
@@ -83,21 +61,12 @@ class PotentialJet:
             if name in mesh.boundary:
                 self._stencil[name] = stencils(mesh, mesh.boundary[name])
 
-    def solve(self, mesh: FVMesh, near: JetField | None = None) -> JetField:
-        """The flow on ``mesh``. With ``near``, the flow of a mesh whose nodes differ by little (a
-        difference quotient's step): GMRES preconditioned by ``near``'s factorisation, which converges
-        in one or two iterations there, instead of a factorisation of its own (0.8 s at 90k cells);
-        where it does not, the mesh gets its own."""
+    def solve(self, mesh: FVMesh) -> JetField:
         import scipy.sparse.linalg as spla
 
         ops = assemble(mesh, self.is_value)
-        b = ops.R @ self.data
-        phi = _nearby_solve(ops.K, b, near) if near is not None else None
-        if phi is not None:
-            solve_rhs = near.solve_rhs  # the response of a nearby mesh is not asked for
-        else:
-            solve_rhs = spla.factorized(ops.K.tocsc())
-            phi = solve_rhs(b)
+        solve_rhs = spla.factorized(ops.K.tocsc())
+        phi = solve_rhs(ops.R @ self.data)
         jet = boundary_fit(mesh, self.jet_faces, self.is_value, self._stencil["jet"])
         m0, m2, dm0 = self._momentum(mesh, phi)
         return JetField(mesh, phi, self.data, jet, jet.value(phi, self.data),
