@@ -244,3 +244,31 @@ def test_suction_at_a_sharp_exit_lip_is_not_called_cavitation(tmp_path, capsys):
     assert "sharp exit lip" in s["pressure"]["min_wall_at_singular_point"]
     assert not any(w.startswith("cavitation expected") for w in s["warnings"])
     assert "no verdict" in printed and "EXPECTED" not in printed
+
+
+def test_amg_coarsest_level_by_lu_and_pseudo_inverse_when_singular():
+    # The coarsest AMG level is solved by sparse LU (pyamg's dense pseudo-inverse was a quarter of the
+    # linear solve at 100k cells, scripts/bench_potential.py); a singular coarsest matrix (a Laplacian
+    # with no value node: constants in its null space) keeps the pseudo-inverse, and both hierarchies
+    # solve their systems.
+    import scipy.sparse as sp
+
+    from axibore.numerics.linear import LinearSettings, _amg
+
+    n = 3000
+    main = np.full(n, 2.0)
+    lap = sp.diags([-np.ones(n - 1), main, -np.ones(n - 1)], [-1, 0, 1], format="lil")
+    lap[0, 0] = lap[n - 1, n - 1] = 1.0  # no-flux ends: singular
+    neumann = lap.tocsr()
+    dirichlet = (neumann + sp.diags(np.r_[1.0, np.zeros(n - 1)])).tocsr()  # one value node: regular
+    s = LinearSettings(method="iterative")
+    kinds = {}
+    for name, A in (("regular", dirichlet), ("singular", neumann)):
+        ml = _amg(A, s)
+        kinds[name] = ml.coarse_solver.name()
+        b = np.sin(np.linspace(0, 2 * np.pi, n))
+        b -= b.mean()  # in the range of the singular one too
+        x = ml.solve(b, tol=1e-10, maxiter=200)
+        r = b - A @ x
+        assert np.linalg.norm(r) <= 1e-8 * np.linalg.norm(b)
+    assert "splu" in kinds["regular"] and "pinv" in kinds["singular"], kinds

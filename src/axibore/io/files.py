@@ -90,22 +90,11 @@ def _not_foreign(path: Path) -> None:
 
 
 def atomic_write_text(path: str | Path, text: str) -> Path:
-    path = Path(path)
-    _not_foreign(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
+    """Write ``text`` (UTF-8, LF line ends) to ``path`` through ``atomic_file``."""
+    with atomic_file(path, suffix=".tmp") as tmp:
+        with open(tmp, "w", encoding="utf-8", newline="\n") as fh:
             fh.write(text)
-        os.chmod(tmp, 0o644)
-        os.replace(tmp, path)
-    except BaseException as exc:
-        Path(tmp).unlink(missing_ok=True)
-        if isinstance(exc, OSError) and exc.filename == tmp:  # name the file being written, not its temporary
-            raise OSError(exc.errno, exc.strerror, str(path)) from None
-        raise
-    _WRITTEN.add(Path(os.path.abspath(path)))
-    return path
+    return Path(path)
 
 
 @contextmanager

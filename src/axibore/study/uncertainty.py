@@ -64,10 +64,16 @@ class Input:
         return _with_unit(value, self.dimension, self.key)
 
 
-def _with_unit(value: float, dimension: str | None, key: str) -> str | float:
+def _si_unit(dimension: str | None, key: str) -> str:
+    """The SI unit a key's value is held in ("" for a plain number)."""
     if key.endswith("flow_rate"):
-        return f"{value!r} m^3/s"  # the volume flow (a mass flow is refused in parse_inputs)
-    return value if dimension is None else f"{value!r} {SI_UNITS[dimension]}"
+        return "m^3/s"  # the volume flow (a mass flow is refused in parse_inputs)
+    return "" if dimension is None else SI_UNITS[dimension]
+
+
+def _with_unit(value: float, dimension: str | None, key: str) -> str | float:
+    unit = _si_unit(dimension, key)
+    return f"{value!r} {unit}" if unit else value
 
 
 SI_UNITS = {"length": "m", "pressure": "Pa", "temperature": "K", "angle": "rad", "density": "kg/m^3",
@@ -243,7 +249,7 @@ class UncertaintyResult:
                        f"{g(q.u_input)} {g(q.expanded)} {rel}" + (f"  ({q.note})" if q.note else ""))
         if self.method == "linear":
             for i in self.inputs:
-                unit = " m^3/s" if i.key.endswith("flow_rate") else f" {SI_UNITS[i.dimension]}" if i.dimension else ""
+                unit = f" {_si_unit(i.dimension, i.key)}".rstrip()
                 out.append(f"  input {i.key} = {i.nominal:.6g}{unit} +- {i.u:.4g}{unit} (given {i.given})")
         return out
 
