@@ -114,7 +114,7 @@ def test_planar_mesh_measures():
 # from layers below it (DEVELOPERS.md, "Architecture"). A solver never reads a case file, an outlet
 # model never draws, the output layer never drives a view.
 LAYERS = (
-    ("names", "units", "fluids", "safety", "textin", "version", "estimate"),
+    ("names", "units", "fluids", "safety", "textin", "version", "estimate", "arrays"),
     ("geometry",),
     ("mesh",),
     ("numerics",),

@@ -23,6 +23,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 
+from ..arrays import rows
 from ..mesh import FVMesh
 
 # Face-neighbour rings around the owner in each fit. Three rings average the cell-scale noise of
@@ -86,9 +87,9 @@ def boundary_fit(mesh: FVMesh, faces: np.ndarray, is_value: np.ndarray, stencil:
     st = stencils(mesh, faces) if stencil is None else stencil
     valid = st >= 0
     cells = np.where(valid, st, 0)
-    n = mesh.face_normal[faces]
+    n = rows(mesh.face_normal, faces)
     t = np.column_stack([-n[:, 1], n[:, 0]])
-    rel = mesh.cell_centroid[cells] - mesh.face_centroid[faces][:, None, :]
+    rel = rows(mesh.cell_centroid, cells) - rows(mesh.face_centroid, faces)[:, None, :]
     tt = np.einsum("mkj,mj->mk", rel, t)
     nn = np.einsum("mkj,mj->mk", rel, n)
     h2 = np.where(valid, tt * tt + nn * nn, np.inf)
@@ -113,10 +114,10 @@ def boundary_fit(mesh: FVMesh, faces: np.ndarray, is_value: np.ndarray, stencil:
         Wn[k] = P[:, 0, :] / scale[k, None]
         dn_data[k] = -np.sum(Wn[k], axis=1)
         v_data[k] = 1.0
-    rows = np.repeat(np.arange(m), st.shape[1])
+    fit_rows = np.repeat(np.arange(m), st.shape[1])
 
     def op(W):
-        return sp.csr_matrix((np.where(valid, W, 0.0).ravel(), (rows, cells.ravel())), shape=(m, mesh.n_cells))
+        return sp.csr_matrix((np.where(valid, W, 0.0).ravel(), (fit_rows, cells.ravel())), shape=(m, mesh.n_cells))
 
     return BoundaryFit(faces, t, n, op(Wv), v_data, op(Wt), dt_data, op(Wn), dn_data)
 

@@ -32,6 +32,7 @@ import numpy as np
 import scipy.sparse as sp
 from pydantic import BaseModel, ConfigDict, Field
 
+from ..arrays import rows
 from ..mesh import FVMesh
 from ..names import Boundary
 from ..numerics.gradients import face_sets, least_squares_gradient
@@ -81,15 +82,28 @@ class PotentialField:
 
 @dataclass(frozen=True, eq=False)
 class Operators:
-    """Sparse operators of the discretisation on one mesh and one set of boundary kinds."""
+    """Sparse operators of the discretisation on one mesh and one set of boundary kinds.
+
+    The face flux is ``direct @ phi + data_direct @ data + SA @ grad`` with ``grad`` the (2, C) cell
+    gradient stacked as one (2C,) vector: the two-point part plus the non-orthogonal correction
+    ``A T . grad_f``. The cell balance ``K phi = R data`` is its divergence."""
 
     G: tuple[sp.csr_matrix, sp.csr_matrix]  # cell gradient from phi
     B: tuple[sp.csr_matrix, sp.csr_matrix]  # cell gradient from boundary data
-    flux_phi: sp.csr_matrix  # face flux from phi
-    flux_data: sp.csr_matrix  # face flux from boundary data
+    direct: sp.csr_matrix  # (F, C) two-point face flux from phi
+    data_direct: sp.csr_matrix  # (F, F) face flux from boundary data (value faces: two-point; flux faces: A g)
+    SA: sp.csr_matrix  # (F, 2C) correction A T . grad_f from the stacked cell gradient
     K: sp.csr_matrix  # cell balance matrix (positive diagonal): K phi = R data
     R: sp.csr_matrix
     K_orth: sp.csr_matrix  # symmetric orthogonal part (preconditioner)
+
+    def gradient(self, phi: np.ndarray, data: np.ndarray) -> np.ndarray:
+        """(2, C) cell gradient."""
+        return np.vstack([self.G[k] @ phi + self.B[k] @ data for k in range(2)])
+
+    def face_flux(self, phi: np.ndarray, data: np.ndarray, grad: np.ndarray) -> np.ndarray:
+        """(F,) flux per radian out of each face's owner, from phi, the data and the cell gradient."""
+        return self.direct @ phi + self.data_direct @ data + self.SA @ grad.ravel()
 
 
 def boundary_kinds(mesh: FVMesh, bcs: dict[str, BoundaryCondition]) -> tuple[np.ndarray, np.ndarray]:
@@ -118,39 +132,39 @@ def assemble(mesh: FVMesh, is_value: np.ndarray) -> Operators:
     G, B = grad.G, grad.B
 
     # -- face fluxes --------------------------------------------------------------------------
-    d = c[N] - c[P]
-    dD = xf[fD] - c[PD]
-    dn = np.einsum("ij,ij->i", d, n[fi])
+    cP = rows(c, P)
+    d = rows(c, N) - cP
+    dD = rows(xf, fD) - rows(c, PD)
+    ni, nD = rows(n, fi), rows(n, fD)
+    dn = np.einsum("ij,ij->i", d, ni)
     a = A[fi] / dn
-    T = n[fi] - d / dn[:, None]
-    gamma = np.einsum("ij,ij->i", xf[fi] - c[P], d) / np.einsum("ij,ij->i", d, d)
-    dnD = np.einsum("ij,ij->i", dD, n[fD])
+    T = ni - d / dn[:, None]
+    gamma = np.einsum("ij,ij->i", rows(xf, fi) - cP, d) / np.einsum("ij,ij->i", d, d)
+    dnD = np.einsum("ij,ij->i", dD, nD)
     aD = A[fD] / dnD
-    TD = n[fD] - dD / dnD[:, None]
+    TD = nD - dD / dnD[:, None]
 
-    direct = sp.coo_matrix(
-        (np.r_[a, -a, -aD], (np.r_[fi, fi, fD], np.r_[N, P, PD])), shape=(F, C)
-    ).tocsr()
-    # interpolation of cell gradients to faces (value faces take the owner's gradient)
-    S = sp.coo_matrix(
-        (np.r_[1 - gamma, gamma, np.ones(fD.size)], (np.r_[fi, fi, fD], np.r_[P, N, PD])), shape=(F, C)
-    ).tocsr()
-    AT = np.zeros((F, 2))
-    AT[fi] = A[fi, None] * T
-    AT[fD] = A[fD, None] * TD
-    corr_phi = sp.diags(AT[:, 0]) @ S @ G[0] + sp.diags(AT[:, 1]) @ S @ G[1]
-    corr_data = sp.diags(AT[:, 0]) @ S @ B[0] + sp.diags(AT[:, 1]) @ S @ B[1]
-    flux_phi = (direct + corr_phi).tocsr()
-    data_direct = sp.coo_matrix((np.r_[aD, A[fN]], (np.r_[fD, fN], np.r_[fD, fN])), shape=(F, F)).tocsr()
-    flux_data = (data_direct + corr_data).tocsr()
+    direct = sp.csr_matrix((np.r_[a, -a, -aD], (np.r_[fi, fi, fD], np.r_[N, P, PD])), shape=(F, C))
+    data_direct = sp.csr_matrix((np.r_[aD, A[fN]], (np.r_[fD, fN], np.r_[fD, fN])), shape=(F, F))
+    # the correction A T . grad_f, grad_f interpolated from the two cells' gradients (value faces
+    # take the owner's): one (F, 2C) interpolation weighted by both components of A T, applied to
+    # the stacked (2C, .) gradient operators
+    ATi, ATD = A[fi, None] * T, A[fD, None] * TD
+    f3 = np.r_[fi, fi, fD]
+    SA = sp.csr_matrix((np.r_[(1 - gamma) * ATi[:, 0], gamma * ATi[:, 0], ATD[:, 0],
+                              (1 - gamma) * ATi[:, 1], gamma * ATi[:, 1], ATD[:, 1]],
+                        (np.r_[f3, f3], np.r_[P, N, PD, P + C, N + C, PD + C])), shape=(F, 2 * C))
 
-    D = sp.coo_matrix(
-        (np.r_[np.ones(F), -np.ones(fi.size)], (np.r_[mesh.owner, N], np.r_[np.arange(F), fi])), shape=(C, F)
-    ).tocsr()
-    K = (-(D @ flux_phi)).tocsr()
-    R = (D @ flux_data).tocsr()
-    K_orth = (-(D @ direct)).tocsr()
-    return Operators(G, B, flux_phi, flux_data, K, R, K_orth)
+    # cell balance: D sums the fluxes out of each cell. The divergence of the two-point part is
+    # -K_orth (K_orth: the symmetric two-point matrix, also the AMG preconditioner's), so
+    # K = -D (direct + SA Gs) = K_orth - (D SA) Gs and R = D data_direct + (D SA) Bs.
+    D = sp.csr_matrix((np.r_[np.ones(F), -np.ones(fi.size)], (np.r_[mesh.owner, N], np.r_[np.arange(F), fi])),
+                      shape=(C, F))
+    K_orth = sp.csr_matrix((np.r_[a, a, -a, -a, aD], (np.r_[P, N, P, N, PD], np.r_[P, N, N, P, PD])), shape=(C, C))
+    DSA = D @ SA
+    K = K_orth - DSA @ sp.vstack(G, format="csr")
+    R = D @ data_direct + DSA @ sp.vstack(B, format="csr")
+    return Operators(G, B, direct, data_direct, SA, K, R, K_orth)
 
 
 def solve_potential(mesh: FVMesh, bcs: dict[str, BoundaryCondition], linear: LinearSettings = LinearSettings(),
@@ -184,8 +198,8 @@ def solve_potential_many(mesh: FVMesh, bc_sets: list[dict[str, BoundaryCondition
         lin = solve_linear(ops.K, b, linear, preconditioner=ops.K_orth, say=say, cache=cache if len(kinds) > 1 else None)
         phi = lin.x
         t2 = time.perf_counter()
-        grad = np.vstack([ops.G[k] @ phi + ops.B[k] @ data for k in range(2)])
-        flux = ops.flux_phi @ phi + ops.flux_data @ data
+        grad = ops.gradient(phi, data)
+        flux = ops.face_flux(phi, data, grad)
         fb = mesh.boundary_faces
         bf = flux[fb]
         inflow = -bf[bf < 0].sum()

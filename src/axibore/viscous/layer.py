@@ -159,7 +159,10 @@ def _laminar(s, r, ue, nu, due, theta0):
 
 
 # substeps of the turbulent march: at most this many momentum thicknesses per step (the entrainment
-# equation relaxes over some 30 theta; RK4 is accurate and stable well below that)
+# equation relaxes over some 30 theta; RK4 is accurate and stable well below that). The steps also
+# end at every station: on the demo at level 0, steps of 4 theta across up to 4 stations (cubic
+# Hermite output at the stations) moved the friction force by 19 % (18.15 -> 21.60 N; steps of
+# theta / 4: 18.1526 N), and steps of 2 theta across 4 stations were twice as slow at level 2.
 TURBULENT_STEP_THETAS = 4.0
 
 
@@ -200,9 +203,9 @@ def _turbulent(s, s_start, theta_start, H_start, ue, due, r, dr, nu, H_sep):
         dr_ = d00 * rl[i] + d10 * drl[i] + d01 * rl[i + 1] + d11 * drl[i + 1]
         return u, du, rr, dr_, nul[i] + t * (nul[i + 1] - nul[i])
 
-    def rhs(i, x, theta, H1):
+    def rhs(state, theta, H1):
         theta = max(theta, 1e-300)
-        u, du, rr, dr_, nu_x = state_at(i, x)
+        u, du, rr, dr_, nu_x = state
         H = H_of(H1)
         cf = _turbulent_cf_scalar(H, u * theta / nu_x)
         dtheta = 0.5 * cf - (H + 2.0) * theta / u * du - theta / rr * dr_
@@ -212,16 +215,21 @@ def _turbulent(s, s_start, theta_start, H_start, ue, due, r, dr, nu, H_sep):
     i = max(int(np.searchsorted(s, s_start, side="right")) - 1, 0)
     x, th, H1 = float(s_start), float(theta_start), H1_0
     n = len(sl)
+    s_end, s_end_at = None, None
     while i < n - 1:
         x_end = sl[i + 1]
         while x < x_end:
             h = min(x_end - x, TURBULENT_STEP_THETAS * th)
             if x_end - x - h < 1e-12 * (x_end - sl[i]):
                 h = x_end - x
-            k1 = rhs(i, x, th, H1)
-            k2 = rhs(i, x + 0.5 * h, th + 0.5 * h * k1[0], H1 + 0.5 * h * k1[1])
-            k3 = rhs(i, x + 0.5 * h, th + 0.5 * h * k2[0], H1 + 0.5 * h * k2[1])
-            k4 = rhs(i, x + h, th + h * k3[0], H1 + h * k3[1])
+            # the edge state at the step's start, middle and end (the start is the last step's end)
+            s0 = s_end if s_end_at == (i, x) else state_at(i, x)
+            s_mid, s_end = state_at(i, x + 0.5 * h), state_at(i, x + h)
+            s_end_at = (i, x + h)
+            k1 = rhs(s0, th, H1)
+            k2 = rhs(s_mid, th + 0.5 * h * k1[0], H1 + 0.5 * h * k1[1])
+            k3 = rhs(s_mid, th + 0.5 * h * k2[0], H1 + 0.5 * h * k2[1])
+            k4 = rhs(s_end, th + h * k3[0], H1 + h * k3[1])
             th_n = th + h / 6.0 * (k1[0] + 2 * k2[0] + 2 * k3[0] + k4[0])
             H1_n = H1 + h / 6.0 * (k1[1] + 2 * k2[1] + 2 * k3[1] + k4[1])
             if not (H1_n > H1_sep and th_n > 0.0 and math.isfinite(th_n)):
