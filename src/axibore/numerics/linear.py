@@ -60,6 +60,79 @@ class LinearResult:
     attempts: list[str] = field(default_factory=list)  # what was tried, in order, with its outcome
 
 
+# cells of a nested-dissection leaf (ordered as they come)
+DISSECTION_LEAF = 64
+
+
+def nested_dissection(points: np.ndarray, pattern: sp.spmatrix) -> np.ndarray:
+    """A fill-reducing order of the unknowns of a mesh problem: geometric nested dissection.
+
+    ``points`` (n, 2) are the unknowns' positions (cell centres), ``pattern`` the matrix whose
+    nonzeros couple them. Each set is cut at the median of its longer extent; the unknowns of the
+    first half coupled to the second form the separator, numbered after both halves, which are
+    ordered the same way down to DISSECTION_LEAF unknowns. For a 2D mesh this gives O(n log n)
+    fill (George 1973, SIAM J. Numer. Anal. 10, "Nested dissection of a regular finite element
+    mesh"); on the spear demo's 92k-cell free-jet matrix SuperLU's factorisation took 0.41 s in this
+    order against 0.9-1.0 s in its own COLAMD order (11.7 M against 15.4 M nonzeros in L + U).
+    """
+    n = points.shape[0]
+    A = (abs(pattern) + abs(pattern.T)).tocsr()
+    A.data[:] = 1.0
+    order: list[np.ndarray] = []
+    in_b = np.zeros(n)
+    stack = [(np.arange(n), False)]
+    while stack:  # depth first, the separator after its two halves
+        idx, is_separator = stack.pop()
+        if is_separator or idx.size <= DISSECTION_LEAF:
+            order.append(idx)
+            continue
+        pts = np.take(points, idx, axis=0)
+        axis = int(np.argmax(pts.max(0) - pts.min(0)))
+        first = pts[:, axis] <= np.median(pts[:, axis])
+        a, b = idx[first], idx[~first]
+        if a.size == 0 or b.size == 0:
+            order.append(idx)
+            continue
+        in_b[b] = 1.0
+        touches = (A[a] @ in_b) > 0.0
+        in_b[b] = 0.0
+        stack += [(a[touches], True), (b, False), (a[~touches], False)]
+    return np.concatenate(order)
+
+
+class OrderedFactor:
+    """SuperLU of ``K`` permuted symmetrically into ``order`` (rows and columns alike), with that
+    column order kept and pivots on the diagonal, so that the elimination does not depend on the
+    values: matrices of one pattern (a mesh whose nodes move) are factorised the same way and their
+    round-off is alike. Falls back to SuperLU's own ordering and pivoting (``order`` the identity)
+    where a diagonal pivot is zero.
+
+    ``x = factor(b)`` solves K x = b for (n,) or (n, k); ``solve_ordered(bp)`` solves for a
+    right-hand side already in the factor's order (``bp = b[order]``) and returns x in it, so that
+    a caller with many right-hand sides can permute its sparse operators once instead of permuting
+    dense (n, k) arrays back and forth."""
+
+    def __init__(self, K: sp.spmatrix, order: np.ndarray):
+        import scipy.sparse.linalg as spla
+
+        try:
+            Kp = K.tocsr()[order][:, order].tocsc()
+            self.lu = spla.splu(Kp, permc_spec="NATURAL", diag_pivot_thresh=0.0, options={"SymmetricMode": True})
+            self.order = order
+        except RuntimeError:  # a zero pivot on the diagonal
+            self.lu = spla.splu(K.tocsc())
+            self.order = np.arange(K.shape[0])
+
+    def solve_ordered(self, bp: np.ndarray) -> np.ndarray:
+        return self.lu.solve(np.asfortranarray(bp))
+
+    def __call__(self, b: np.ndarray) -> np.ndarray:
+        x = self.solve_ordered(np.take(b, self.order, axis=0))
+        out = np.empty_like(x)
+        out[self.order] = x
+        return out
+
+
 def _direct(K: sp.spmatrix, b: np.ndarray, cache: dict | None = None):
     import scipy.sparse.linalg as spla
 
