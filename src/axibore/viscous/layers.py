@@ -19,6 +19,11 @@ COUPLING_MAX_ITERATIONS = 25
 COUPLING_RELAXATION = 1.0  # the first step undamped: the map B -> B is a weak contraction where the layer is attached
 COUPLING_TOLERANCE = 1e-3  # on the blockage B at every face
 MAX_BLOCKAGE = 0.5
+# the downstream station of the discharge coefficient lies at the narrowest section when its flow area is within
+# this fraction of the narrowest one: with dp ~ 1/A_2^2 - 1/A_1^2, a relative area excess e at the downstream
+# station lowers dp by 2e/(1 - beta^4) of itself and raises C by e/(1 - beta^4) (derived), under 1e-5 (the digits
+# printed) up to beta 0.95; it absorbs the rounding of a drawn throat
+SECTION_AREA_TOL = 1e-6
 
 
 def face_blockage(chains: dict[str, ChainLayer], profile, planar: bool) -> dict[str, np.ndarray]:
@@ -131,6 +136,17 @@ def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False
     xs = np.linspace(x1, x2, 801)
     A = profile.flow_area(np.atleast_1d(xs))
     A_m, A_1 = float(A.min()), float(A[0])
+    where = (f"wall taps at x = {x1 * 1e3:.4g} mm and {x2 * 1e3:.4g} mm" if taps is not None
+             else "mean pressures of the inlet and outlet planes")
+    if float(A[-1]) > A_m * (1.0 + SECTION_AREA_TOL):
+        # C refers the flow to the differential between the approach and the narrowest section; where the bore
+        # widens again before the downstream station (a Venturi's divergent), dp there is the recovered, not the
+        # meter's, differential (for an inviscid Venturi with equal end areas dp ~ 0 and this C was ~1e4)
+        x_m = float(xs[int(np.argmin(A))])
+        return None, (f"none: the downstream station ({where}) is not at the narrowest section: its flow area is "
+                      f"{float(A[-1]) / A_m:.7g} times the narrowest, A_m = {A_m * 1e6:.6g} mm^2 (x = {x_m * 1e3:.4g} mm) "
+                      "between the stations, so the pressure difference is not the differential across the contraction; "
+                      "give viscous.taps = [upstream x, x in the throat] (ISO 5167 wall tappings)")
     rho = flow.inlet_density
     (p1, u1), (p2, u2) = _station_pressures(flow, tables, taps)
     if chains is not None:
@@ -146,8 +162,6 @@ def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False
                 p1 -= dp
             else:
                 p2 -= dp
-    where = (f"wall taps at x = {x1 * 1e3:.4g} mm and {x2 * 1e3:.4g} mm" if taps is not None
-             else "mean pressures of the inlet and outlet planes")
     if not p1 - p2 > 0:
         return None, f"none: no pressure drop between the stations ({where}); see the loss coefficient"
     E = 1.0 / math.sqrt(1.0 - (A_m / A_1) ** 2) if A_m < A_1 else float("inf")

@@ -54,7 +54,9 @@ Derived quantities
 - Discharge coefficient: Q = C E A_m sqrt(2 dp / rho), E = 1/sqrt(1 - (A_m/A_1)^2), A_m the
   smallest flow area normal to the axis between the two stations, A_1 the area at the upstream
   one, dp the static pressure difference between them: the wall pressures at ``viscous.taps``
-  (ISO 5167 style wall tappings), else the mean pressures of the inlet and outlet planes. With the
+  (ISO 5167 style wall tappings), else the mean pressures of the inlet and outlet planes. None when
+  the downstream station is not at the narrowest section (the bore widens before it, as a Venturi's
+  divergent does: dp is then the recovered, not the meter's, differential). With the
   layer, the core speed at a station rises by 1/(1 - B), B = sum P delta* / A the blockage
   (continuity), and its pressure falls accordingly (Bernoulli in the inviscid core; the pressure
   is carried unchanged through a thin layer). Gases: the quasi-1D discharge coefficient times
