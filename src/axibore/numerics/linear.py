@@ -102,10 +102,13 @@ def nested_dissection(points: np.ndarray, pattern: sp.spmatrix) -> np.ndarray:
 
 class OrderedFactor:
     """SuperLU of ``K`` permuted symmetrically into ``order`` (rows and columns alike), with that
-    column order kept and pivots on the diagonal, so that the elimination does not depend on the
-    values: matrices of one pattern (a mesh whose nodes move) are factorised the same way and their
-    round-off is alike. Falls back to SuperLU's own ordering and pivoting (``order`` the identity)
-    where a diagonal pivot is zero.
+    column order kept and pivots on the diagonal wherever the diagonal is nonzero
+    (``diag_pivot_thresh = 0``; SuperLU pivots off it only at an exactly zero diagonal), so that the
+    elimination does not depend on the values: matrices of one pattern (a mesh whose nodes move) are
+    factorised the same way and their round-off is alike. Diagonal pivots suit the potential
+    operator, whose diagonal dominates its rows (the two-point part is an M-matrix; the non-orthogonal
+    correction is small); they are not a general-purpose choice. Falls back to SuperLU's own ordering
+    and pivoting (``order`` the identity) where SuperLU finds the permuted matrix singular.
 
     ``x = factor(b)`` solves K x = b for (n,) or (n, k); ``solve_ordered(bp)`` solves for a
     right-hand side already in the factor's order (``bp = b[order]``) and returns x in it, so that
@@ -119,7 +122,7 @@ class OrderedFactor:
             Kp = K.tocsr()[order][:, order].tocsc()
             self.lu = spla.splu(Kp, permc_spec="NATURAL", diag_pivot_thresh=0.0, options={"SymmetricMode": True})
             self.order = order
-        except RuntimeError:  # a zero pivot on the diagonal
+        except RuntimeError:  # singular in this order
             self.lu = spla.splu(K.tocsc())
             self.order = np.arange(K.shape[0])
 

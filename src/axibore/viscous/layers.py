@@ -146,7 +146,9 @@ def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False
         return None, (f"none: the downstream station ({where}) is not at the narrowest section: its flow area is "
                       f"{float(A[-1]) / A_m:.7g} times the narrowest, A_m = {A_m * 1e6:.6g} mm^2 (x = {x_m * 1e3:.4g} mm) "
                       "between the stations, so the pressure difference is not the differential across the contraction; "
-                      "give viscous.taps = [upstream x, x in the throat] (ISO 5167 wall tappings)")
+                      "give viscous.taps = [upstream x, x in the throat] (ISO 5167 wall tappings). A thin orifice plate has "
+                      "no throat: its downstream tapping reads the pressure of the separated jet, which a potential flow "
+                      "that fills the pipe again behind the plate does not give")
     rho = flow.inlet_density
     (p1, u1), (p2, u2) = _station_pressures(flow, tables, taps)
     if chains is not None:
