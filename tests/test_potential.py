@@ -301,6 +301,7 @@ def test_nested_dissection_factor_solves_with_less_fill_than_superlus_own_order(
     for rhs in (b[:, 0], b):
         x = factor(rhs)
         assert np.linalg.norm(K @ x - rhs) <= 1e-9 * np.linalg.norm(rhs)
+    assert np.array_equal(factor.position[order], np.arange(mesh.n_cells))
     xp = factor.solve_ordered(b[order])
     assert np.allclose(xp, factor(b)[order], rtol=0, atol=1e-12 * np.abs(xp).max())
     fill = factor.lu.L.nnz + factor.lu.U.nnz

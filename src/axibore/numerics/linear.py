@@ -126,6 +126,14 @@ class OrderedFactor:
             self.lu = spla.splu(K.tocsc())
             self.order = np.arange(K.shape[0])
 
+    @property
+    def position(self) -> np.ndarray:
+        """Where each unknown sits in the factor's order: ``bp[position[i]] = b[i]``."""
+        if not hasattr(self, "_position"):
+            self._position = np.empty_like(self.order)
+            self._position[self.order] = np.arange(self.order.size)
+        return self._position
+
     def solve_ordered(self, bp: np.ndarray) -> np.ndarray:
         return self.lu.solve(np.asfortranarray(bp))
 

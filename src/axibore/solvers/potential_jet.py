@@ -73,7 +73,7 @@ class PotentialJet:
         m0, m2, dm0 = self._momentum(mesh, phi)
         return JetField(mesh, phi, self.data, jet, jet.value(phi, self.data),
                         jet.Dt @ phi + jet.dt_data * self.data[self.jet_faces], m0, m2, dm0, solve_rhs,
-                        ops.R.tocsc()[:, self.jet_faces])  # (C, m)
+                        ops.R[:, self.jet_faces])  # (C, m) csr
 
     def response(self, field: JetField, g: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """(jet face values, M0) changes for normal velocities ``g`` (m, k) on the jet faces.
@@ -82,13 +82,11 @@ class PotentialJet:
         and the momentum boundaries only: the (C, k) right-hand side is written and the solution read
         on those rows, in the factor's order (no dense (C, k) permutation or product)."""
         g = np.atleast_2d(np.asarray(g, float).T).T
-        factor = field.solve_rhs
-        position = np.empty_like(factor.order)
-        position[factor.order] = np.arange(factor.order.size)
-        R = field.R_jet.tocoo()
-        written = np.unique(R.row)
+        factor, R = field.solve_rhs, field.R_jet
+        position = factor.position
+        written = np.flatnonzero(np.diff(R.indptr))  # the cells whose balance the jet's data enter
         rhs = np.zeros((field.mesh.n_cells, g.shape[1]), order="F")
-        rhs[position[written]] = field.R_jet.tocsr()[written] @ g
+        rhs[position[written]] = R[written] @ g
         x = factor.solve_ordered(rhs)
         V = field.jet.V.tocsr()
         read = np.union1d(V.indices, np.flatnonzero(field.dmomentum0))
