@@ -198,3 +198,48 @@ def test_an_inlet_plane_on_the_cone_is_warned_of(nozzle_dict):
     assert any(words in w for w in solve_case(case_from_dict(d)).summary()["warnings"])
     d["bore"]["inlet_length"] = "120 mm"
     assert not any(words in w for w in solve_case(case_from_dict(d)).summary()["warnings"])
+
+
+def test_polyline_queries_equal_the_all_pairs_answer():
+    # crossings (sorted sweep) and arc_length (k-d tree candidates) against the definition on every
+    # pair of query and segment: random walks that run backwards in x, vertical and zero-length
+    # segments, a dense stretch beside one long segment, and queries on, near and far off the line.
+    # A candidate set that misses the nearest segment, or a crossing lost at a segment's end, fails.
+    from axibore.geometry.polyline import arc_length, crossings
+
+    def brute_arc(p, poly):
+        a, d = poly[:-1], np.diff(poly, axis=0)
+        L = np.linalg.norm(d, axis=1)
+        t = np.clip(((p[:, None] - a) * d).sum(-1) / np.where(L > 0, L * L, 1.0), 0, 1)
+        dist = ((p[:, None] - (a + t[..., None] * d)) ** 2).sum(-1)
+        k = np.argmin(dist, axis=1)
+        return np.r_[0, np.cumsum(L)][k] + t[np.arange(len(p)), k] * L[k]
+
+    def brute_cross(poly, x, reduce, fill):
+        out = np.full(x.size, fill)
+        for (x0, r0), (x1, r1) in zip(poly[:-1], poly[1:]):
+            if x1 == x0:
+                continue
+            lo, hi = min(x0, x1), max(x0, x1)
+            inside = (x >= lo - 1e-12) & (x <= hi + 1e-12)
+            r = r0 + np.clip((x - x0) / (x1 - x0), 0, 1) * (r1 - r0)
+            out = np.where(inside, reduce(out, r), out)
+        return out
+
+    rng = np.random.default_rng(7)
+    for trial in range(60):
+        n = int(rng.integers(2, 200))
+        if trial % 3 == 0:
+            poly = np.cumsum(rng.normal(size=(n, 2)), 0)
+        elif trial % 3 == 1:
+            x = np.r_[0.0, np.sort(rng.uniform(5, 6, n)), 20.0]
+            poly = np.c_[x, 1 + 0.3 * np.sin(x)]
+        else:
+            x = np.repeat(np.arange(n // 2 + 1), 2)[:n].astype(float)
+            poly = np.vstack([np.c_[x, rng.uniform(0, 1, x.size)], [[x[-1], 0.5]] * 2])
+        on = poly[rng.integers(0, len(poly), 20)]
+        p = np.vstack([on, on + rng.normal(scale=1e-6, size=on.shape), on + rng.normal(scale=3.0, size=on.shape)])
+        np.testing.assert_allclose(arc_length(p, poly), brute_arc(p, poly), rtol=0, atol=1e-12)
+        xq = np.r_[rng.uniform(poly[:, 0].min() - 1, poly[:, 0].max() + 1, 60), poly[:, 0]]
+        for reduce, fill in ((np.minimum, np.inf), (np.maximum, -np.inf)):
+            np.testing.assert_allclose(crossings(poly, xq, reduce, fill), brute_cross(poly, xq, reduce, fill), rtol=0, atol=1e-12)

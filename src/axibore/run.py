@@ -54,7 +54,6 @@ class RunResult:
     onedim: OneDimComparison
     checks: Checks
     seconds: dict[str, float] = field(default_factory=dict)
-    mesh_quality: dict = field(default_factory=dict)
     joints: list[JointLoad] = field(default_factory=list)
     jet_reaction_N: float | None = None
     viscous: ViscousResult | None = None
@@ -65,6 +64,11 @@ class RunResult:
 
     def summary(self) -> dict:
         return build_summary(self)
+
+    @cached_property
+    def mesh_quality(self) -> dict:
+        """Non-orthogonality, aspect ratio, skewness, sizes (computed when asked for: summary.json)."""
+        return self.mesh.quality()
 
     @cached_property
     def stream_function(self) -> np.ndarray:
@@ -110,7 +114,7 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
             chk.warnings.append(str(exc))
         sec["viscous"] = time.perf_counter() - t
     jt = jet_table(flow, profile, solved.jet.lip_faces) if solved.jet is not None else None
-    return RunResult(case, profile, build.mesh, build, flow, tables, frc, od, chk, sec, build.mesh.quality(),
+    return RunResult(case, profile, build.mesh, build, flow, tables, frc, od, chk, sec,
                      joint_loads(case, profile, flow, tables), jet_reaction(case, flow), viscous, solved.jet,
                      solved.comparison, jt, hand_answer(case, profile, flow))
 

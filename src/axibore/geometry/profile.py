@@ -18,6 +18,7 @@ from functools import cached_property
 import numpy as np
 
 from ..names import Boundary
+from .polyline import crossings, min_distance
 
 # samples per arc / spline span used for validation and 1D areas (not for meshing)
 _ARC_SAMPLES = 48
@@ -250,12 +251,12 @@ class Profile:
         """Smallest wall radius crossing each x (the bore radius seen by a 1D model); past a lip, the
         free jet's radius where the profile has one."""
         pts = self.wall_points if not self.jet else np.vstack([self.wall_points, self.chain_points("jet")[1:]])
-        return _crossings(pts, np.asarray(x, float), np.minimum, np.inf)
+        return crossings(pts, np.asarray(x, float), np.minimum, np.inf)
 
     def centerbody_radius(self, x: np.ndarray) -> np.ndarray:
         if not self.centerbody:
             return np.zeros_like(np.asarray(x, float))
-        out = _crossings(self.centerbody_points, np.asarray(x, float), np.maximum, -np.inf)
+        out = crossings(self.centerbody_points, np.asarray(x, float), np.maximum, -np.inf)
         return np.where(np.isfinite(out), out, 0.0)
 
     def flow_area(self, x) -> np.ndarray:
@@ -277,7 +278,7 @@ class Profile:
         w = self.wall_points
         h = float(w[:, 1].min())
         if self.centerbody:
-            h = min(h, _min_distance(w, self.centerbody_points))
+            h = min(h, min_distance(w, self.centerbody_points))
         return h
 
     def corners(self, min_turn_deg: float = 2.0) -> list[Corner]:
@@ -300,38 +301,6 @@ class Profile:
 def _chain_points(chain) -> np.ndarray:
     pts = [chain[0].sample()[:1]] + [s.sample()[1:] for s in chain]
     return np.vstack(pts)
-
-
-def _crossings(pts: np.ndarray, x: np.ndarray, reduce, fill) -> np.ndarray:
-    """Reduce (min or max) the r of every polyline crossing of each x."""
-    x0, x1 = pts[:-1, 0], pts[1:, 0]
-    r0, r1 = pts[:-1, 1], pts[1:, 1]
-    lo, hi = np.minimum(x0, x1), np.maximum(x0, x1)
-    span = np.where(hi - lo > 0, hi - lo, 1.0)
-    out = np.full(x.shape, fill)
-    for start in range(0, x.size, 2048):  # blocks keep memory bounded for long inputs
-        xs = x.ravel()[start : start + 2048, None]
-        inside = (xs >= lo - 1e-12) & (xs <= hi + 1e-12) & (hi - lo > 0)
-        t = np.clip((xs - np.where(x0 <= x1, x0, x1)) / span, 0.0, 1.0)
-        r = np.where(x0 <= x1, r0 + t * (r1 - r0), r1 + t * (r0 - r1))
-        r = np.where(inside, r, fill)
-        out.ravel()[start : start + 2048] = reduce.reduce(r, axis=1)
-    return out
-
-
-def _min_distance(a: np.ndarray, b: np.ndarray) -> float:
-    """Smallest distance between two polylines (points of each to segments of the other)."""
-    return min(_points_to_segments(a, b).min(), _points_to_segments(b, a).min())
-
-
-def _points_to_segments(p: np.ndarray, poly: np.ndarray) -> np.ndarray:
-    a, b = poly[:-1], poly[1:]
-    d = b - a
-    dd = np.einsum("ij,ij->i", d, d)
-    dd = np.where(dd > 0, dd, 1.0)
-    t = np.clip(((p[:, None, :] - a[None]) * d[None]).sum(-1) / dd[None], 0.0, 1.0)
-    q = a[None] + t[..., None] * d[None]
-    return np.sqrt(((p[:, None, :] - q) ** 2).sum(-1)).min(axis=1)
 
 
 # ---- the exact throat ---------------------------------------------------------------------------

@@ -14,7 +14,8 @@ from pathlib import Path
 import numpy as np
 
 from ..textin import InputError, read_input_text
-from .profile import GEOMETRY_TOL, Profile, ProfileError, Segment
+from .polyline import min_distance
+from .profile import GEOMETRY_TOL, Profile, ProfileError, Segment, _chain_points
 from .validate import validate, validate_free_jet
 
 # Contraction curve of the "contoured" template: the fifth-order polynomial
@@ -316,6 +317,4 @@ def build_profile(bore, base_dir: Path | None = None, free_jet: bool = False) ->
 
 
 def _gap(wall, body) -> float:
-    from .profile import _chain_points, _min_distance
-
-    return _min_distance(_chain_points(wall), _chain_points(body))
+    return min_distance(_chain_points(wall), _chain_points(body))

@@ -9,6 +9,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..geometry import Profile
+from ..geometry.polyline import arc_length
 from ..names import SOLID, Boundary
 from .base import FlowResult
 
@@ -44,24 +45,6 @@ class WallTable:
             "x_m": self.x, "r_m": self.r, "s_m": self.s, "p_gauge_Pa": self.pressure, "speed_m_s": self.speed,
             "n_x": self.nx, "n_r": self.nr, "face_length_m": self.length, "cumulative_force_x_N": self.cumulative_force,
         }
-
-
-def arc_length(points: np.ndarray, polyline: np.ndarray) -> np.ndarray:
-    """Arc-length coordinate along ``polyline`` of the nearest point to each of ``points``."""
-    a, b = polyline[:-1], polyline[1:]
-    d = b - a
-    seg_len = np.linalg.norm(d, axis=1)
-    cum = np.r_[0.0, np.cumsum(seg_len)]
-    dd = np.where(seg_len > 0, seg_len**2, 1.0)
-    out = np.empty(len(points))
-    for s in range(0, len(points), 512):
-        p = points[s : s + 512]
-        t = np.clip(((p[:, None, :] - a[None]) * d[None]).sum(-1) / dd[None], 0.0, 1.0)
-        q = a[None] + t[..., None] * d[None]
-        dist = ((p[:, None, :] - q) ** 2).sum(-1)
-        k = np.argmin(dist, axis=1)
-        out[s : s + 512] = cum[k] + t[np.arange(len(p)), k] * seg_len[k]
-    return out
 
 
 def wall_table(flow: FlowResult, profile: Profile, name: str = Boundary.WALL) -> WallTable:

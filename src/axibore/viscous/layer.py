@@ -186,6 +186,13 @@ def _turbulent(s, s_start, theta_start, H_start, ue, due, r, dr, nu, H_sep):
         return out_theta, out_H, None
     sl, uel, duel, rl, drl, nul = (a.tolist() for a in (s, ue, due, r, dr, nu))
     knee, pw_lo, pw_hi = _H1_KNEE, -1.0 / 1.287, -1.0 / 3.064
+    # the edge state in the middle and at the end of a step over a whole interval, for every interval
+    # at once (the same arithmetic as state_at, so the same floats; a step from a station starts
+    # from the station's own values, which state_at gives exactly at t = 0)
+    gap = s[1:] - s[:-1]
+    whole = {"mid": _hermite_states(s, ue, due, r, dr, nu, s[:-1] + 0.5 * gap),
+             "end": _hermite_states(s, ue, due, r, dr, nu, s[:-1] + gap)}
+    at_station = list(zip(uel, duel, rl, drl, nul))
 
     def H_of(H1):
         x = max(H1 - 3.3, 1e-12)
@@ -223,8 +230,11 @@ def _turbulent(s, s_start, theta_start, H_start, ue, due, r, dr, nu, H_sep):
             if x_end - x - h < 1e-12 * (x_end - sl[i]):
                 h = x_end - x
             # the edge state at the step's start, middle and end (the start is the last step's end)
-            s0 = s_end if s_end_at == (i, x) else state_at(i, x)
-            s_mid, s_end = state_at(i, x + 0.5 * h), state_at(i, x + h)
+            if x == sl[i] and h == x_end - x:
+                s0, s_mid, s_end = at_station[i], whole["mid"][i], whole["end"][i]
+            else:
+                s0 = s_end if s_end_at == (i, x) else state_at(i, x)
+                s_mid, s_end = state_at(i, x + 0.5 * h), state_at(i, x + h)
             s_end_at = (i, x + h)
             k1 = rhs(s0, th, H1)
             k2 = rhs(s_mid, th + 0.5 * h * k1[0], H1 + 0.5 * h * k1[1])
@@ -240,6 +250,20 @@ def _turbulent(s, s_start, theta_start, H_start, ue, due, r, dr, nu, H_sep):
         out_theta[i] = th
         out_H[i] = H_of(H1)
     return out_theta, out_H, None
+
+
+def _hermite_states(s, ue, due, r, dr, nu, x) -> list[tuple]:
+    """``_turbulent``'s state_at(i, x[i]) for every interval i, vectorised (the same expressions)."""
+    s0, h = s[:-1], s[1:] - s[:-1]
+    t = (x - s0) / h
+    t2, t3 = t * t, t * t * t
+    h00, h10, h01, h11 = 2 * t3 - 3 * t2 + 1, t3 - 2 * t2 + t, -2 * t3 + 3 * t2, t3 - t2
+    d00, d10, d01, d11 = (6 * t2 - 6 * t) / h, 3 * t2 - 4 * t + 1, (6 * t - 6 * t2) / h, 3 * t2 - 2 * t
+    u = h00 * ue[:-1] + h10 * h * due[:-1] + h01 * ue[1:] + h11 * h * due[1:]
+    du = d00 * ue[:-1] + d10 * due[:-1] + d01 * ue[1:] + d11 * due[1:]
+    rr = h00 * r[:-1] + h10 * h * dr[:-1] + h01 * r[1:] + h11 * h * dr[1:]
+    dr_ = d00 * r[:-1] + d10 * dr[:-1] + d01 * r[1:] + d11 * dr[1:]
+    return list(zip(u.tolist(), du.tolist(), rr.tolist(), dr_.tolist(), (nu[:-1] + t * (nu[1:] - nu[:-1])).tolist()))
 
 
 def march(

@@ -77,7 +77,7 @@ import numpy as np
 
 from ..fluids.viscosity import SUTHERLAND, viscosity
 from ..solvers.base import FlowError
-from ..solvers.walls import arc_length
+from ..geometry.polyline import arc_length
 from . import layer as L
 from .results import (RESTART_CORNER_DEG, RESTART_CORNER_TOL_DEG, SMOOTH_FACES, SMOOTH_THETAS,
                       TURBULENT_ORIGIN_RE_THETA, ChainLayer, ViscousSettings)
