@@ -17,6 +17,13 @@ from .results import CAUTION, G_STANDARD, THICK_LAYER, ChainLayer, Coupling, Lay
 
 COUPLING_MAX_ITERATIONS = 25
 COUPLING_RELAXATION = 1.0  # the first step undamped: the map B -> B is a weak contraction where the layer is attached
+# later steps: Aitken's dynamic relaxation in the vector form of Irons & Tuck (1969, "A version of the Aitken
+# accelerator for computer iteration", Int. J. Numer. Meth. Eng. 1, 275-277), omega_k = -omega_(k-1)
+# r_(k-1).(r_k - r_(k-1)) / |r_k - r_(k-1)|^2, r = B_new - B: the secant of the map along the last step. For a map of
+# slope s the exact factor is 1/(1 - s); the range below trusts slopes from -4 to 1/3. A pipe's layer speeds up its own
+# core (a favourable gradient that thins it): slopes near -0.4, so plain substitution alternates and loses 0.4 a step.
+# On seven bores (level 1) the marches fell from 34 to 29 in all (nozzles 6 -> 4 and 8 -> 6, a reducer 4 -> 3)
+COUPLING_OMEGA_RANGE = (0.2, 1.5)
 COUPLING_TOLERANCE = 1e-3  # on the blockage B at every face
 MAX_BLOCKAGE = 0.5
 # the downstream station of the discharge coefficient lies at the narrowest section when its flow area is within
@@ -53,7 +60,7 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
                    ) -> tuple[dict[str, ChainLayer], Coupling]:
     """The layers of all chains. With ``coupling = "blockage"`` the edge speed is the inviscid wall
     speed over (1 - B), B the displacement blockage of the section (continuity in the core: a
-    quasi-1D interaction), found by under-relaxed fixed-point iteration."""
+    quasi-1D interaction), found by fixed-point iteration with Aitken relaxation (COUPLING_OMEGA_RANGE)."""
     first = {n: march_chain(n, t, *props[n], settings, profile, planar) for n, t in tables.items()}
     chains = {n: v[0] for n, v in first.items()}
     widths = {n: v[1] for n, v in first.items()}
@@ -64,7 +71,7 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
         return chains, Coupling("none", True, 0, 0.0, COUPLING_TOLERANCE, 0.0,
                                 "none: the wall runs backwards in x, so a section's blockage is not defined")
     B = {n: np.zeros(t.s.size) for n, t in tables.items()}
-    change, last, omega = float("inf"), float("inf"), COUPLING_RELAXATION
+    change, omega, last_step = float("inf"), COUPLING_RELAXATION, None
     def attached(c):  # attached, and not within two faces upstream of a separation
         sep = c.state == L.SEPARATED
         near = sep.copy()
@@ -85,10 +92,15 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
         change = max(float(np.max(np.abs(Bn[n] - B[n])[att[n]])) if att[n].any() else 0.0 for n in B)
         if change < COUPLING_TOLERANCE:
             break
-        if change > last or abs(change - last) < 0.02 * last:  # growing, or stuck in a cycle: relax harder
-            omega = max(0.5 * omega, 0.05)
-        last = change
-        B = {n: B[n] + omega * (Bn[n] - B[n]) for n in B}
+        step = {n: Bn[n] - B[n] for n in B}
+        if last_step is not None:  # Aitken: the secant of the map along the last step (above)
+            dr = {n: step[n] - last_step[n] for n in B}
+            den = sum(float(dr[n] @ dr[n]) for n in B)
+            if den > 0.0:
+                omega = -omega * sum(float(last_step[n] @ dr[n]) for n in B) / den
+                omega = min(max(omega, COUPLING_OMEGA_RANGE[0]), COUPLING_OMEGA_RANGE[1])
+        last_step = step
+        B = {n: B[n] + omega * step[n] for n in B}
         res = {n: march_chain(n, t, *props[n], settings, profile, planar, t.speed / (1.0 - B[n]), widths[n])
                for n, t in tables.items()}
         chains = {n: v[0] for n, v in res.items()}
