@@ -46,12 +46,14 @@ transition. A boundary-layer estimate is not a turbulence-resolving simulation.
 
 from __future__ import annotations
 
+import bisect
 import math
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from .closure import (  # noqa: F401  (LAMINAR ... turbulent_cf are this module's names too)
+    _FP_LIST,
     _H1_KNEE,
     _turbulent_cf_scalar,
     head_H,
@@ -210,11 +212,24 @@ def _turbulent(s, s_start, theta_start, H_start, ue, due, r, dr, nu, H_sep):
         dr_ = d00 * rl[i] + d10 * drl[i] + d01 * rl[i + 1] + d11 * drl[i + 1]
         return u, du, rr, dr_, nul[i] + t * (nul[i + 1] - nul[i])
 
+    lr, lc, lh, last = _FP_LIST[0], _FP_LIST[1], _FP_LIST[2], len(_FP_LIST[0]) - 2
+    log, exp, bisect_right = math.log, math.exp, bisect.bisect_right
+
     def rhs(state, theta, H1):
         theta = max(theta, 1e-300)
         u, du, rr, dr_, nu_x = state
-        H = H_of(H1)
-        cf = _turbulent_cf_scalar(H, u * theta / nu_x)
+        x = max(H1 - 3.3, 1e-12)  # H_of(H1), inline (the march's inner loop)
+        H = 1.1 + (x / 0.8234) ** pw_lo if H1 >= knee else 0.6778 + (x / 1.5501) ** pw_hi
+        # _turbulent_cf_scalar(H, u theta / nu), inline
+        lx = log(max(u * theta / nu_x, 1.0))
+        j = bisect_right(lr, lx) - 1
+        if j < 0:
+            j, t = 0, 0.0
+        elif j > last:
+            j, t = last, 1.0
+        else:
+            t = (lx - lr[j]) / (lr[j + 1] - lr[j])
+        cf = exp(lc[j] + t * (lc[j + 1] - lc[j])) * 10.0 ** (-0.678 * (H - (lh[j] + t * (lh[j + 1] - lh[j]))))
         dtheta = 0.5 * cf - (H + 2.0) * theta / u * du - theta / rr * dr_
         dH1 = 0.0306 * max(H1 - 3.0, 1e-12) ** -0.6169 / theta - H1 * (dr_ / rr + du / u + dtheta / theta)
         return dtheta, dH1
