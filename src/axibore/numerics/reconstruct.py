@@ -38,11 +38,11 @@ def stencils(mesh: FVMesh, faces: np.ndarray) -> np.ndarray:
     """(m, K) padded (-1) cell ids within the fit's rings of face neighbours of each face's owner."""
     rings = RINGS_TRIANGLES if np.mean(mesh.nvert == 3) > 0.5 else RINGS_QUADS
     A = mesh.cell_neighbours()
-    A = (A + sp.identity(mesh.n_cells, format="csr")).tocsr()
     own = mesh.owner[faces]
-    R = A[own]
+    # the rows of (A + I)^rings at the owners, without forming A + I over the whole mesh
+    R = A[own] + sp.csr_matrix((np.ones(own.size), (np.arange(own.size), own)), shape=(own.size, mesh.n_cells))
     for _ in range(rings - 1):
-        R = R @ A
+        R = R @ A + R
     R = R.tocsr()
     R.sort_indices()
     counts = np.diff(R.indptr)
