@@ -295,6 +295,8 @@ def march(
     turbulent_start_H: float = TURBULENT_START_H,
     rho=None,
     bubble_re_delta_star: float | None = None,
+    edge_rho=None,
+    turbulent_state: tuple | None = None,
 ) -> WallLayer:
     """March the wall layer along the wall.
 
@@ -309,6 +311,14 @@ def march(
     displacement-thickness Reynolds number ue delta*/nu at or above this value forms a short separation
     bubble: transition is placed at the laminar separation and the layer goes on turbulent (theta
     continuous) instead of being marked separated (``bubble_s``). See ``SHORT_BUBBLE_RE_DELTA_STAR``.
+    edge_rho, turbulent_state: a gas layer by reference states (``march._reference_state``): ``rho`` and
+    ``nu`` are then the laminar part's reference state, ``turbulent_state`` = (rho_t, nu_t) the turbulent
+    part's, and ``edge_rho`` the density at the layer's edge. Each part is marched in its own reference
+    variables, in which the momentum thickness is theta_ref = theta rho_e/rho_ref (on a flat plate the march
+    integrates d theta_ref/ds = cf_ref/2 = tau_w/(rho_ref ue^2), where the momentum balance of the layer is
+    d theta/ds = tau_w/(rho_e ue^2); derived); theta (continuous at transition), delta* = H theta and cf =
+    2 tau_w/(rho_e ue^2) come out at the edge state, theta0 goes in at it, and Re_theta is the closure's
+    ue theta_ref/nu_ref.
     """
     from scipy.interpolate import PchipInterpolator
 
@@ -336,6 +346,16 @@ def march(
 
     due = PchipInterpolator(s, ue).derivative()(s)
     dr = np.zeros(n) if planar else PchipInterpolator(s, r).derivative()(s)
+    gas = edge_rho is not None
+    if gas:
+        rho_e = np.broadcast_to(np.asarray(edge_rho, dtype=float), s.shape)
+        rho_l = np.broadcast_to(np.asarray(rho, dtype=float), s.shape)
+        rho_t, nu_t = (np.broadcast_to(np.asarray(a, dtype=float), s.shape) for a in (turbulent_state or (rho_l, nu)))
+        if theta0 is not None:  # given at the edge state: into the reference variables of the part that starts
+            theta0 = float(theta0 * rho_e[0] / (rho_t[0] if start == "turbulent" else rho_l[0]))
+    else:
+        rho_l = rho_t = None
+        nu_t = nu
 
     state = np.full(n, LAMINAR, dtype=np.int8)
     theta = np.full(n, np.nan)
@@ -394,6 +414,8 @@ def march(
             state[n_lam:] = SEPARATED
         elif n_lam < n:
             th_tr = float(np.interp(transition_s, s, th_l))
+            if gas:  # theta continuous at the edge state: from the laminar part's reference variables to the turbulent's
+                th_tr *= float(np.interp(transition_s, s, rho_l)) / float(np.interp(transition_s, s, rho_t))
             s_start, th_start = transition_s, th_tr
     else:
         n_lam = 0
@@ -402,7 +424,7 @@ def march(
     if n_lam < n and separation_kind is None:
         mask = np.arange(n) >= n_lam
         th_t, H_t, s_tsep = _turbulent(
-            s, s_start, th_start, turbulent_start_H, ue, due, r, dr, nu, turbulent_separation_H
+            s, s_start, th_start, turbulent_start_H, ue, due, r, dr, nu_t, turbulent_separation_H
         )
         at_start = np.isclose(s, s_start, rtol=0.0, atol=1e-12 * max(1.0, abs(s_start))) & mask
         th_t[at_start] = th_start
@@ -418,16 +440,23 @@ def march(
             H[gone] = np.nan
             state[gone] = SEPARATED
         good = mask & (state == TURBULENT)
-        cf[good] = turbulent_cf(H[good], ue[good] * theta[good] / nu[good])
-        lam[good] = theta[good] ** 2 / nu[good] * due[good]
+        cf[good] = turbulent_cf(H[good], ue[good] * theta[good] / nu_t[good])
+        lam[good] = theta[good] ** 2 / nu_t[good] * due[good]
 
-    re_theta = ue * theta / nu
+    turb = state == TURBULENT
+    re_theta = ue * theta / np.where(turb, nu_t, nu)
     tau_w = None
     if rho is not None:
         rho_a = np.broadcast_to(np.asarray(rho, dtype=float), s.shape)
+        if gas:
+            rho_a = np.where(turb, rho_t, rho_l)
         tau_w = 0.5 * rho_a * ue**2 * cf
         if start == "laminar" and ue[0] == 0.0 and state[0] == LAMINAR:
             tau_w[0] = 0.0  # stagnation point: mu ue l/theta with ue = 0
+    if gas:  # from the reference variables to the edge state (see the docstring)
+        ratio = np.where(turb, rho_t, rho_l) / rho_e
+        theta = theta * ratio
+        cf = cf * ratio
     if start == "laminar" and theta[0] == 0.0:
         notes.append("sharp leading edge at the first station: wall shear infinite there (NaN)")
     if separation_kind is not None:

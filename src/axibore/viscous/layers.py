@@ -11,7 +11,7 @@ import numpy as np
 
 from ..names import Boundary
 from . import layer as L
-from .march import MIN_LAYER_RE, _face_index, _reference_state, _viscosity, march_chain, perimeter
+from .march import MIN_LAYER_RE, LayerProperties, _face_index, _reference_state, _viscosity, march_chain, perimeter
 from .results import CAUTION, G_STANDARD, THICK_LAYER, ChainLayer, Coupling, LayerWithheld, ViscousResult, ViscousSettings
 
 
@@ -61,7 +61,7 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
     """The layers of all chains. With ``coupling = "blockage"`` the edge speed is the inviscid wall
     speed over (1 - B), B the displacement blockage of the section (continuity in the core: a
     quasi-1D interaction), found by fixed-point iteration with Aitken relaxation (COUPLING_OMEGA_RANGE)."""
-    first = {n: march_chain(n, t, *props[n], settings, profile, planar) for n, t in tables.items()}
+    first = {n: march_chain(n, t, props[n], settings, profile, planar) for n, t in tables.items()}
     chains = {n: v[0] for n, v in first.items()}
     widths = {n: v[1] for n, v in first.items()}
     if settings.coupling != "blockage":
@@ -101,7 +101,7 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
                 omega = min(max(omega, COUPLING_OMEGA_RANGE[0]), COUPLING_OMEGA_RANGE[1])
         last_step = step
         B = {n: B[n] + omega * step[n] for n in B}
-        res = {n: march_chain(n, t, *props[n], settings, profile, planar, t.speed / (1.0 - B[n]), widths[n])
+        res = {n: march_chain(n, t, props[n], settings, profile, planar, t.speed / (1.0 - B[n]), widths[n])
                for n, t in tables.items()}
         chains = {n: v[0] for n, v in res.items()}
         widths = {n: v[1] for n, v in res.items()}
@@ -212,10 +212,9 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
         bv = flow.boundary[name]
         rho = bv.density[_face_index(bv.faces, table.faces)]
         if flow.compressible:
-            rho, nu, k = _reference_state(case, table.pressure + case.ambient_pressure, rho, table.speed)
+            props[name] = _reference_state(case, table.pressure + case.ambient_pressure, rho, table.speed)
         else:
-            nu, k = np.full(table.s.size, mu_in / rho_in), np.zeros(table.s.size)
-        props[name] = (rho, nu, k)
+            props[name] = LayerProperties(rho, np.full(table.s.size, mu_in / rho_in), np.zeros(table.s.size))
     chains, coupling = coupled_layers(tables, props, settings, profile, planar)
     coupling_note = coupling.note
 
@@ -321,7 +320,8 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
     notes += [
         "wall layer: Thwaites (laminar, axisymmetric form of Rott & Crabtree), Michel's transition, Head's entrainment "
         "method with the flat-plate friction of Schlichting in Re_theta and the shape dependence of Ludwieg & "
-        "Tillmann (turbulent), marched on the smoothed inviscid wall speed; gases at Eckert's reference temperature",
+        "Tillmann (turbulent), marched on the smoothed inviscid wall speed; gases on an adiabatic wall at reference states (laminar: "
+        "Eckert's temperature; turbulent: the state that gives van Driest II), thicknesses and cf at the edge state",
         "friction_x_N: wall shear integrated over the wall, by the fluid on the part, +x downstream; separated faces "
         "count with no shear",
     ]

@@ -40,8 +40,9 @@ coefficient is at most the inviscid one. Where an approach layer given by the us
 upstream station, the quasi-1D estimate could exceed the inviscid value (the approach-velocity-
 profile effect); the number is then withheld with the reason. The loss coefficient comes from the
 growth of the deficit fluxes (each run's largest, the energy equation allowing no fall), withheld
-if the total would be negative. Gases: the reference-temperature method of Eckert (1955) on an
-adiabatic wall (``_reference_state``).
+if the total would be negative. Gases, on an adiabatic wall (``_reference_state``): the laminar part
+at Eckert's (1955) reference temperature, the turbulent part at the reference state that gives van
+Driest II (1956); thickness and friction are reported at the edge state.
 
 Derived quantities
 ------------------
@@ -72,6 +73,7 @@ Derived quantities
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -166,18 +168,47 @@ AIR_PRANDTL = 0.71  # Prandtl number of air near room temperature (a property; W
 RECOVERY_EXPONENT = 1.0 / 3.0  # r = Pr^(1/3), turbulent layers (laminar: Pr^(1/2), 0.84 for air; T* changes < 0.5 % at M 1)
 
 
-def _reference_state(case, p_abs: np.ndarray, rho_e: np.ndarray, ue: np.ndarray):
-    """A gas layer by the reference-temperature method: the incompressible integral relations with the
-    density and viscosity at Eckert's reference temperature (Eckert 1955, J. Aeronaut. Sci. 22(8),
-    "Engineering relations for friction and heat transfer to surfaces in high velocity flow"; as given by
-    Anderson, Fundamentals of Aerodynamics, ch. 18, eq. 18.53):
-        T*/Te = 1 + 0.032 Me^2 + 0.58 (Tw/Te - 1),
-    on an adiabatic wall, Tw = Taw = Te (1 + r (gamma - 1)/2 Me^2), r the recovery factor. The edge state
-    (p, rho, speed) is the Euler solution's at the wall face; Te = p/(rho R). Returns the reference
-    density rho* = rho_e Te/T* (same pressure), nu* = mu(T*)/rho*, and k = r (gamma - 1)/2 Me^2, for the
-    shape factor of the compressible layer H = H_i + k (H_i + 1): from delta* = int (T/Te - u/Ue) dY and
-    theta = int u/Ue (1 - u/Ue) dY in Howarth-Dorodnitsyn's variable dY = rho/rho_e dy, with the Crocco-
-    Busemann temperature T/Te = 1 + r (gamma - 1)/2 Me^2 (1 - u^2/Ue^2) of an adiabatic wall (derived)."""
+@dataclass(frozen=True, eq=False)
+class LayerProperties:
+    """Density and kinematic viscosity at each face of a chain for the layer's integral relations: a
+    liquid's own; a gas layer's at reference states (``_reference_state``), with the edge density."""
+
+    rho: np.ndarray  # [kg/m^3] a liquid's density; a gas: the laminar relations' reference density
+    nu: np.ndarray  # [m^2/s] the same for the kinematic viscosity
+    k: np.ndarray  # gas: r (gamma - 1)/2 Me^2, for the compressible shape factor H = H_i + k (H_i + 1); liquids 0
+    rho_edge: np.ndarray | None = None  # gas: the density at the layer's edge (the Euler solution's at the wall)
+    turbulent: tuple[np.ndarray, np.ndarray] | None = None  # gas: (rho, nu) of the turbulent relations
+
+    @property
+    def density(self) -> np.ndarray:
+        """The fluid's density at the layer's edge (momentum and energy fluxes of the layer)."""
+        return self.rho if self.rho_edge is None else self.rho_edge
+
+
+def _reference_state(case, p_abs: np.ndarray, rho_e: np.ndarray, ue: np.ndarray) -> LayerProperties:
+    """A gas layer by reference states: the incompressible integral relations with a density and viscosity
+    at which they give the compressible layer's wall shear (``layer.march``, ``edge_rho``), on an adiabatic
+    wall, Taw = Te (1 + k), k = r (gamma - 1)/2 Me^2, r the recovery factor. The edge state (p, rho, speed)
+    is the Euler solution's at the wall face; Te = p/(rho R).
+
+    Laminar: Eckert's reference temperature (Eckert 1955, J. Aeronaut. Sci. 22(8), "Engineering relations
+    for friction and heat transfer to surfaces in high velocity flow"; as given by Anderson, Fundamentals of
+    Aerodynamics, ch. 18, eq. 18.53), T*/Te = 1 + 0.032 Me^2 + 0.58 (Tw/Te - 1), rho* = rho_e Te/T* (same
+    pressure), nu* = mu(T*)/rho*.
+
+    Turbulent: van Driest II (van Driest 1956, "The problem of aerodynamic heating", Aeronaut. Eng. Rev.
+    15(10); the best of twenty theories against the flat-plate data in Spalding & Chi 1964, J. Fluid Mech.
+    18, 117-143) in Spalding & Chi's form cf Fc = cf_i(Re_x F_Rx), F_Rx = F_Rtheta/Fc, F_Rtheta = mu_e/mu_w.
+    Fc, derived: van Driest's (1951) velocity du_vd = sqrt(rho/rho_w) du with the Crocco-Busemann temperature
+    T/Te = 1 + k (1 - u^2/ue^2) of an adiabatic wall gives u_vd = (ue/A) arcsin(A u/ue), A^2 = k/(1 + k); the
+    law of the wall in u_vd (wall units at Tw) then gives cf_e = cf_i (Te/Tw) (arcsin A / A)^2, so
+    Fc = k/arcsin^2 A (-> 1 as Me -> 0). The incompressible relations at a reference state (rho_t, mu_t) give
+    cf_e = (rho_t/rho_e) cf_i(rho_t ue x/mu_t) on a flat plate; equal to van Driest II for rho_t = rho_e/Fc,
+    mu_t = mu(Taw) (derived).
+
+    k also gives the shape factor of the compressible layer H = H_i + k (H_i + 1): from delta* = int (T/Te -
+    u/Ue) dY and theta = int u/Ue (1 - u/Ue) dY in Howarth-Dorodnitsyn's variable dY = rho/rho_e dy, with
+    the Crocco-Busemann temperature (derived)."""
     f = case.fluid
     Te = p_abs / (rho_e * f.gas_constant)
     M2 = ue**2 / (f.gamma * f.gas_constant * Te)
@@ -185,7 +216,11 @@ def _reference_state(case, p_abs: np.ndarray, rho_e: np.ndarray, ue: np.ndarray)
     k = r * 0.5 * (f.gamma - 1.0) * M2
     T_ref = Te * (1.0 + 0.032 * M2 + 0.58 * k)  # Taw/Te - 1 = k
     rho_ref = rho_e * Te / T_ref
-    return rho_ref, _gas_mu(case, T_ref) / rho_ref, k
+    A = np.sqrt(k / (1.0 + k))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        Fc = np.where(k > 1e-12, k / np.arcsin(A) ** 2, 1.0 + k)  # the limit 1 + k (1/3 + ...) as k -> 0
+    rho_t = rho_e / Fc
+    return LayerProperties(rho_ref, _gas_mu(case, T_ref) / rho_ref, k, rho_e, (rho_t, _gas_mu(case, Te * (1.0 + k)) / rho_t))
 
 
 def _tangent_x(table) -> np.ndarray:
@@ -276,7 +311,7 @@ def _energy_thickness(theta, H):
 # --- one chain -----------------------------------------------------------------------------------
 
 
-def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.ndarray, settings: ViscousSettings, profile,
+def march_chain(name: str, table, props: LayerProperties, settings: ViscousSettings, profile,
                 planar: bool, speed: np.ndarray | None = None, width: np.ndarray | None = None
                 ) -> tuple[ChainLayer, np.ndarray]:
     """The layer on one chain from the wall speed ``speed`` (default the table's), smoothed over
@@ -284,6 +319,8 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
     thickness). Returns the layer and the smoothing width its thickness calls for."""
     n = table.s.size
     speed = table.speed if speed is None else speed
+    rho, nu, kcomp = props.density, props.nu, props.k  # rho: the edge density (momentum and energy of the layer)
+    gas = props.rho_edge is not None
     width_next = np.full(n, SMOOTH_FACES)
     s_all, x_all, r_all = table.s, table.x, table.r
     perim = perimeter(r_all, planar)
@@ -330,10 +367,13 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
             s_run = np.r_[0.0, s_all[sel] - sb]
             ue_run = np.r_[0.0 if stagnation else u[0], u]
             r_run = np.r_[rb, r_all[sel]] if not planar else np.ones(sel.size + 1)
-            nu_run = np.r_[nu[sel[0]], nu[sel]]
-            rho_run = np.r_[rho[sel[0]], rho[sel]]
+            def run_values(a):
+                return np.r_[a[sel[0]], a[sel]][keep]
+
             keep = np.r_[True, np.diff(s_run) > 0]
-            s_run, ue_run, r_run, nu_run, rho_run = s_run[keep], ue_run[keep], r_run[keep], nu_run[keep], rho_run[keep]
+            s_run, ue_run, r_run = s_run[keep], ue_run[keep], r_run[keep]
+            nu_run, rho_run = run_values(nu), run_values(rho)
+            gas_states = dict(edge_rho=rho_run, turbulent_state=tuple(run_values(a) for a in props.turbulent)) if gas else {}
             face_in_run = sel[keep[1:]]
             if how == "start" and not stagnation:
                 th0 = _start_theta(settings, float(ue_run[0]), float(nu_run[0]), float(r_run[0]), planar)
@@ -349,8 +389,9 @@ def march_chain(name: str, table, rho: np.ndarray, nu: np.ndarray, kcomp: np.nda
                         s_tr = float(s_run[1])  # a sharp leading edge has no layer to trip at its very edge
                     tr = s_tr
             w = L.march(s_run, r_run, ue_run, nu_run, planar=planar, start=start, theta0=th0, transition=tr,
-                        turbulent_separation_H=settings.separation_shape_factor, rho=rho_run,
-                        bubble_re_delta_star=None if tr == "none" else L.SHORT_BUBBLE_RE_DELTA_STAR)
+                        turbulent_separation_H=settings.separation_shape_factor,
+                        rho=run_values(props.rho) if gas else rho_run,
+                        bubble_re_delta_star=None if tr == "none" else L.SHORT_BUBBLE_RE_DELTA_STAR, **gas_states)
             th = w.theta[1:]
             fin = np.isfinite(th)
             if not fin.any():
