@@ -159,6 +159,30 @@ def test_claim_names_the_foreign_files(tmp_path):
     assert [p.name for p in c.foreign] == ["a.txt"] and not c.own
 
 
+def test_another_writers_temporary_is_neither_foreign_nor_replaced(tmp_path):
+    # two sweeps sharing a folder: one checked the folder while the other was writing sweep.json and
+    # refused on the other's temporary ("holds files axibore did not write (.sweep...tmp)"). A live
+    # writer's temporary is passed over; a dead writer's is foreign (kept; --force writes beside it).
+    from axibore.io.files import atomic_write_text
+    from axibore.io.ownership import in_flight_prefix, owned_files, record
+
+    d = tmp_path / "sw"
+    atomic_write_text(d / "sweep.json", "{}\n")
+    record(d, "sweep", ["sweep.json"])
+    dead = 2**22 + 12345  # above Linux's pid_max: no such process
+    live = d / f"{in_flight_prefix('sweep')}abc123.tmp"
+    gone = d / f".sweep.inflight-{dead}.def456.tmp"
+    live.write_text("half a file")
+    assert live.name.startswith(f".sweep.inflight-{os.getpid()}.")
+    assert claim(d, "sweep").foreign == []  # not refused
+    gone.write_text("left by a crash")
+    own, foreign = owned_files(d)
+    assert foreign == [gone] and [p.name for p in own] == ["sweep.json"]
+    with pytest.raises(OwnershipError, match="inflight"):
+        claim(d, "sweep")
+    assert not any(p.name.startswith(".sweep.inflight") for p in d.iterdir() if p not in (live, gone))
+
+
 @pytest.mark.parametrize("command, name", [
     (["sweep", "{case}", "--vary", "mesh.level=0", "--workers", "1"], "sweep.csv"),
     (["gridstudy", "{case}", "--levels", "0,1"], "gridstudy.json"),

@@ -13,7 +13,7 @@ from pathlib import Path
 
 import numpy as np
 
-from .ownership import OwnershipError, claim, install, output_name, read_manifest, stale_partial, write_manifest
+from .ownership import OwnershipError, claim, in_flight_prefix, install, output_name, read_manifest, stale_partial, write_manifest
 from .vtu import write_unstructured
 
 
@@ -106,7 +106,7 @@ def atomic_file(path: str | Path, suffix: str | None = None):
     path = Path(path)
     _not_foreign(path)
     path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.stem}.", suffix=suffix or path.suffix, dir=path.parent)
+    fd, tmp = tempfile.mkstemp(prefix=in_flight_prefix(path.stem), suffix=suffix or path.suffix, dir=path.parent)
     os.close(fd)
     try:
         yield Path(tmp)

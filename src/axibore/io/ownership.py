@@ -18,14 +18,81 @@ from __future__ import annotations
 import hashlib
 import json
 import os
+import re
 import shutil
 import socket
+from contextlib import contextmanager
 from dataclasses import dataclass, field
 from pathlib import Path
 
 from ..version import __version__
 
+try:
+    import fcntl
+except ImportError:  # pragma: no cover - not on Linux or macOS
+    fcntl = None
+
 MANIFEST = ".axibore-manifest.json"
+# A file being written by an axibore process (``files.atomic_file``'s temporaries, the manifest's) carries
+# ".inflight-<pid>." in its name. While that process lives the file is its writer's until renamed: it is
+# neither the folder's own nor foreign to it (two sweeps sharing a folder saw each other's temporaries as
+# foreign files and refused). A dead writer's leftover counts as foreign, and is kept.
+IN_FLIGHT = re.compile(r"\.inflight-(\d+)\.")
+
+
+@contextmanager
+def folder_lock(folder: str | Path):
+    """Hold the folder's lock (an advisory flock on the folder itself, no file; none where the system has
+    no flock), held while a writer puts a file in place and records it, and while a claim looks:
+    between a file's rename into place and its line in the manifest, the file looks foreign or changed
+    to another process that looks at the folder (two sweeps sharing a folder refused on each other's
+    fresh sweep.csv)."""
+    folder = Path(os.path.abspath(folder))
+    if fcntl is None or folder in _HELD:  # re-entered in this process: already held
+        _HELD[folder] = _HELD.get(folder, 0) + 1
+        try:
+            yield
+        finally:
+            _HELD[folder] -= 1
+            if not _HELD[folder]:
+                del _HELD[folder]
+        return
+    folder.mkdir(parents=True, exist_ok=True)
+    fd = os.open(folder, os.O_RDONLY)
+    try:
+        try:
+            fcntl.flock(fd, fcntl.LOCK_EX)
+        except OSError:  # a file system without locks: the writers go on as before
+            pass
+        _HELD[folder] = 1
+        try:
+            yield
+        finally:
+            del _HELD[folder]
+            fcntl.flock(fd, fcntl.LOCK_UN)
+    finally:
+        os.close(fd)
+
+
+_HELD: dict[Path, int] = {}  # folders whose lock this process holds, and how deep
+
+
+def in_flight_prefix(stem: str) -> str:
+    """The name prefix of a temporary this process writes beside ``stem``'s file."""
+    return f".{stem}.inflight-{os.getpid()}."
+
+
+def _in_flight(entry: Path) -> bool:
+    m = IN_FLIGHT.search(entry.name)
+    if m is None or not entry.is_file():
+        return False
+    try:
+        os.kill(int(m.group(1)), 0)
+    except ProcessLookupError:
+        return False
+    except (PermissionError, OverflowError):
+        return True
+    return True
 KINDS = ("run", "mesh", "sweep", "gridstudy", "compare", "verify", "uncertainty")
 CHUNK = 1 << 20
 
@@ -104,7 +171,7 @@ def _walk(folder: Path) -> list[Path]:
     """Files and symlinks under ``folder``, not descending into sub-folders that have a manifest."""
     out = []
     for entry in sorted(folder.iterdir()):
-        if entry.name == MANIFEST:
+        if entry.name == MANIFEST or _in_flight(entry):
             continue
         if entry.is_dir() and not entry.is_symlink():
             if (entry / MANIFEST).exists():
@@ -154,7 +221,7 @@ def write_manifest(folder: str | Path, kind: str, partial: bool = False) -> Mani
 
 
 def _save(folder: Path, m: Manifest) -> None:
-    tmp = folder / (MANIFEST + f".{os.getpid()}.tmp")
+    tmp = folder / (MANIFEST + f".inflight-{os.getpid()}.tmp")
     tmp.write_text(m.to_json(), encoding="utf-8")
     os.replace(tmp, folder / MANIFEST)
 
@@ -198,6 +265,13 @@ def claim(path: str | Path, kind: str, force: bool = False) -> Claim:
     path = Path(path)
     if not path.exists() or (path.is_dir() and not any(path.iterdir())):
         return Claim(path, kind, True, [], [])
+    if path.is_dir():
+        with folder_lock(path):
+            return _claim(path, kind, force)
+    return _claim(path, kind, force)
+
+
+def _claim(path: Path, kind: str, force: bool) -> Claim:
     m = read_manifest(path)
     if m is not None and m.kind != kind:
         raise OwnershipError(f"{path}: holds axibore {m.kind} output, not {kind} output; give another folder "

@@ -29,7 +29,7 @@ from typing import Any, Callable
 
 from ..case import Case, case_from_dict, CaseError, demo_case_path, load_case
 from ..io.files import atomic_write_text, check_output_dir, clean_stale_partials, write_table
-from ..io.ownership import record, remove_own
+from ..io.ownership import folder_lock, record, remove_own
 from ..io.rundir import resolved_case_text
 from ..safety import CAUTIONS
 from .runner import executor, JobError, SerialExecutor
@@ -302,7 +302,8 @@ def run_sweep(case: Case, points: list[Point], out_dir: Path, executor=None, kee
     executor = executor or SerialExecutor()
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
-    record(out_dir, "sweep", [])  # the folder is a sweep's from its first moment
+    with folder_lock(out_dir):
+        record(out_dir, "sweep", [])  # the folder is a sweep's from its first moment
     for d in clean_stale_partials(out_dir):
         progress(f"removed {d.name}, left by an interrupted sweep")
     keys = list(dict.fromkeys(k for p in points for k in p.values))  # every varied key, in order of first use
@@ -344,8 +345,9 @@ def run_sweep(case: Case, points: list[Point], out_dir: Path, executor=None, kee
                 rows[p.index] = _row(p, summary, status, why, out_dir / name, result["seconds"], False)
             done += 1
         else:
-            atomic_write_text(err_file, f"{group[0].label()}\n{error.message}\n\n{error.traceback}")
-            record(out_dir, "sweep", [err_file])
+            with folder_lock(out_dir):
+                atomic_write_text(err_file, f"{group[0].label()}\n{error.message}\n\n{error.traceback}")
+                record(out_dir, "sweep", [err_file])
             for p in group:
                 rows[p.index] = _row(p, None, "failed", error.message, out_dir / name, None, False)
             failed += 1
@@ -369,13 +371,19 @@ def _write_json(out_dir: Path, case: Case, keys: list[str], rows: list[dict], st
     data = {"kind": "axibore sweep", "schema": 1, "title": case.title, "case": case.source, "keys": keys,
             "vary": {k: v for k, v in (vary or {}).items()}, "zip": zip_, "status": status,
             "outputs": list(OUTPUT_NAMES), "points": rows, "cautions": list(CAUTIONS)}
-    atomic_write_text(out_dir / "sweep.json", json.dumps(data, indent=2, default=str) + "\n")
-    record(out_dir, "sweep", ["sweep.json"])
+    with folder_lock(out_dir):  # another sweep may share the folder (ownership.folder_lock)
+        atomic_write_text(out_dir / "sweep.json", json.dumps(data, indent=2, default=str) + "\n")
+        record(out_dir, "sweep", ["sweep.json"])
 
 
 def write_results(result: SweepResult, case: Case, out_dir: Path, plots: tuple[str, ...] | None = None,
                   vary: dict | None = None, zip_: bool = False) -> None:
     """sweep.csv, sweep.json, the plots (plot_<output>_vs_<key>.png) and sweep.html."""
+    with folder_lock(out_dir):  # another sweep may share the folder (ownership.folder_lock)
+        _write_results(result, case, out_dir, plots, vary, zip_)
+
+
+def _write_results(result: SweepResult, case: Case, out_dir: Path, plots, vary, zip_) -> None:
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     cols = result.columns()
