@@ -241,5 +241,10 @@ def test_polyline_queries_equal_the_all_pairs_answer():
         p = np.vstack([on, on + rng.normal(scale=1e-6, size=on.shape), on + rng.normal(scale=3.0, size=on.shape)])
         np.testing.assert_allclose(arc_length(p, poly), brute_arc(p, poly), rtol=0, atol=1e-12)
         xq = np.r_[rng.uniform(poly[:, 0].min() - 1, poly[:, 0].max() + 1, 60), poly[:, 0]]
+        if trial == 0:  # round-off at an extreme scale ratio, a polyline of one repeated point, no points
+            for pl, pts in (([[1000, 0], [1000, 0], [1000.0000280259707, 0]], [[1000.0001305803004, 0], [1000.0000140129853, 0]]),
+                            ([[0, 3], [0, 3]], [[2, 0]]), ([[0, 0], [1, 0]], np.zeros((0, 2)))):
+                pl, pts = np.array(pl, float), np.array(pts, float)
+                np.testing.assert_allclose(arc_length(pts, pl), brute_arc(pts, pl), rtol=0, atol=1e-12)
         for reduce, fill in ((np.minimum, np.inf), (np.maximum, -np.inf)):
             np.testing.assert_allclose(crossings(poly, xq, reduce, fill), brute_cross(poly, xq, reduce, fill), rtol=0, atol=1e-12)

@@ -162,7 +162,9 @@ def test_claim_names_the_foreign_files(tmp_path):
 def test_another_writers_temporary_is_neither_foreign_nor_replaced(tmp_path):
     # two sweeps sharing a folder: one checked the folder while the other was writing sweep.json and
     # refused on the other's temporary ("holds files axibore did not write (.sweep...tmp)"). A live
-    # writer's temporary is passed over; a dead writer's is foreign (kept; --force writes beside it).
+    # writer's temporary does not refuse the folder but stays foreign: never replaced, and a run
+    # folder holding one is written beside it (a user's file of such a name too); a dead writer's
+    # refuses like any foreign file.
     from axibore.io.files import atomic_write_text
     from axibore.io.ownership import in_flight_prefix, owned_files, record
 
@@ -174,13 +176,23 @@ def test_another_writers_temporary_is_neither_foreign_nor_replaced(tmp_path):
     gone = d / f".sweep.inflight-{dead}.def456.tmp"
     live.write_text("half a file")
     assert live.name.startswith(f".sweep.inflight-{os.getpid()}.")
-    assert claim(d, "sweep").foreign == []  # not refused
+    assert claim(d, "sweep").foreign == [live]  # not refused; kept
     gone.write_text("left by a crash")
     own, foreign = owned_files(d)
-    assert foreign == [gone] and [p.name for p in own] == ["sweep.json"]
+    assert sorted(foreign) == sorted([gone, live]) and [p.name for p in own] == ["sweep.json"]
     with pytest.raises(OwnershipError, match="inflight"):
         claim(d, "sweep")
-    assert not any(p.name.startswith(".sweep.inflight") for p in d.iterdir() if p not in (live, gone))
+    # a run folder replaced by a new run keeps a file named like a live writer's temporary (pid 1 lives)
+    from axibore.io.files import atomic_dir
+
+    run = tmp_path / "run"
+    with atomic_dir(run, "run") as t:
+        atomic_write_text(t / "summary.json", "{}\n")
+    mine = run / ".mynotes.inflight-1.txt"
+    mine.write_text("a user's notes")
+    with atomic_dir(run, "run") as t:
+        atomic_write_text(t / "summary.json", "{}\n")
+    assert mine.read_text() == "a user's notes"
 
 
 @pytest.mark.parametrize("command, name", [

@@ -52,6 +52,9 @@ def arc_length(points: np.ndarray, polyline: np.ndarray) -> np.ndarray:
     from scipy.spatial import cKDTree  # here: `import axibore` stays without scipy.spatial
 
     points = np.asarray(points, float).reshape(-1, 2)
+    polyline = np.asarray(polyline, float)
+    if points.size == 0 or not np.all(np.isfinite(polyline)) or len(polyline) < 2:
+        return _arc_length_all_pairs(points, polyline)
     a, b = polyline[:-1], polyline[1:]
     d = b - a
     seg_len = np.linalg.norm(d, axis=1)
@@ -62,8 +65,13 @@ def arc_length(points: np.ndarray, polyline: np.ndarray) -> np.ndarray:
     u0, u1 = step / cuts[seg], (step + 1) / cuts[seg]  # each piece as a fraction of its segment
     start = a[seg] + u0[:, None] * d[seg]
     end = a[seg] + u1[:, None] * d[seg]
-    reach = cKDTree(np.vstack([start, end[-1:]])).query(points)[0] + 0.5 * h * (1 + 1e-9) + 1e-300
-    near = cKDTree(0.5 * (start + end)).query_ball_point(points, reach, return_sorted=False)
+    finite = np.all(np.isfinite(points), axis=1)
+    # the bound plus a margin for the round-off of the distances (relative to the coordinates)
+    scale = float(np.abs(polyline).max()) + float(np.abs(points[finite]).max(initial=0.0))
+    reach = cKDTree(np.vstack([start, end[-1:]])).query(np.where(finite[:, None], points, 0.0))[0]
+    reach = reach * (1 + 1e-9) + 0.5 * h + 1e-9 * (scale + h) + 1e-300
+    near = cKDTree(0.5 * (start + end)).query_ball_point(np.where(finite[:, None], points, 0.0), reach,
+                                                         return_sorted=False)
     counts = np.fromiter((len(n) for n in near), int, len(near))
     owner = np.repeat(np.arange(len(points)), counts)
     piece = np.fromiter((i for n in near for i in n), int, owner.size)
@@ -76,8 +84,29 @@ def arc_length(points: np.ndarray, polyline: np.ndarray) -> np.ndarray:
     dist = (gap**2).sum(-1)
     first = np.lexsort((j, dist, owner))  # per point: smallest distance, then the first segment
     keep = first[np.r_[True, owner[first][1:] != owner[first][:-1]]]
-    out = np.empty(len(points))
+    out = np.full(len(points), np.nan)
     out[owner[keep]] = cum[j[keep]] + t[keep] * seg_len[j[keep]]
+    lost = np.flatnonzero(~finite | (np.bincount(owner, minlength=len(points)) == 0))
+    if lost.size:  # no candidate (round-off at extreme scale ratios) or not a finite point: all pairs
+        out[lost] = _arc_length_all_pairs(points[lost], polyline)
+    return out
+
+
+def _arc_length_all_pairs(points: np.ndarray, polyline: np.ndarray) -> np.ndarray:
+    """``arc_length`` by comparing every point with every segment (the definition)."""
+    a, b = polyline[:-1], polyline[1:]
+    d = b - a
+    seg_len = np.linalg.norm(d, axis=1)
+    cum = np.r_[0.0, np.cumsum(seg_len)]
+    dd = np.where(seg_len > 0, seg_len**2, 1.0)
+    out = np.empty(len(points))
+    for s in range(0, len(points), 512):
+        p = points[s : s + 512]
+        t = np.clip(((p[:, None, :] - a[None]) * d[None]).sum(-1) / dd[None], 0.0, 1.0)
+        q = a[None] + t[..., None] * d[None]
+        dist = ((p[:, None, :] - q) ** 2).sum(-1)
+        k = np.argmin(dist, axis=1)
+        out[s : s + 512] = cum[k] + t[np.arange(len(p)), k] * seg_len[k]
     return out
 
 

@@ -34,9 +34,10 @@ except ImportError:  # pragma: no cover - not on Linux or macOS
 
 MANIFEST = ".axibore-manifest.json"
 # A file being written by an axibore process (``files.atomic_file``'s temporaries, the manifest's) carries
-# ".inflight-<pid>." in its name. While that process lives the file is its writer's until renamed: it is
-# neither the folder's own nor foreign to it (two sweeps sharing a folder saw each other's temporaries as
-# foreign files and refused). A dead writer's leftover counts as foreign, and is kept.
+# ".inflight-<pid>." in its name. While that process lives, such a file does not make a claim refuse the
+# folder (two sweeps sharing a folder refused on each other's temporaries); it still counts as foreign,
+# so it is never replaced or deleted (a user's file of such a name included), and a folder holding one
+# is written beside it, not replaced whole. A dead writer's leftover refuses like any foreign file.
 IN_FLIGHT = re.compile(r"\.inflight-(\d+)\.")
 
 
@@ -47,7 +48,7 @@ def folder_lock(folder: str | Path):
     between a file's rename into place and its line in the manifest, the file looks foreign or changed
     to another process that looks at the folder (two sweeps sharing a folder refused on each other's
     fresh sweep.csv)."""
-    folder = Path(os.path.abspath(folder))
+    folder = Path(os.path.realpath(folder))
     if fcntl is None or folder in _HELD:  # re-entered in this process: already held
         _HELD[folder] = _HELD.get(folder, 0) + 1
         try:
@@ -58,20 +59,29 @@ def folder_lock(folder: str | Path):
                 del _HELD[folder]
         return
     folder.mkdir(parents=True, exist_ok=True)
-    fd = os.open(folder, os.O_RDONLY)
     try:
+        fd = os.open(folder, os.O_RDONLY)
+    except OSError:  # a folder this process cannot open: no lock (its writes fail on their own terms)
+        fd = None
+    locked = False
+    if fd is not None:
         try:
             fcntl.flock(fd, fcntl.LOCK_EX)
+            locked = True
         except OSError:  # a file system without locks: the writers go on as before
             pass
-        _HELD[folder] = 1
-        try:
-            yield
-        finally:
-            del _HELD[folder]
-            fcntl.flock(fd, fcntl.LOCK_UN)
+    _HELD[folder] = 1
+    try:
+        yield
     finally:
-        os.close(fd)
+        del _HELD[folder]
+        if fd is not None:
+            if locked:
+                try:
+                    fcntl.flock(fd, fcntl.LOCK_UN)
+                except OSError:
+                    pass
+            os.close(fd)
 
 
 _HELD: dict[Path, int] = {}  # folders whose lock this process holds, and how deep
@@ -171,7 +181,7 @@ def _walk(folder: Path) -> list[Path]:
     """Files and symlinks under ``folder``, not descending into sub-folders that have a manifest."""
     out = []
     for entry in sorted(folder.iterdir()):
-        if entry.name == MANIFEST or _in_flight(entry):
+        if entry.name == MANIFEST:
             continue
         if entry.is_dir() and not entry.is_symlink():
             if (entry / MANIFEST).exists():
@@ -286,7 +296,9 @@ def _claim(path: Path, kind: str, force: bool) -> Claim:
         raise OwnershipError(f"{path}: {_listing(clash, path)} {'is' if len(clash) == 1 else 'are'} not axibore's "
                              f"(or changed since) and {kind} output writes that name: not replaced, even with "
                              "--force; move it away or give another --out")
-    if foreign and not force:
+    blocking = [f for f in foreign if not _in_flight(f)]  # another writer's temporary: kept, and no refusal
+    if blocking and not force:
+        foreign = blocking
         why = "it has no axibore manifest" if m is None else "they were not written by axibore, or changed since"
         raise OwnershipError(f"{path}: holds files axibore did not write ({_listing(foreign, path)}; {why}): refusing "
                              "to replace them; give another --out, or --force to write beside them (only the tool's own "

@@ -26,6 +26,18 @@ _VTK_TYPES = {np.dtype("float64"): "Float64", np.dtype("float32"): "Float32", np
               np.dtype("int32"): "Int32", np.dtype("uint8"): "UInt8"}
 
 
+def _threads() -> int:
+    """The cores this process may use (its CPU affinity), or OMP_NUM_THREADS where it is set: the
+    study runner gives each worker process one thread, and its writes stay on that one."""
+    try:
+        n = int(os.environ.get("OMP_NUM_THREADS", ""))
+    except ValueError:
+        n = 0
+    if n < 1:
+        n = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else (os.cpu_count() or 1)
+    return max(1, min(n, 8))
+
+
 def _compress(block: bytes) -> bytes:
     return zlib.compress(block, ZLIB_LEVEL)
 
@@ -56,7 +68,7 @@ def write_unstructured(path: str | Path, points: np.ndarray, blocks: list[tuple[
     conn = np.concatenate([np.asarray(c, np.int64).ravel() for _, c in blocks])
     sizes = np.concatenate([np.full(len(c), np.asarray(c).shape[1], np.int64) for _, c in blocks])
     types = np.concatenate([np.full(len(c), VTK_CELL_TYPES[k], np.uint8) for k, c in blocks])
-    with ThreadPoolExecutor(max_workers=min(os.cpu_count() or 1, 8)) as pool:
+    with ThreadPoolExecutor(max_workers=_threads()) as pool:
         parts = ['<?xml version="1.0"?>\n<VTKFile type="UnstructuredGrid" version="1.0" byte_order="LittleEndian" '
                  'header_type="UInt64" compressor="vtkZLibDataCompressor">\n<UnstructuredGrid>\n'
                  f'<Piece NumberOfPoints="{len(points)}" NumberOfCells="{len(types)}">\n',

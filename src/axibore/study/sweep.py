@@ -339,7 +339,8 @@ def run_sweep(case: Case, points: list[Point], out_dir: Path, executor=None, kee
             except OSError as exc:
                 error = JobError(f"{type(exc).__name__}: {exc}", str(exc))
         if error is None:
-            remove_own(out_dir, err_file.name)
+            with folder_lock(out_dir):  # the manifest is shared with any other sweep of the folder
+                remove_own(out_dir, err_file.name)
             status, why = _status(summary)
             for p in group:
                 rows[p.index] = _row(p, summary, status, why, out_dir / name, result["seconds"], False)

@@ -100,7 +100,7 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
                 omega = -omega * sum(float(last_step[n] @ dr[n]) for n in B) / den
                 omega = min(max(omega, COUPLING_OMEGA_RANGE[0]), COUPLING_OMEGA_RANGE[1])
         last_step = step
-        B = {n: B[n] + omega * step[n] for n in B}
+        B = {n: np.clip(B[n] + omega * step[n], 0.0, MAX_BLOCKAGE) for n in B}  # over-relaxed: kept in its range
         res = {n: march_chain(n, t, props[n], settings, profile, planar, t.speed / (1.0 - B[n]), widths[n])
                for n, t in tables.items()}
         chains = {n: v[0] for n, v in res.items()}

@@ -218,7 +218,7 @@ def _reference_state(case, p_abs: np.ndarray, rho_e: np.ndarray, ue: np.ndarray)
     rho_ref = rho_e * Te / T_ref
     A = np.sqrt(k / (1.0 + k))
     with np.errstate(invalid="ignore", divide="ignore"):
-        Fc = np.where(k > 1e-12, k / np.arcsin(A) ** 2, 1.0 + k)  # the limit 1 + k (1/3 + ...) as k -> 0
+        Fc = np.where(k > 1e-12, k / np.arcsin(A) ** 2, 1.0 + 2.0 * k / 3.0)  # its limit as k -> 0
     rho_t = rho_e / Fc
     return LayerProperties(rho_ref, _gas_mu(case, T_ref) / rho_ref, k, rho_e, (rho_t, _gas_mu(case, Te * (1.0 + k)) / rho_t))
 
@@ -376,7 +376,13 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
             gas_states = dict(edge_rho=rho_run, turbulent_state=tuple(run_values(a) for a in props.turbulent)) if gas else {}
             face_in_run = sel[keep[1:]]
             if how == "start" and not stagnation:
-                th0 = _start_theta(settings, float(ue_run[0]), float(nu_run[0]), float(r_run[0]), planar)
+                # a gas layer: the estimates are in the reference variables of the part that starts, and go to
+                # the march at the edge state (theta = theta_ref rho_ref/rho_e; a thickness the user gave is one)
+                rho_p, nu_p = ((run_values(props.turbulent[0]), run_values(props.turbulent[1])) if start == "turbulent"
+                               else (run_values(props.rho), nu_run)) if gas else (rho_run, nu_run)
+                th0 = _start_theta(settings, float(ue_run[0]), float(nu_p[0]), float(r_run[0]), planar)
+                if th0 and settings.start_momentum_thickness is None:
+                    th0 *= float(rho_p[0] / rho_run[0])
             tr = settings.transition
             if isinstance(tr, float):
                 xs = x_all[face_in_run]
