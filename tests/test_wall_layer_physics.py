@@ -373,6 +373,67 @@ def test_supersonic_flat_plate_friction_against_van_driest_ii(Me):
     np.testing.assert_allclose(w.theta[sel], theta_balance[sel], rtol=0.01)
 
 
+SUPERSONIC = """title = "supersonic test-section nozzle (invented)"
+[fluid]
+kind = "ideal-gas"
+gas = "air"
+[bore]
+template = "segments"
+start = ["0 mm", "120 mm"]
+[[bore.segment]]
+to = ["100 mm", "120 mm"]
+[[bore.segment]]
+to = ["180 mm", "60 mm"]
+radius = "-80 mm"
+[[bore.segment]]
+to = ["300 mm", "60 mm"]
+radius = "-400 mm"
+[[bore.segment]]
+to = ["600 mm", "85 mm"]
+[inlet]
+total_pressure = "20 bar"
+total_temperature = "20 degC"
+[outlet]
+kind = "exit-plane"
+"""
+
+
+def test_supersonic_nozzle_wall_layer_against_van_driest_ii(tmp_path):
+    # A converging-diverging air nozzle written as a user writes it (default settings; 120 mm radius
+    # inlet, about 56 mm throat, 85 mm exit, 20 bar: supersonic to the exit, Mach 2.4 there). Along the
+    # divergent cone from 20 mm past its start (x = 320 mm; edge Mach 1.55 to 2.4; at the cone's start the
+    # throat arc meets it at a 3.8 deg tangent break, with cf up to 1.21 times the relation's), the layer
+    # is turbulent and attached and its local cf
+    # (at the edge state) lies within 15 % of van Driest II in Spalding & Chi's local form, cf Fc =
+    # cf_i(Re_theta mu_e/mu_w) (van Driest 1956; Spalding & Chi 1964, J. Fluid Mech. 18), with the
+    # Coles-Fernholz relation cf_i = 2 [(1/0.41) ln Re_theta + 5.0]^-2 (Fernholz & Finley 1996) and the
+    # adiabatic wall at r = Pr^(1/3) (common practice). Measured: 1.07-1.13 (the closure follows
+    # Schlichting, 4-7 % above Coles-Fernholz at these Re_theta, and the expansion is a favourable
+    # gradient). The effect tested: there the incompressible relation at the edge state is 1.22-1.47 times
+    # van Driest II, so a layer without a compressibility treatment lies outside the band.
+    path = tmp_path / "tunnel.toml"
+    path.write_text(SUPERSONIC)
+    case = load_case(path)
+    res = solve_case(case)
+    assert res.flow.record.converged
+    v, table = res.viscous, res.tables["wall"]
+    ch = v.chains["wall"]
+    gas = case.fluid
+    rho = res.flow.boundary["wall"].density
+    Te = (table.pressure + case.ambient_pressure) / (rho * gas.gas_constant)
+    M = table.speed / np.sqrt(gas.gamma * gas.gas_constant * Te)
+    sup = (table.x >= 0.320) & (M >= 1.5)
+    assert sup.sum() > 100 and M[sup].min() > 1.5 and M[-1] > 2.2
+    assert np.all(ch.state[sup] == layer.TURBULENT)
+    k = stage.AIR_PRANDTL**stage.RECOVERY_EXPONENT * 0.5 * (gas.gamma - 1.0) * M[sup] ** 2
+    Fc = k / np.arcsin(np.sqrt(k / (1.0 + k))) ** 2
+    mu_e, mu_w = stage._gas_mu(case, Te[sup]), stage._gas_mu(case, Te[sup] * (1.0 + k))
+    re_theta = rho[sup] * table.speed[sup] * ch.theta[sup] / mu_e
+    cf_vd = 2.0 / (np.log(re_theta * mu_e / mu_w) / 0.41 + 5.0) ** 2 / Fc
+    np.testing.assert_allclose(ch.cf[sup], cf_vd, rtol=0.15)
+    assert np.all(ch.delta_star[sup] < 0.05 * table.r[sup])  # thin
+
+
 # --- bad input ------------------------------------------------------------------------------------------
 
 
