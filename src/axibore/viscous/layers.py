@@ -94,10 +94,12 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
             break
         step = {n: Bn[n] - B[n] for n in B}
         if last_step is not None:  # Aitken: the secant of the map along the last step (above)
-            dr = {n: step[n] - last_step[n] for n in B}
+            # on the faces where the change is measured (separated faces and faces facing the flow carry
+            # held or undefined values): 46 -> 44 marches over ten bores, none more
+            dr = {n: (step[n] - last_step[n]) * att[n] for n in B}
             den = sum(float(dr[n] @ dr[n]) for n in B)
             if den > 0.0:
-                omega = -omega * sum(float(last_step[n] @ dr[n]) for n in B) / den
+                omega = -omega * sum(float((last_step[n] * att[n]) @ dr[n]) for n in B) / den
                 omega = min(max(omega, COUPLING_OMEGA_RANGE[0]), COUPLING_OMEGA_RANGE[1])
         last_step = step
         B = {n: np.clip(B[n] + omega * step[n], 0.0, MAX_BLOCKAGE) for n in B}  # over-relaxed: kept in its range
