@@ -22,7 +22,8 @@ COUPLING_RELAXATION = 1.0  # the first step undamped: the map B -> B is a weak c
 # r_(k-1).(r_k - r_(k-1)) / |r_k - r_(k-1)|^2, r = B_new - B: the secant of the map along the last step. For a map of
 # slope s the exact factor is 1/(1 - s); the range below trusts slopes from -4 to 1/3. A pipe's layer speeds up its own
 # core (a favourable gradient that thins it): slopes near -0.4, so plain substitution alternates and loses 0.4 a step.
-# On seven bores (level 1) the marches fell from 34 to 29 in all (nozzles 6 -> 4 and 8 -> 6, a reducer 4 -> 3)
+# On seven bores (level 1) the marches fell from 34 to 28 in all (nozzles 6 -> 4 and 8 -> 6, a reducer 4 -> 3,
+# a CSV outline 4 -> 3; the last with the secant on the measured faces, below)
 COUPLING_OMEGA_RANGE = (0.2, 1.5)
 COUPLING_TOLERANCE = 1e-3  # on the blockage B at every face
 MAX_BLOCKAGE = 0.5
