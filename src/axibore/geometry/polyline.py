@@ -92,33 +92,32 @@ def arc_length(points: np.ndarray, polyline: np.ndarray) -> np.ndarray:
     return out
 
 
+def _all_pairs(p: np.ndarray, poly: np.ndarray):
+    """Projection of every point of ``p`` on every segment of ``poly``: (t along it, squared distance),
+    each (len(p), segments)."""
+    a, d = poly[:-1], poly[1:] - poly[:-1]
+    dd = np.einsum("ij,ij->i", d, d)
+    dd = np.where(dd > 0, dd, 1.0)
+    t = np.clip(((p[:, None, :] - a[None]) * d[None]).sum(-1) / dd[None], 0.0, 1.0)
+    q = a[None] + t[..., None] * d[None]
+    return t, ((p[:, None, :] - q) ** 2).sum(-1)
+
+
 def _arc_length_all_pairs(points: np.ndarray, polyline: np.ndarray) -> np.ndarray:
     """``arc_length`` by comparing every point with every segment (the definition)."""
-    a, b = polyline[:-1], polyline[1:]
-    d = b - a
-    seg_len = np.linalg.norm(d, axis=1)
+    seg_len = np.linalg.norm(np.diff(polyline, axis=0), axis=1)
     cum = np.r_[0.0, np.cumsum(seg_len)]
-    dd = np.where(seg_len > 0, seg_len**2, 1.0)
     out = np.empty(len(points))
-    for s in range(0, len(points), 512):
-        p = points[s : s + 512]
-        t = np.clip(((p[:, None, :] - a[None]) * d[None]).sum(-1) / dd[None], 0.0, 1.0)
-        q = a[None] + t[..., None] * d[None]
-        dist = ((p[:, None, :] - q) ** 2).sum(-1)
+    for s in range(0, len(points), 512):  # blocks keep memory bounded
+        t, dist = _all_pairs(points[s : s + 512], polyline)
         k = np.argmin(dist, axis=1)
-        out[s : s + 512] = cum[k] + t[np.arange(len(p)), k] * seg_len[k]
+        out[s : s + 512] = cum[k] + t[np.arange(len(k)), k] * seg_len[k]
     return out
 
 
 def points_to_segments(p: np.ndarray, poly: np.ndarray) -> np.ndarray:
     """Distance from each point of ``p`` to the polyline ``poly`` (all pairs: short polylines)."""
-    a, b = poly[:-1], poly[1:]
-    d = b - a
-    dd = np.einsum("ij,ij->i", d, d)
-    dd = np.where(dd > 0, dd, 1.0)
-    t = np.clip(((p[:, None, :] - a[None]) * d[None]).sum(-1) / dd[None], 0.0, 1.0)
-    q = a[None] + t[..., None] * d[None]
-    return np.sqrt(((p[:, None, :] - q) ** 2).sum(-1)).min(axis=1)
+    return np.sqrt(_all_pairs(p, poly)[1].min(axis=1))
 
 
 def min_distance(a: np.ndarray, b: np.ndarray) -> float:

@@ -98,9 +98,9 @@ def _in_flight(entry: Path) -> bool:
         return False
     try:
         os.kill(int(m.group(1)), 0)
-    except ProcessLookupError:
+    except (ProcessLookupError, OverflowError):  # no such process (a number beyond any pid)
         return False
-    except (PermissionError, OverflowError):
+    except PermissionError:  # another user's process
         return True
     return True
 KINDS = ("run", "mesh", "sweep", "gridstudy", "compare", "verify", "uncertainty")
@@ -240,15 +240,16 @@ def record(folder: str | Path, kind: str, written: list[str | Path]) -> Manifest
     """Add the files just ``written`` (paths inside ``folder``) to its manifest, keeping the entries
     of the tool's other files; made anew where the folder had none."""
     folder = Path(folder)
-    m = read_manifest(folder)
-    if m is None or m.kind != kind:
-        m = Manifest(kind, host=socket.gethostname(), pid=os.getpid())
-    for w in written:
-        p = Path(w)
-        p = p if p.is_absolute() else folder / p
-        if p.is_file():
-            m.files[p.relative_to(folder).as_posix()] = file_hash(p)
-    _save(folder, m)
+    with folder_lock(folder):  # read, change, write: another process may record in the same folder
+        m = read_manifest(folder)
+        if m is None or m.kind != kind:
+            m = Manifest(kind, host=socket.gethostname(), pid=os.getpid())
+        for w in written:
+            p = Path(w)
+            p = p if p.is_absolute() else folder / p
+            if p.is_file():
+                m.files[p.relative_to(folder).as_posix()] = file_hash(p)
+        _save(folder, m)
     return m
 
 
@@ -364,17 +365,18 @@ def remove_own(folder: str | Path, pattern: str) -> list[Path]:
     """Delete the files matching ``pattern`` in ``folder`` that its manifest lists unchanged (an
     output of an earlier pass the next one replaces); any other file is left alone."""
     folder = Path(folder)
-    m = read_manifest(folder)
     removed = []
-    if m is None:
-        return removed
-    for p in folder.glob(pattern):
-        rel = p.relative_to(folder).as_posix()
-        if p.is_file() and not p.is_symlink() and m.files.get(rel) == file_hash(p):
-            p.unlink()
-            m.files.pop(rel)
-            removed.append(p)
-    _save(folder, m)
+    with folder_lock(folder):  # read, change, write: another process may record in the same folder
+        m = read_manifest(folder)
+        if m is None:
+            return removed
+        for p in folder.glob(pattern):
+            rel = p.relative_to(folder).as_posix()
+            if p.is_file() and not p.is_symlink() and m.files.get(rel) == file_hash(p):
+                p.unlink()
+                m.files.pop(rel)
+                removed.append(p)
+        _save(folder, m)
     return removed
 
 

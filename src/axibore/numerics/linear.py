@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import time
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Callable
 
 import numpy as np
@@ -126,13 +127,12 @@ class OrderedFactor:
             self.lu = spla.splu(K.tocsc())
             self.order = np.arange(K.shape[0])
 
-    @property
+    @cached_property
     def position(self) -> np.ndarray:
         """Where each unknown sits in the factor's order: ``bp[position[i]] = b[i]``."""
-        if not hasattr(self, "_position"):
-            self._position = np.empty_like(self.order)
-            self._position[self.order] = np.arange(self.order.size)
-        return self._position
+        out = np.empty_like(self.order)
+        out[self.order] = np.arange(self.order.size)
+        return out
 
     def solve_ordered(self, bp: np.ndarray) -> np.ndarray:
         return self.lu.solve(np.asfortranarray(bp))

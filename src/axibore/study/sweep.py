@@ -302,8 +302,7 @@ def run_sweep(case: Case, points: list[Point], out_dir: Path, executor=None, kee
     executor = executor or SerialExecutor()
     out_dir = Path(out_dir)
     out_dir.mkdir(parents=True, exist_ok=True)
-    with folder_lock(out_dir):
-        record(out_dir, "sweep", [])  # the folder is a sweep's from its first moment
+    record(out_dir, "sweep", [])  # the folder is a sweep's from its first moment
     for d in clean_stale_partials(out_dir):
         progress(f"removed {d.name}, left by an interrupted sweep")
     keys = list(dict.fromkeys(k for p in points for k in p.values))  # every varied key, in order of first use
@@ -339,8 +338,7 @@ def run_sweep(case: Case, points: list[Point], out_dir: Path, executor=None, kee
             except OSError as exc:
                 error = JobError(f"{type(exc).__name__}: {exc}", str(exc))
         if error is None:
-            with folder_lock(out_dir):  # the manifest is shared with any other sweep of the folder
-                remove_own(out_dir, err_file.name)
+            remove_own(out_dir, err_file.name)
             status, why = _status(summary)
             for p in group:
                 rows[p.index] = _row(p, summary, status, why, out_dir / name, result["seconds"], False)

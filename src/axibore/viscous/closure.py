@@ -5,7 +5,6 @@ are in ``layer``'s module text and beside each constant."""
 
 from __future__ import annotations
 
-import bisect
 import math
 
 import numpy as np
@@ -140,21 +139,6 @@ def turbulent_cf(H, re_theta):
     """cf = cf0(Re_theta) 10^(-0.678 (H - H0(Re_theta))) (see above)."""
     cf0, H0 = flat_plate_cf0(re_theta)
     return cf0 * 10.0 ** (-0.678 * (np.asarray(H, dtype=float) - H0))
-
-
-def _turbulent_cf_scalar(H, re_theta, _lr=_FP_LIST[0], _lc=_FP_LIST[1], _h=_FP_LIST[2]):
-    """``turbulent_cf`` for one station (plain floats, for the march's inner loop)."""
-    x = math.log(max(re_theta, 1.0))
-    j = bisect.bisect_right(_lr, x) - 1
-    if j < 0:
-        j, t = 0, 0.0
-    elif j >= len(_lr) - 1:
-        j, t = len(_lr) - 2, 1.0
-    else:
-        t = (x - _lr[j]) / (_lr[j + 1] - _lr[j])
-    cf0 = math.exp(_lc[j] + t * (_lc[j + 1] - _lc[j]))
-    H0 = _h[j] + t * (_h[j + 1] - _h[j])
-    return cf0 * 10.0 ** (-0.678 * (H - H0))
 
 
 def michel_re_theta(re_x):

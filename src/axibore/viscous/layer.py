@@ -55,7 +55,6 @@ import numpy as np
 from .closure import (  # noqa: F401  (LAMINAR ... turbulent_cf are this module's names too)
     _FP_LIST,
     _H1_KNEE,
-    _turbulent_cf_scalar,
     head_H,
     head_H1,
     LAMBDA_MAX,
@@ -220,7 +219,7 @@ def _turbulent(s, s_start, theta_start, H_start, ue, due, r, dr, nu, H_sep):
         u, du, rr, dr_, nu_x = state
         x = max(H1 - 3.3, 1e-12)  # H_of(H1), inline (the march's inner loop)
         H = 1.1 + (x / 0.8234) ** pw_lo if H1 >= knee else 0.6778 + (x / 1.5501) ** pw_hi
-        # _turbulent_cf_scalar(H, u theta / nu), inline
+        # turbulent_cf(H, u theta / nu) for one station, inline (its table, interpolated alike)
         lx = log(max(u * theta / nu_x, 1.0))
         j = bisect_right(lr, lx) - 1
         if j < 0:

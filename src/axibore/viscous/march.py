@@ -184,6 +184,10 @@ class LayerProperties:
         """The fluid's density at the layer's edge (momentum and energy fluxes of the layer)."""
         return self.rho if self.rho_edge is None else self.rho_edge
 
+    def relations(self, start: str) -> tuple[np.ndarray, np.ndarray]:
+        """(rho, nu) of the relations a layer starting ``start`` ("laminar" or "turbulent") uses."""
+        return self.turbulent if start == "turbulent" and self.turbulent is not None else (self.rho, self.nu)
+
 
 def _reference_state(case, p_abs: np.ndarray, rho_e: np.ndarray, ue: np.ndarray) -> LayerProperties:
     """A gas layer by reference states: the incompressible integral relations with a density and viscosity
@@ -367,22 +371,22 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
             s_run = np.r_[0.0, s_all[sel] - sb]
             ue_run = np.r_[0.0 if stagnation else u[0], u]
             r_run = np.r_[rb, r_all[sel]] if not planar else np.ones(sel.size + 1)
-            def run_values(a):
+            keep = np.r_[True, np.diff(s_run) > 0]
+
+            def run_values(a):  # a face array on the run's stations (its start station: the first face's value)
                 return np.r_[a[sel[0]], a[sel]][keep]
 
-            keep = np.r_[True, np.diff(s_run) > 0]
             s_run, ue_run, r_run = s_run[keep], ue_run[keep], r_run[keep]
             nu_run, rho_run = run_values(nu), run_values(rho)
             gas_states = dict(edge_rho=rho_run, turbulent_state=tuple(run_values(a) for a in props.turbulent)) if gas else {}
             face_in_run = sel[keep[1:]]
             if how == "start" and not stagnation:
-                # a gas layer: the estimates are in the reference variables of the part that starts, and go to
-                # the march at the edge state (theta = theta_ref rho_ref/rho_e; a thickness the user gave is one)
-                rho_p, nu_p = ((run_values(props.turbulent[0]), run_values(props.turbulent[1])) if start == "turbulent"
-                               else (run_values(props.rho), nu_run)) if gas else (rho_run, nu_run)
-                th0 = _start_theta(settings, float(ue_run[0]), float(nu_p[0]), float(r_run[0]), planar)
+                # the estimates are in the reference variables of the part that starts (a liquid's: its own), and go
+                # to the march at the edge state (theta = theta_ref rho_ref/rho_e; a thickness the user gave is one)
+                rho_p, nu_p = (float(run_values(a)[0]) for a in props.relations(start))
+                th0 = _start_theta(settings, float(ue_run[0]), nu_p, float(r_run[0]), planar)
                 if th0 and settings.start_momentum_thickness is None:
-                    th0 *= float(rho_p[0] / rho_run[0])
+                    th0 *= rho_p / float(rho_run[0])
             tr = settings.transition
             if isinstance(tr, float):
                 xs = x_all[face_in_run]
@@ -396,7 +400,7 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
                     tr = s_tr
             w = L.march(s_run, r_run, ue_run, nu_run, planar=planar, start=start, theta0=th0, transition=tr,
                         turbulent_separation_H=settings.separation_shape_factor,
-                        rho=run_values(props.rho) if gas else rho_run,
+                        rho=run_values(props.rho),
                         bubble_re_delta_star=None if tr == "none" else L.SHORT_BUBBLE_RE_DELTA_STAR, **gas_states)
             th = w.theta[1:]
             fin = np.isfinite(th)
