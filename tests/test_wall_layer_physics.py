@@ -370,7 +370,7 @@ def test_supersonic_flat_plate_friction_against_van_driest_ii(Me):
 def test_gas_approach_layer_is_the_plate_layer_grown_over_the_upstream_length(start):
     # viscous.upstream_length L: the layer at the inlet plane is the one grown on a plate of length L at the inlet's
     # edge state. A straight pipe at edge Mach 0.8 (T*/Te = 1.087, Fc = 1.075): the stage's first face carries the
-    # theta that layer.march gives on such a plate (laminar: Thwaites' flat plate is the estimate's own relation,
+    # theta that layer.march gives on such a plate (laminar: Blasius' flat plate is the estimate's own relation,
     # measured equal to 1e-15; turbulent: the one-seventh law (Schlichting ch. XXI) against the closure, measured
     # 0.6 % below, within 2 %). Before: the estimate was made in the reference variables and converted again,
     # 8.6 % (laminar) and 6.7 % (turbulent) too thick here (about T*/Te and Fc), more at higher Mach.

@@ -311,10 +311,10 @@ def borda_rows(reservoir_radii: int, size: float) -> list[Row]:
 
 def blasius_rows() -> list[Row]:
     """A flat plate, U = 10 m/s, nu = 1e-6 m^2/s, laminar to x = 0.2 m (Re_x = 2e6), values at its end.
-    Blasius: the wall shear f''(0) = 0.332 gives cf sqrt(Re_x) = 0.664, and the momentum integral
-    d theta/dx = cf/2 then gives theta sqrt(Re_x)/x = 0.664 (derived). The layer is Thwaites' method,
-    whose constants put it 1.0 % above Blasius in theta (sqrt(0.45) = 0.6708) and 1.2 % below in cf
-    (2 x 0.22 / sqrt(0.45) = 0.6560), derived; tolerance 1.5 %."""
+    Blasius: the wall shear f''(0) = 0.332057 (Howarth 1938) gives cf sqrt(Re_x) = 0.664115, and the momentum
+    integral d theta/dx = cf/2 then gives theta sqrt(Re_x)/x = 0.664115 (derived). The laminar method's closure is
+    the Falkner-Skan family, of which the flat plate is a member, so it is exact here: tolerance 0.1 %
+    (Thwaites' method, used before, was 1.0 % above in theta and 1.2 % below in cf)."""
     U, nu, L = 10.0, 1.0e-6, 0.2
     s = np.linspace(0.0, L, 401)
     w = march(s, None, U, nu, planar=True, transition="none", rho=1000.0)
@@ -324,8 +324,8 @@ def blasius_rows() -> list[Row]:
     cf = w.cf[-1] * math.sqrt(re) if laminar else float("nan")
     src = "Blasius 1908; Schlichting, Boundary-Layer Theory, ch. 7: flat plate"
     return [
-        _value("flat plate, laminar: theta sqrt(Re_x) / x", 0.664, theta, 0.015, src, relative=True),
-        _value("flat plate, laminar: cf sqrt(Re_x)", 0.664, cf, 0.015, src, relative=True),
+        _value("flat plate, laminar: theta sqrt(Re_x) / x", 0.664115, theta, 0.001, src, relative=True),
+        _value("flat plate, laminar: cf sqrt(Re_x)", 0.664115, cf, 0.001, src, relative=True),
     ]
 
 

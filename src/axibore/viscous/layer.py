@@ -2,23 +2,22 @@
 
 Methods and sources
 -------------------
-- Laminar: Thwaites' method (Thwaites 1949, Aeronaut. Q. 1) in the axisymmetric form of Rott &
-  Crabtree (1952, J. Aeronaut. Sci. 19):
-      r^2 ue^6 theta^2 = r0^2 ue0^6 theta0^2 + 0.45 int_0^s nu r^2 ue^5 ds
-  (planar: r = 1; nu inside the integral so that a varying viscosity is allowed), evaluated for all
-  stations at once: a cumulative sum over intervals, each integrated exactly (5-point Gauss) with
-  nu, r and ue linear between stations. lambda = theta^2/nu due/ds. Shear and shape
-  functions: the Cebeci & Bradshaw fits as given by White (Viscous Fluid Flow, 3rd ed. 2006,
-  sec. 4-6):
-      0 <= lambda:  l = 0.22 + 1.57 lambda - 1.8 lambda^2,  H = 2.61 - 3.75 lambda + 5.24 lambda^2
-      lambda < 0:   l = 0.22 + 1.402 lambda + 0.018 lambda/(lambda + 0.107),
-                    H = 2.088 + 0.0731/(lambda + 0.14)
-  The fits are used up to lambda = 0.25, where they meet Thwaites' own table (l = 0.500,
-  H = 2.00); above it l and H are held at their lambda = 0.25 values.
-  cf = 2 nu l/(ue theta), tau_w = mu ue l/theta. Laminar separation at lambda = -0.09.
-  A stagnation-point start (ue = 0 at the first station) takes the limiting lambda of the next
-  station and theta = sqrt(lambda nu/(due/ds)); a sharp leading edge (ue > 0, theta = 0) has an
-  infinite wall shear, reported as NaN at that one station.
+- Laminar: the momentum and kinetic-energy integral equations (a two-equation method),
+      d theta/ds  = cf/2 - (2 + H) theta/ue due/ds - theta/r dr/ds
+      d theta*/ds = 2 CD - 3 theta*/ue due/ds - theta*/r dr/ds     (theta* = H* theta)
+  closed by the Falkner-Skan family of similar layers (Falkner & Skan 1931; Hartree 1937), computed in
+  ``falkner_skan``: H, cf Re_theta/2 and 2 CD Re_theta/H* as functions of H*, which falls monotonically
+  from strong acceleration (beta = 20, where the closure is held) to the separation profile
+  (f''(0) = 0, H = 4.03, H* = 1.515). Laminar separation is where H* reaches that least value. The
+  method is exact for every member of the family (the flat plate, Hiemenz' stagnation point, wedge
+  flows) and puts Howarth's retarded flow's separation at x/L = 0.1197 against the exact 0.1199
+  (Thwaites' one-equation method: 0.1231). Marched as the turbulent layer (RK4 on the PCHIP curves,
+  substeps limited by the energy equation's relaxation length and, approaching separation, by the
+  distance to it). The start is a similar layer over the first interval (``closure.similar_start``,
+  derived): a stagnation point (ue = 0 at the first station; ue ~ x^m with m from the first two
+  intervals), a sharp leading edge, or a pointed start on the axis (Mangler's cone); a given theta0 at
+  a wall where ue > 0 starts with the flat plate's H*. cf = 2 nu l/(ue theta). A sharp leading edge
+  (ue > 0, theta = 0) has an infinite wall shear, reported as NaN at that one station.
 - Transition: Michel (1951), Re_theta,tr = 2.9 Re_x^0.4, with x = s, the arc
   length from the wall's upstream end, and Re_x = ue s/nu. Or forced at a given s, or none.
 - Turbulent: Head's entrainment method (Head 1958, ARC R&M 3152), as usually cited:
@@ -29,7 +28,7 @@ Methods and sources
   with the skin friction cf = cf0(Re_theta) 10^(-0.678 (H - H0(Re_theta))): Schlichting's flat-plate
   law carried to Re_theta, with Ludwieg & Tillmann's (1949) shape dependence (see ``turbulent_cf``;
   their own power law 0.246 10^(-0.678 H) Re_theta^-0.268 is 7-18 % low at Re_x 1e6-1e8), integrated by classical RK4 on the PCHIP interpolants of ue and r (substeps of
-  at most two momentum thicknesses). Momentum thickness is continuous at
+  at most TURBULENT_STEP_THETAS momentum thicknesses). Momentum thickness is continuous at
   transition; the turbulent shape factor starts at H = 1.4 (a setting; common practice).
   Turbulent separation when H reaches 2.4 (a setting; values of 1.8-2.8 are quoted in the
   literature).
@@ -54,19 +53,23 @@ import numpy as np
 
 from .closure import (  # noqa: F401  (LAMINAR ... turbulent_cf are this module's names too)
     _FP_LIST,
+    _FS_TABLE,
     _H1_KNEE,
+    _LAM_LIST,
+    FS_BLASIUS,
+    FS_H_SEP,
+    FS_HSTAR_MAX,
+    FS_HSTAR_SEP,
     head_H,
     head_H1,
-    LAMBDA_MAX,
     LAMINAR,
-    LAMINAR_SEPARATION_LAMBDA,
+    laminar_closure,
     ludwieg_tillmann_cf,
     michel_re_theta,
     SEPARATED,
     SHORT_BUBBLE_RE_DELTA_STAR,
+    similar_start,
     STATE_NAMES,
-    thwaites_H,
-    thwaites_l,
     TURBULENT,
     turbulent_cf,
     TURBULENT_START_H,
@@ -91,7 +94,7 @@ class WallLayer:
     tau_w: np.ndarray | None  # wall shear [Pa], when the density was given
     state: np.ndarray  # LAMINAR / TURBULENT / SEPARATED per station
     Re_theta: np.ndarray
-    lam: np.ndarray  # Thwaites' lambda = theta^2/nu due/ds (pressure-gradient parameter)
+    lam: np.ndarray  # the pressure-gradient parameter lambda = theta^2/nu due/ds (Pohlhausen's, Thwaites')
     transition_s: float | None
     separation_s: float | None
     separation_kind: str | None = None  # "laminar" | "turbulent" | None
@@ -138,25 +141,81 @@ def _cumulative_integral(s, r, ue, nu):
     return np.concatenate([[0.0], np.cumsum(per)])
 
 
-def _laminar(s, r, ue, nu, due, theta0):
-    """Thwaites' method at every station (vectorised). Returns theta, lambda."""
-    integral = 0.45 * _cumulative_integral(s, r, ue, nu)
-    if theta0 is not None:
-        integral = integral + r[0] ** 2 * ue[0] ** 6 * theta0**2
-    w = r**2 * ue**6
-    theta2 = np.zeros_like(s)
-    ok = w > 0.0
-    theta2[ok] = integral[ok] / w[ok]
-    lam = theta2 / nu * due
-    if not ok[0] and len(s) > 1:
-        # stagnation point (ue = 0) or a pointed start (r = 0): the limit from the next station
-        if ue[0] == 0.0 and due[0] > 0.0:
-            lam[0] = lam[1]
-            theta2[0] = lam[0] * nu[0] / due[0]
-        else:
-            theta2[0] = 0.0 if theta0 is None else theta0**2
-            lam[0] = theta2[0] / nu[0] * due[0]
-    return np.sqrt(theta2), lam
+# substeps of the laminar march: at most this share of the energy equation's relaxation length (RK4 is
+# stable below 2.8 of it), of theta/|theta'| and of the distance to separation at the rate of H* (see
+# ``_laminar``'s max_step), and never below LAMINAR_MIN_STEP of the interval.
+LAMINAR_STEP_SHARE = 0.5
+LAMINAR_MIN_STEP = 1e-3
+
+
+def _laminar(edge, theta0, planar):
+    """The laminar two-equation march (momentum and kinetic-energy integrals with the Falkner-Skan
+    closure, see the module text) over all stations. Returns (theta, H*, s_separation or None); theta and
+    H* are NaN from the laminar separation on.
+
+    The start is a similar layer (``closure.similar_start``): a stagnation point (ue = 0 at the first
+    station: ue ~ x^m, m from the first two intervals), a sharp leading edge or a pointed start on the axis (no ``theta0``, or r = 0), each
+    taken over the first interval; with ``theta0`` at a wall where ue > 0 the march starts from theta0 with
+    the flat plate's H*. Classical RK4 on the PCHIP interpolants of ue and r, as the turbulent march."""
+    s, ue, r, nu = edge.s, *(np.asarray(edge._l[j]) for j in (1, 3, 5))
+    n = s.size
+    theta = np.full(n, np.nan)
+    Hs = np.full(n, np.nan)
+    k = 0 if planar or r[0] > 0.0 else 1
+    if ue[0] == 0.0 or theta0 is None or not theta0 > 0.0 or k == 1:
+        m = 0.0  # a sharp edge: ue finite at x = 0
+        if ue[0] == 0.0:  # a stagnation point: ue ~ x^m, m from the first two intervals (1 at a blunt face)
+            m = 1.0 if n < 3 else float(np.clip(math.log(ue[2] / ue[1]) / math.log((s[2] - s[0]) / (s[1] - s[0])), 0.0, 4.0))
+        hs0, Lam = similar_start(m, k)
+        x1 = s[1] - s[0]
+        theta[0] = math.sqrt(Lam * nu[0] * x1 / ue[1]) if m == 1.0 else 0.0  # theta ~ x^((1 - m)/2)
+        Hs[0] = hs0
+        theta[1] = math.sqrt(Lam * nu[1] * x1 / ue[1])
+        Hs[1] = hs0
+        i0 = 1
+    else:
+        theta[0], Hs[0], i0 = float(theta0), float(FS_BLASIUS[3]), 0
+    if n - 1 <= i0:
+        return theta, Hs, None
+    hs_lo, dhs, tH, tL, tD = _LAM_LIST
+    last = len(tH) - 2
+
+    def closure_at(hs):
+        t = (hs - hs_lo) / dhs
+        j = int(t) if t > 0.0 else 0
+        return (last, 1.0) if j > last else (j, max(t - j, 0.0))
+
+    def rhs(state, th, hs):
+        u, du, rr, dr_, nu_x = state
+        j, t = closure_at(hs)  # laminar_closure(hs), inline
+        H = tH[j] + t * (tH[j + 1] - tH[j])
+        ll = tL[j] + t * (tL[j + 1] - tL[j])
+        dd = tD[j] + t * (tD[j + 1] - tD[j])
+        re = u * th / nu_x
+        g = th * du / u
+        return ll / re - (2.0 + H) * g - th * dr_ / rr, hs * ((dd - ll) / re + (H - 1.0) * g) / th
+
+    def max_step(i, x, th, hs):
+        """The least of: LAMINAR_STEP_SHARE of the energy equation's relaxation length theta Re_theta
+        |dH*/d(d - l)|/H* (stability), of theta/|theta'| and, when H* falls, of the distance at which it
+        would reach separation (accuracy; the steps shorten towards separation). At least LAMINAR_MIN_STEP
+        of the interval."""
+        state = edge.station[i] if x == edge.s[i] else edge.at(i, x)
+        j, _ = closure_at(hs)
+        dg = abs((tD[j + 1] - tL[j + 1]) - (tD[j] - tL[j]))
+        h = LAMINAR_STEP_SHARE * th * th * state[0] / state[4] * dhs / (hs * dg) if dg > 0.0 else math.inf
+        dth, dhs_ds = rhs(state, th, hs)
+        if dth != 0.0:
+            h = min(h, LAMINAR_STEP_SHARE * th / abs(dth))
+        if dhs_ds < 0.0:
+            h = min(h, LAMINAR_STEP_SHARE * (hs - FS_HSTAR_SEP) / -dhs_ds)
+        return max(h, LAMINAR_MIN_STEP * (edge.s[i + 1] - edge.s[i]))
+
+    s_sep = _rk4_march(edge, i0, float(s[i0]), float(theta[i0]), float(Hs[i0]), rhs, max_step, FS_HSTAR_SEP, theta, Hs)
+    if s_sep is not None:
+        gone = s >= s_sep
+        theta[gone], Hs[gone] = np.nan, np.nan
+    return theta, Hs, s_sep
 
 
 # substeps of the turbulent march: at most this many momentum thicknesses per step (the entrainment
@@ -167,57 +226,31 @@ def _laminar(s, r, ue, nu, due, theta0):
 TURBULENT_STEP_THETAS = 4.0
 
 
-def _turbulent(s, s_start, theta_start, H_start, ue, due, r, dr, nu, H_sep):
+def _turbulent(edge, s_start, theta_start, H_start, H_sep):
     """Head's method from ``s_start`` over the stations s > s_start. Returns
     (theta, H, s_separation or None) on those stations (NaN after separation).
 
-    ue, due, r, dr: values and slopes of the PCHIP interpolants at the stations (the march
-    evaluates the same piecewise cubic Hermite curves between them); nu linear. Classical RK4,
-    each station interval cut into substeps of at most TURBULENT_STEP_THETAS momentum thicknesses.
-    The march is sequential by nature (an initial-value problem along the wall); its loop runs
-    over stations with plain floats, a few microseconds a step.
+    ``edge``: the PCHIP interpolants of ue and r and linear nu (``_EdgeCurves``, nu the turbulent part's).
+    Classical RK4 (``_rk4_march``), each station interval cut into substeps of at most
+    TURBULENT_STEP_THETAS momentum thicknesses.
     """
+    s = edge.s
     out_theta = np.full(s.shape, np.nan)
-    out_H = np.full(s.shape, np.nan)
+    out_H1 = np.full(s.shape, np.nan)
     H1_sep = float(head_H1(H_sep))
     H1_0 = float(head_H1(H_start))
     if H1_0 <= H1_sep:
-        return out_theta, out_H, float(s_start)
+        return out_theta, out_H1, float(s_start)
     if s[-1] <= s_start:
-        return out_theta, out_H, None
-    sl, uel, duel, rl, drl, nul = (a.tolist() for a in (s, ue, due, r, dr, nu))
+        return out_theta, out_H1, None
     knee, pw_lo, pw_hi = _H1_KNEE, -1.0 / 1.287, -1.0 / 3.064
-    # the edge state in the middle and at the end of a step over a whole interval, for every interval
-    # at once (the same arithmetic as state_at, so the same floats; a step from a station starts
-    # from the station's own values, which state_at gives exactly at t = 0)
-    gap = s[1:] - s[:-1]
-    whole = {"mid": _hermite_states(s, ue, due, r, dr, nu, s[:-1] + 0.5 * gap),
-             "end": _hermite_states(s, ue, due, r, dr, nu, s[:-1] + gap)}
-    at_station = list(zip(uel, duel, rl, drl, nul))
-
-    def H_of(H1):
-        x = max(H1 - 3.3, 1e-12)
-        return 1.1 + (x / 0.8234) ** pw_lo if H1 >= knee else 0.6778 + (x / 1.5501) ** pw_hi
-
-    def state_at(i, x):
-        h = sl[i + 1] - sl[i]
-        t = (x - sl[i]) / h
-        t2, t3 = t * t, t * t * t
-        h00, h10, h01, h11 = 2 * t3 - 3 * t2 + 1, t3 - 2 * t2 + t, -2 * t3 + 3 * t2, t3 - t2
-        d00, d10, d01, d11 = (6 * t2 - 6 * t) / h, 3 * t2 - 4 * t + 1, (6 * t - 6 * t2) / h, 3 * t2 - 2 * t
-        u = h00 * uel[i] + h10 * h * duel[i] + h01 * uel[i + 1] + h11 * h * duel[i + 1]
-        du = d00 * uel[i] + d10 * duel[i] + d01 * uel[i + 1] + d11 * duel[i + 1]
-        rr = h00 * rl[i] + h10 * h * drl[i] + h01 * rl[i + 1] + h11 * h * drl[i + 1]
-        dr_ = d00 * rl[i] + d10 * drl[i] + d01 * rl[i + 1] + d11 * drl[i + 1]
-        return u, du, rr, dr_, nul[i] + t * (nul[i + 1] - nul[i])
-
     lr, lc, lh, last = _FP_LIST[0], _FP_LIST[1], _FP_LIST[2], len(_FP_LIST[0]) - 2
     log, exp, bisect_right = math.log, math.exp, bisect.bisect_right
 
     def rhs(state, theta, H1):
         theta = max(theta, 1e-300)
         u, du, rr, dr_, nu_x = state
-        x = max(H1 - 3.3, 1e-12)  # H_of(H1), inline (the march's inner loop)
+        x = max(H1 - 3.3, 1e-12)  # head_H(H1), inline (the march's inner loop)
         H = 1.1 + (x / 0.8234) ** pw_lo if H1 >= knee else 0.6778 + (x / 1.5501) ** pw_hi
         # turbulent_cf(H, u theta / nu) for one station, inline (its table, interpolated alike)
         lx = log(max(u * theta / nu_x, 1.0))
@@ -233,51 +266,90 @@ def _turbulent(s, s_start, theta_start, H_start, ue, due, r, dr, nu, H_sep):
         dH1 = 0.0306 * max(H1 - 3.0, 1e-12) ** -0.6169 / theta - H1 * (dr_ / rr + du / u + dtheta / theta)
         return dtheta, dH1
 
+    def max_step(i, x, theta, H1):
+        return TURBULENT_STEP_THETAS * theta
+
     i = max(int(np.searchsorted(s, s_start, side="right")) - 1, 0)
-    x, th, H1 = float(s_start), float(theta_start), H1_0
-    n = len(sl)
+    s_sep = _rk4_march(edge, i, float(s_start), float(theta_start), H1_0, rhs, max_step, H1_sep, out_theta, out_H1)
+    with np.errstate(invalid="ignore"):
+        return out_theta, np.where(np.isfinite(out_H1), head_H(out_H1), np.nan), s_sep
+
+
+class _EdgeCurves:
+    """The edge state along the wall between stations: ue and r as the cubic Hermite curves of their
+    station values and PCHIP slopes, nu linear. ``at(i, x)`` is (ue, due/ds, r, dr/ds, nu) at x in
+    interval i; ``mid``/``end``/``station`` hold it for whole-interval steps, vectorised with the same
+    arithmetic (the same floats)."""
+
+    def __init__(self, s, ue, due, r, dr, nu):
+        self.s = s
+        self._l = tuple(a.tolist() for a in (s, ue, due, r, dr, nu))
+        gap = s[1:] - s[:-1]
+        self.mid = self._all(s, ue, due, r, dr, nu, s[:-1] + 0.5 * gap)
+        self.end = self._all(s, ue, due, r, dr, nu, s[:-1] + gap)
+        self.station = list(zip(*self._l[1:]))
+
+    def at(self, i, x):
+        sl, uel, duel, rl, drl, nul = self._l
+        h = sl[i + 1] - sl[i]
+        t = (x - sl[i]) / h
+        t2, t3 = t * t, t * t * t
+        h00, h10, h01, h11 = 2 * t3 - 3 * t2 + 1, t3 - 2 * t2 + t, -2 * t3 + 3 * t2, t3 - t2
+        d00, d10, d01, d11 = (6 * t2 - 6 * t) / h, 3 * t2 - 4 * t + 1, (6 * t - 6 * t2) / h, 3 * t2 - 2 * t
+        u = h00 * uel[i] + h10 * h * duel[i] + h01 * uel[i + 1] + h11 * h * duel[i + 1]
+        du = d00 * uel[i] + d10 * duel[i] + d01 * uel[i + 1] + d11 * duel[i + 1]
+        rr = h00 * rl[i] + h10 * h * drl[i] + h01 * rl[i + 1] + h11 * h * drl[i + 1]
+        dr_ = d00 * rl[i] + d10 * drl[i] + d01 * rl[i + 1] + d11 * drl[i + 1]
+        return u, du, rr, dr_, nul[i] + t * (nul[i + 1] - nul[i])
+
+    @staticmethod
+    def _all(s, ue, due, r, dr, nu, x) -> list[tuple]:
+        s0, h = s[:-1], s[1:] - s[:-1]
+        t = (x - s0) / h
+        t2, t3 = t * t, t * t * t
+        h00, h10, h01, h11 = 2 * t3 - 3 * t2 + 1, t3 - 2 * t2 + t, -2 * t3 + 3 * t2, t3 - t2
+        d00, d10, d01, d11 = (6 * t2 - 6 * t) / h, 3 * t2 - 4 * t + 1, (6 * t - 6 * t2) / h, 3 * t2 - 2 * t
+        u = h00 * ue[:-1] + h10 * h * due[:-1] + h01 * ue[1:] + h11 * h * due[1:]
+        du = d00 * ue[:-1] + d10 * due[:-1] + d01 * ue[1:] + d11 * due[1:]
+        rr = h00 * r[:-1] + h10 * h * dr[:-1] + h01 * r[1:] + h11 * h * dr[1:]
+        dr_ = d00 * r[:-1] + d10 * dr[:-1] + d01 * r[1:] + d11 * dr[1:]
+        return list(zip(u.tolist(), du.tolist(), rr.tolist(), dr_.tolist(), (nu[:-1] + t * (nu[1:] - nu[:-1])).tolist()))
+
+
+def _rk4_march(edge, i, x, a, b, rhs, max_step, b_stop, out_a, out_b):
+    """Classical RK4 for the two integral variables (a, b) = (theta, H1 or H*) from x in interval i to the
+    wall's end, on ``edge``'s curves; substeps of at most max_step(i, x, a, b), ending at every station,
+    where (a, b) is written to out_a, out_b. Stops where b falls to b_stop (separation), or theta fails,
+    and returns that s (linear in b within the step), else None. The march is sequential by nature (an
+    initial-value problem along the wall); its loop runs over stations with plain floats."""
+    sl, n = edge._l[0], len(edge._l[0])
     s_end, s_end_at = None, None
     while i < n - 1:
         x_end = sl[i + 1]
         while x < x_end:
-            h = min(x_end - x, TURBULENT_STEP_THETAS * th)
+            h = min(x_end - x, max_step(i, x, a, b))
             if x_end - x - h < 1e-12 * (x_end - sl[i]):
                 h = x_end - x
             # the edge state at the step's start, middle and end (the start is the last step's end)
             if x == sl[i] and h == x_end - x:
-                s0, s_mid, s_end = at_station[i], whole["mid"][i], whole["end"][i]
+                s0, s_mid, s_end = edge.station[i], edge.mid[i], edge.end[i]
             else:
-                s0 = s_end if s_end_at == (i, x) else state_at(i, x)
-                s_mid, s_end = state_at(i, x + 0.5 * h), state_at(i, x + h)
+                s0 = s_end if s_end_at == (i, x) else edge.at(i, x)
+                s_mid, s_end = edge.at(i, x + 0.5 * h), edge.at(i, x + h)
             s_end_at = (i, x + h)
-            k1 = rhs(s0, th, H1)
-            k2 = rhs(s_mid, th + 0.5 * h * k1[0], H1 + 0.5 * h * k1[1])
-            k3 = rhs(s_mid, th + 0.5 * h * k2[0], H1 + 0.5 * h * k2[1])
-            k4 = rhs(s_end, th + h * k3[0], H1 + h * k3[1])
-            th_n = th + h / 6.0 * (k1[0] + 2 * k2[0] + 2 * k3[0] + k4[0])
-            H1_n = H1 + h / 6.0 * (k1[1] + 2 * k2[1] + 2 * k3[1] + k4[1])
-            if not (H1_n > H1_sep and th_n > 0.0 and math.isfinite(th_n)):
-                f = (H1 - H1_sep) / (H1 - H1_n) if math.isfinite(H1_n) and H1 != H1_n else 0.0
-                return out_theta, out_H, x + min(max(f, 0.0), 1.0) * h
-            x, th, H1 = (x_end if h == x_end - x else x + h), th_n, H1_n
+            k1 = rhs(s0, a, b)
+            k2 = rhs(s_mid, a + 0.5 * h * k1[0], b + 0.5 * h * k1[1])
+            k3 = rhs(s_mid, a + 0.5 * h * k2[0], b + 0.5 * h * k2[1])
+            k4 = rhs(s_end, a + h * k3[0], b + h * k3[1])
+            a_n = a + h / 6.0 * (k1[0] + 2 * k2[0] + 2 * k3[0] + k4[0])
+            b_n = b + h / 6.0 * (k1[1] + 2 * k2[1] + 2 * k3[1] + k4[1])
+            if not (b_n > b_stop and a_n > 0.0 and math.isfinite(a_n)):
+                f = (b - b_stop) / (b - b_n) if math.isfinite(b_n) and b != b_n else 0.0
+                return x + min(max(f, 0.0), 1.0) * h
+            x, a, b = (x_end if h == x_end - x else x + h), a_n, b_n
         i += 1
-        out_theta[i] = th
-        out_H[i] = H_of(H1)
-    return out_theta, out_H, None
-
-
-def _hermite_states(s, ue, due, r, dr, nu, x) -> list[tuple]:
-    """``_turbulent``'s state_at(i, x[i]) for every interval i, vectorised (the same expressions)."""
-    s0, h = s[:-1], s[1:] - s[:-1]
-    t = (x - s0) / h
-    t2, t3 = t * t, t * t * t
-    h00, h10, h01, h11 = 2 * t3 - 3 * t2 + 1, t3 - 2 * t2 + t, -2 * t3 + 3 * t2, t3 - t2
-    d00, d10, d01, d11 = (6 * t2 - 6 * t) / h, 3 * t2 - 4 * t + 1, (6 * t - 6 * t2) / h, 3 * t2 - 2 * t
-    u = h00 * ue[:-1] + h10 * h * due[:-1] + h01 * ue[1:] + h11 * h * due[1:]
-    du = d00 * ue[:-1] + d10 * due[:-1] + d01 * ue[1:] + d11 * due[1:]
-    rr = h00 * r[:-1] + h10 * h * dr[:-1] + h01 * r[1:] + h11 * h * dr[1:]
-    dr_ = d00 * r[:-1] + d10 * dr[:-1] + d01 * r[1:] + d11 * dr[1:]
-    return list(zip(u.tolist(), du.tolist(), rr.tolist(), dr_.tolist(), (nu[:-1] + t * (nu[1:] - nu[:-1])).tolist()))
+        out_a[i], out_b[i] = a, b
+    return None
 
 
 def march(
@@ -302,7 +374,7 @@ def march(
     s: (n,) arc length from the wall's upstream end, increasing [m]; r: (n,) wall radius [m]
     (ignored when ``planar``); ue: (n,) inviscid edge speed (> 0; 0 allowed at the first station,
     a stagnation point) [m/s]; nu: kinematic viscosity, scalar or (n,) [m^2/s].
-    start: "laminar" (Thwaites from the first station, with ``theta0`` if given, else from zero)
+    start: "laminar" (the two-equation method from the first station, with ``theta0`` if given, else from zero)
     or "turbulent" (Head from the first station, ``theta0`` required, H = ``turbulent_start_H``).
     transition: "michel", "none", or an arc length where it is forced.
     rho: density, scalar or (n,) [kg/m^3]; if given, the wall shear ``tau_w`` is returned.
@@ -367,13 +439,12 @@ def march(
     separation_kind = None
     bubble_s = None
 
+    edge_l = _EdgeCurves(s, ue, due, r, dr, nu)
+    edge_t = edge_l if nu_t is nu else _EdgeCurves(s, ue, due, r, dr, nu_t)
     if start == "laminar":
-        th_l, lam_l = _laminar(s, r, ue, nu, due, theta0)
-        # laminar separation: first station (after the first) with lambda below -0.09
-        g = lam_l - LAMINAR_SEPARATION_LAMBDA
-        below = np.flatnonzero(g < 0.0)
-        i_sep = int(below[0]) if below.size else n
-        s_lsep = _crossing(s, g, i_sep) if below.size else None
+        th_l, hs_l, s_lsep = _laminar(edge_l, theta0, planar)
+        # laminar separation: the energy shape factor falls to the separation profile's
+        i_sep = int(np.searchsorted(s, s_lsep)) if s_lsep is not None else n
         # transition
         i_tr = n
         if transition == "michel":
@@ -392,8 +463,8 @@ def march(
                 i_tr = int(np.searchsorted(s, st))
                 transition_s = max(st, float(s[0]))
         if bubble_re_delta_star is not None and s_lsep is not None and transition_s is None:
-            # the displacement-thickness Reynolds number at the laminar separation (H = thwaites_H(-0.09))
-            re_ds = float(np.interp(s_lsep, s, ue * th_l / nu)) * float(thwaites_H(LAMINAR_SEPARATION_LAMBDA))
+            # the displacement-thickness Reynolds number at the laminar separation (H of the separation profile)
+            re_ds = float(np.interp(s_lsep, s[:i_sep], (ue * th_l / nu)[:i_sep])) * FS_H_SEP
             if re_ds >= bubble_re_delta_star:
                 bubble_s = transition_s = float(s_lsep)
                 i_tr = i_sep
@@ -402,9 +473,9 @@ def march(
         n_lam = min(i_tr, i_sep)
         sl = slice(0, n_lam)
         theta[sl] = th_l[sl]
-        lam[sl] = lam_l[sl]
-        H[sl] = thwaites_H(lam_l[sl])
-        lvals = thwaites_l(lam_l[sl])
+        H[sl], lvals, _ = laminar_closure(hs_l[sl])
+        lam[sl] = th_l[sl] ** 2 / nu[sl] * due[sl]
+        held = hs_l[sl] > FS_HSTAR_MAX
         with np.errstate(divide="ignore", invalid="ignore"):
             cf[sl] = np.where((theta[sl] > 0.0) & (ue[sl] > 0.0), 2.0 * nu[sl] * lvals / (ue[sl] * theta[sl]), np.nan)
         if n_lam < n and transition_s is None:
@@ -412,19 +483,18 @@ def march(
             separation_kind = "laminar"
             state[n_lam:] = SEPARATED
         elif n_lam < n:
-            th_tr = float(np.interp(transition_s, s, th_l))
+            th_tr = float(np.interp(transition_s, s[:i_sep], th_l[:i_sep]))
             if gas:  # theta continuous at the edge state: from the laminar part's reference variables to the turbulent's
                 th_tr *= float(np.interp(transition_s, s, rho_l)) / float(np.interp(transition_s, s, rho_t))
             s_start, th_start = transition_s, th_tr
     else:
         n_lam = 0
+        held = np.zeros(0, dtype=bool)
         s_start, th_start = float(s[0]), float(theta0)
 
     if n_lam < n and separation_kind is None:
         mask = np.arange(n) >= n_lam
-        th_t, H_t, s_tsep = _turbulent(
-            s, s_start, th_start, turbulent_start_H, ue, due, r, dr, nu_t, turbulent_separation_H
-        )
+        th_t, H_t, s_tsep = _turbulent(edge_t, s_start, th_start, turbulent_start_H, turbulent_separation_H)
         at_start = np.isclose(s, s_start, rtol=0.0, atol=1e-12 * max(1.0, abs(s_start))) & mask
         th_t[at_start] = th_start
         H_t[at_start] = turbulent_start_H
@@ -463,8 +533,9 @@ def march(
             f"{separation_kind} separation at s = {separation_s:.6g} m: the rest of the wall is marked separated"
             " (values NaN); results near separation are indicative only"
         )
-    if np.any(lam > LAMBDA_MAX):
-        notes.append(f"lambda above {LAMBDA_MAX} (strong acceleration): l and H held at their lambda = {LAMBDA_MAX} values")
+    if np.any(held):
+        notes.append("laminar layer accelerated beyond the Falkner-Skan layers tabulated (beta above "
+                     f"{_FS_TABLE[0, 0]:g}): its closure held at their end")
 
     return WallLayer(
         s=_frozen(s),

@@ -321,7 +321,7 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
              f"bubble: ue delta*/nu at or above {L.SHORT_BUBBLE_RE_DELTA_STAR:g}, Owen & Klanfer 1953); transition is "
              "placed there" for c in chains.values() for x in c.bubbles_x]
     notes += [
-        "wall layer: Thwaites (laminar, axisymmetric form of Rott & Crabtree), Michel's transition, Head's entrainment "
+        "wall layer: the momentum and kinetic-energy integrals with the Falkner-Skan closure (laminar), Michel's transition, Head's entrainment "
         "method with the flat-plate friction of Schlichting in Re_theta and the shape dependence of Ludwieg & "
         "Tillmann (turbulent), marched on the smoothed inviscid wall speed; gases on an adiabatic wall at reference states (laminar: "
         "Eckert's temperature; turbulent: the state that gives van Driest II), thicknesses and cf at the edge state",

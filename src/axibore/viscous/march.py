@@ -259,7 +259,7 @@ def _start_theta(settings: ViscousSettings, ue0: float, nu0: float, r0: float, p
         # forgotten by Re_x = 1e5, where the flat-plate friction is within 1 % of Schlichting's, tests/test_viscous.py)
         return TURBULENT_ORIGIN_RE_THETA * nu0 / ue0 if settings.start == "turbulent" else None
     if settings.start == "laminar":
-        theta = math.sqrt(0.45 * nu0 * Lu / ue0)  # Thwaites' flat plate (the method's own value)
+        theta = math.sqrt(2.0 * L.FS_BLASIUS[4] * nu0 * Lu / ue0)  # Blasius, 0.664 sqrt(nu L/U): the laminar march's plate
         return theta if planar else min(theta, 2.0 / 15.0 * r0)  # at most Poiseuille's developed profile (rules.py)
     theta = 0.036 * Lu * (ue0 * Lu / nu0) ** -0.2  # one-seventh law, theta = (7/72) delta, delta = 0.37 x Re_x^-0.2
     return theta if planar else min(theta, 7.0 / 72.0 * r0)  # at most a fully developed pipe layer (delta = r)
