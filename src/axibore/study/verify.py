@@ -21,7 +21,7 @@ from ..io.ownership import record
 from ..mesh import MeshError
 from ..run import RunRefused
 from ..solvers.base import FlowError
-from .verify_sets import (Row, blasius_rows, borda_rows, cd_nozzle_rows, celik_rows, cone_rows, converging_nozzle_rows,
+from .verify_sets import (Row, blasius_rows, borda_rows, howarth_rows, cd_nozzle_rows, celik_rows, cone_rows, converging_nozzle_rows,
                           isentropic_rows, iso_nozzle_rows, momentum_rows, slot_rows, sphere_rows, water_rows)
 
 CAPABILITIES = ("potential", "gas", "free jet", "wall layer", "GCI", "fluid properties")
@@ -42,6 +42,7 @@ def verification_sets(quick: bool) -> list[tuple[str, str, Callable[[], list[Row
         ("free jet", "planar slot", lambda: slot_rows(0.2 if quick else 0.15)),
         ("free jet", "Borda tube", lambda: borda_rows(8, 0.2) if quick else borda_rows(15, 0.2)),
         ("wall layer", "flat plate", blasius_rows),
+        ("wall layer", "retarded flow", howarth_rows),
         ("wall layer", "ISO 5167-3 nozzle", iso_nozzle_rows),
     ]
 

@@ -329,6 +329,18 @@ def blasius_rows() -> list[Row]:
     ]
 
 
+def howarth_rows() -> list[Row]:
+    """Howarth's retarded flow ue = U0 (1 - x/L), U0 = 10 m/s, L = 1 m, nu = 1e-6 m^2/s: the laminar layer's
+    separation. Howarth (1938), Proc. R. Soc. A 164, "On the solution of the laminar boundary layer equations":
+    x/L = 0.1199 from the series solution of the layer equations; tolerance 2 % (issue 20's), the method's own
+    error 0.15 % (Thwaites' one-equation method gives 0.1231, derived in tests/test_viscous.py)."""
+    s = np.linspace(0.0, 0.3, 601)
+    w = march(s, None, 10.0 * (1.0 - s), 1.0e-6, planar=True, transition="none")
+    x_sep = w.separation_s if w.separation_kind == "laminar" else float("nan")
+    src = "Howarth 1938, Proc. R. Soc. A 164: retarded flow ue = U0 (1 - x/L), separation from the series solution"
+    return [_value("retarded flow ue = U0 (1 - x/L): laminar separation x/L", 0.1199, x_sep, 0.02, src, relative=True)]
+
+
 def iso_nozzle_points(beta: float, D: float) -> list[tuple[float, float]]:
     """A high-ratio long-radius nozzle (ISO 5167-3:2003 as ../shared/SOURCES.md describes it): a
     quarter ellipse from the pipe wall at the inlet face, semi-axes D/2 along the axis and (D - d)/2
