@@ -28,7 +28,9 @@ The discrete problem (one mesh, built once; its nodes move with the jet, its top
   flow to each element's rotation is the transpiration solution (the normal velocity a small
   normal displacement delta of a streamline implies, (1/r) d(r q delta)/ds, solved with the same
   factorisation), plus the moved arc lengths; within a few elements of the lip, where that
-  linearisation is poor, the columns are taken by differences.
+  linearisation is poor, the columns are taken by differences. A difference step (here and in the
+  Newton-Krylov steps below) is solved with the state's own factorisation: one solve of the change
+  instead of a factorisation of the moved mesh (``PotentialJet.solve(mesh, near=...)``).
 * Settled when every enforced face is within TOLERANCE of V times the lip radius. Then the
   registered solver solves the flow on the settled jet at the operating point.
 """
@@ -200,9 +202,11 @@ class _JetProblem:
         scaled[:, 1] = self.bottom + (ro[:, 1] - self.bottom) * (P[-1, 1] - self.bottom) / (r_end0 - self.bottom)
         return np.vstack([P, scaled])
 
-    def evaluate(self, u: np.ndarray, V: float | None) -> dict | None:
+    def evaluate(self, u: np.ndarray, V: float | None, near: dict | None = None) -> dict | None:
         """The state at directions u and jet speed V (None: from the momentum balance, or, at the
-        first call of the local condition, the far speed); None where the mesh cannot follow."""
+        first call of the local condition, the far speed); None where the mesh cannot follow.
+        ``near``: a state a difference step away, whose factorisation solves this one (a value for a
+        difference quotient; such a state has no factorisation for a Jacobian of its own)."""
         theta = self.theta(u)
         P = self.shape.points(theta)
         if jet_problem(self.profile, P):
@@ -211,7 +215,7 @@ class _JetProblem:
             mesh = self.mover.move(self.positions(P))
         except MeshError:
             return None
-        field = self.service.solve(mesh)
+        field = self.service.solve(mesh, None if near is None else near["field"])
         L = np.linalg.norm(np.diff(P, axis=0), axis=1)
         s = np.r_[0.0, np.cumsum(L)]
         remaining = s[-1] - 0.5 * (s[:-1] + s[1:])
@@ -254,7 +258,7 @@ class _JetProblem:
         for j in range(min(FD_COLUMNS, Ju.shape[1])):  # near the lip: differences
             e = np.zeros_like(st["u"])
             e[j] = FD_STEP
-            other = self.evaluate(st["u"] + e, None if self.momentum else V)
+            other = self.evaluate(st["u"] + e, None if self.momentum else V, near=st)
             if other is not None:
                 Ju[:, j] = (other["residual"] - st["residual"]) / FD_STEP
         return Ju if self.momentum else np.column_stack([Ju, rem[self.rows]])
@@ -362,9 +366,9 @@ def _krylov_step(jp: _JetProblem, st: dict, J: np.ndarray):
     r = st["residual"]
     n = r.size
 
-    def at(x):
+    def at(x, near=None):
         du, V = (x, None) if jp.momentum else (x[:-1], st["V"] + x[-1])
-        return jp.evaluate(st["u"] + du, V)
+        return jp.evaluate(st["u"] + du, V, near)
 
     class _Stop(Exception):
         pass
@@ -375,7 +379,7 @@ def _krylov_step(jp: _JetProblem, st: dict, J: np.ndarray):
         if big == 0.0:
             return np.zeros(n)
         eps = FD_STEP / big
-        other = at(eps * v)
+        other = at(eps * v, near=st)
         if other is None:
             raise _Stop
         return (other["residual"] - r) / eps
