@@ -307,3 +307,34 @@ def test_lip_catalogue_settles(name, bore):
     res = solve_case(_case(bore))
     assert res.jet.settled and len(res.jet.history) <= 12, name
     assert 0.49 < res.jet.contraction_coefficient <= 1.001
+
+
+def test_jet_response_by_the_interface_inverse_equals_the_column_solves(monkeypatch):
+    # The transpiration response (potential_jet.PotentialJet.response) taken from the inverse of the trailing
+    # block of a factorisation with the jet's cells ordered last equals the one taken by a solve per column,
+    # and so do the M0 changes by the adjoint and by the direct solves (derived identities; round-off apart)
+    import axibore.solvers.potential_jet as PJ
+    from axibore.geometry.jet import trial_jet
+    from axibore.mesh import target_size
+    from axibore.outlets.freejet import _JetProblem
+
+    case = _case(SLOT)
+    h = target_size(case.profile, case.mesh.size, case.mesh.level)
+    shape, theta = trial_jet(case.profile, h)
+    jp = _JetProblem(case, case.profile, shape, theta, PJ.PotentialJet, h)
+    field = jp.evaluate(jp.unknowns(theta), None)["field"]
+    g = np.random.default_rng(1).normal(size=(len(jp.jet_faces), 7))
+    taken = []
+    inverse = PJ.PotentialJet._interface_inverse
+    monkeypatch.setattr(PJ.PotentialJet, "_interface_inverse",
+                        lambda self, *a: taken.append(inverse(self, *a)) or taken[-1])
+    out = {}
+    for label, columns in (("inverse", 1), ("solves", 10**9)):
+        monkeypatch.setattr(PJ, "INVERSE_MIN_COLUMNS", columns)
+        out[label] = jp.service.response(field, g)
+    assert len(taken) == 1 and taken[0] is not None  # the inverse path was taken, once (not a quiet fall-back)
+    scale = np.max(np.abs(out["solves"][0]))
+    assert np.max(np.abs(out["inverse"][0] - out["solves"][0])) < 1e-10 * scale
+    # M0 against a direct solve of the same data (not the adjoint): x = K^-1 R g
+    x = field.solve_rhs(field.R_jet @ g)
+    np.testing.assert_allclose(out["solves"][1], field.dmomentum0 @ x, rtol=1e-9, atol=1e-12 * np.abs(field.dmomentum0 @ x).max())

@@ -2,7 +2,6 @@
 
 import numpy as np
 import pytest
-from scipy.integrate import quad
 from scipy.optimize import brentq
 
 from axibore import fluids
@@ -134,9 +133,9 @@ def test_sink_flow_approaches_pohlhausens_exact_layer():
 
 
 def test_laminar_march_step_is_converged(monkeypatch):
-    # The laminar substep (a share of the energy equation's relaxation length) is small enough that
-    # halving it moves Howarth's separation by less than 1e-4 and theta by less than 1e-5 (stations far
-    # apart, so that the substep rule, not the stations, sets the step).
+    # The laminar substep rule (a share of the energy equation's relaxation length, of theta/theta' and of
+    # the distance to separation) is small enough that halving it moves Howarth's separation by less than
+    # 1e-4 and theta by less than 1e-5 (stations far apart, so that the rule, not the stations, sets the step).
     s = np.linspace(0.0, 0.2, 9)
     runs = []
     for share in (layer.LAMINAR_STEP_SHARE, layer.LAMINAR_STEP_SHARE / 2):
@@ -148,11 +147,54 @@ def test_laminar_march_step_is_converged(monkeypatch):
     np.testing.assert_allclose(a.theta[ok], b.theta[ok], rtol=1e-5)
 
 
+def test_laminar_march_does_not_depend_on_the_stations():
+    # The march's own error control (step doubling, steps halved until their two ways agree) makes the layer a
+    # property of the edge-speed curve, not of where the stations sit. Reviewed cases that broke the first
+    # version of the march, each against the same curve on 100 times finer stations:
+    # - Howarth's flow on 9 stations over 0.3 L (the first interval 0.0375 L): separation within 1e-4
+    #   (it was 1.7 % late: the start took the whole first interval as a flat plate);
+    s = np.linspace(0.0, 0.3, 9)
+    fine = np.linspace(0.0, 0.3, 801)
+    coarse_w = march(s, None, U * (1.0 - s), NU, planar=True, transition="none")
+    fine_w = march(fine, None, U * (1.0 - fine), NU, planar=True, transition="none")
+    assert coarse_w.separation_s == pytest.approx(fine_w.separation_s, rel=1e-4)
+    # - a flat plate, then a tenfold rise of ue over 4 mm (a smoothstep) on stations 1 mm apart: attached,
+    #   theta within 3e-4 at the end (the version before stopped there and called it a laminar separation);
+    def smooth(n, f):
+        x = np.linspace(0.0, 0.2, n)
+        t = np.clip((x - 0.1) / 0.004, 0.0, 1.0)
+        return march(x, None, U * (1.0 + (f - 1.0) * t * t * (3.0 - 2.0 * t)), NU, planar=True, transition="none")
+    for f in (3.0, 10.0):
+        a, b = smooth(201, f), smooth(20001, f)
+        assert a.separation_s is None and b.separation_s is None
+        assert a.theta[-1] == pytest.approx(b.theta[-1], rel=3e-4)
+    # - a short bubble on Howarth's flow: theta where the turbulent layer starts is the laminar layer's at the
+    #   separation, on 61 stations as on 601 (it was the last station's before it, 3 % low)
+    thetas = []
+    for n in (61, 601):
+        x = np.linspace(0.0, 0.3, n)
+        w = march(x, None, 1.0 - x, 1e-6, planar=True, bubble_re_delta_star=layer.SHORT_BUBBLE_RE_DELTA_STAR)
+        assert w.bubble_s is not None
+        thetas.append(w.theta[np.searchsorted(x, w.bubble_s)] / np.sqrt(1e-6))
+    assert thetas[0] == pytest.approx(thetas[1], rel=2e-3)
+
+
+def test_stagnation_start_at_a_measured_power():
+    # a stagnation point whose speed is not exactly linear (ue = a s (1 + s/2), m taken from the first two
+    # intervals is not exactly 1): theta at the stagnation point is the similar layer's, Hiemenz's
+    # 0.2923 sqrt(nu/a) within 0.1 % (Schlichting ch. V), not 0, and no sharp-edge note
+    a = 50.0
+    s = np.linspace(0.0, 0.01, 201)
+    w = march(s, None, a * s * (1.0 + 0.5 * s), NU, planar=True, transition="none", rho=1000.0)
+    assert w.theta[0] == pytest.approx(0.2923 * np.sqrt(NU / a), rel=1e-3)
+    assert not any("sharp leading edge" in n for n in w.notes) and w.tau_w[0] == 0.0
+
+
 # --- axisymmetric forms ------------------------------------------------------------------------
 
 
 def test_cylinder_wall_gives_the_planar_answer():
-    # Rott & Crabtree (1952): with r constant the r^2 weights cancel (and so do Head's r-terms):
+    # with r constant the r-terms of the integral equations vanish (laminar and Head's alike):
     # a pipe wall with ue constant is a flat plate, laminar, transition and turbulent alike.
     s = np.linspace(0.0, 2.0, 801)
     planar = march(s, None, U, NU, planar=True)

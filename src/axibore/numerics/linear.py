@@ -137,11 +137,28 @@ class OrderedFactor:
     def solve_ordered(self, bp: np.ndarray) -> np.ndarray:
         return self.lu.solve(np.asfortranarray(bp))
 
-    def __call__(self, b: np.ndarray) -> np.ndarray:
-        x = self.solve_ordered(np.take(b, self.order, axis=0))
+    def __call__(self, b: np.ndarray, transposed: bool = False) -> np.ndarray:
+        """x with K x = b, or K^T x = b when ``transposed`` (the factor of the permuted K, transposed)."""
+        bp = np.take(b, self.order, axis=0)
+        x = self.lu.solve(np.asfortranarray(bp), trans="T") if transposed else self.solve_ordered(bp)
         out = np.empty_like(x)
         out[self.order] = x
         return out
+
+    def trailing_inverse(self, m: int, columns: np.ndarray | None = None) -> np.ndarray | None:
+        """The inverse of K restricted to the last m unknowns of the order, (m, m) dense, or its given
+        ``columns`` (positions within those m): with diagonal pivots K_p = L U, and (K_p^-1)_II =
+        U_II^-1 L_II^-1 for the trailing block I (L^-1 and U^-1 are triangular, so no other block enters;
+        derived). None where SuperLU pivoted off the diagonal."""
+        import scipy.linalg as sla
+
+        n = self.order.size
+        if not (np.array_equal(self.lu.perm_r, np.arange(n)) and np.array_equal(self.lu.perm_c, np.arange(n))):
+            return None
+        L = self.lu.L[:, n - m:][n - m:, :].toarray()  # columns first: cheap on the compressed columns
+        U = self.lu.U[:, n - m:][n - m:, :].toarray()
+        E = np.eye(m) if columns is None else np.eye(m)[:, columns]
+        return sla.solve_triangular(U, sla.solve_triangular(L, E, lower=True, unit_diagonal=True))
 
 
 def _direct(K: sp.spmatrix, b: np.ndarray, cache: dict | None = None):

@@ -26,8 +26,8 @@ The discrete problem (one mesh, built once; its nodes move with the jet, its top
   condition is used where the other is not reliable.
 * The residual is driven to zero by Levenberg-Marquardt steps on the Jacobian: the response of the
   flow to each element's rotation is the transpiration solution (the normal velocity a small
-  normal displacement delta of a streamline implies, (1/r) d(r q delta)/ds, solved with the same
-  factorisation), plus the moved arc lengths; within a few elements of the lip, where that
+  normal displacement delta of a streamline implies, (1/r) d(r q delta)/ds; ``PotentialJet.response``),
+  plus the moved arc lengths; within a few elements of the lip, where that
   linearisation is poor, the columns are taken by differences. A difference step (here and in the
   Newton-Krylov steps below) is solved with the state's own factorisation: one solve of the change
   instead of a factorisation of the moved mesh (``PotentialJet.solve(mesh, near=...)``).

@@ -333,7 +333,8 @@ def howarth_rows() -> list[Row]:
     """Howarth's retarded flow ue = U0 (1 - x/L), U0 = 10 m/s, L = 1 m, nu = 1e-6 m^2/s: the laminar layer's
     separation. Howarth (1938), Proc. R. Soc. A 164, "On the solution of the laminar boundary layer equations":
     x/L = 0.1199 from the series solution of the layer equations; tolerance 2 % (issue 20's), the method's own
-    error 0.15 % (Thwaites' one-equation method gives 0.1231, derived in tests/test_viscous.py)."""
+    error 0.15 %. (Thwaites' one-equation method gives 0.1231: its integral is theta^2 = 0.45 nu L/(6 U0)
+    ((1 - xi)^-6 - 1), so lambda = -0.075 ((1 - xi)^-6 - 1) reaches its -0.09 at xi = 1 - 2.2^(-1/6); derived.)"""
     s = np.linspace(0.0, 0.3, 601)
     w = march(s, None, 10.0 * (1.0 - s), 1.0e-6, planar=True, transition="none")
     x_sep = w.separation_s if w.separation_kind == "laminar" else float("nan")

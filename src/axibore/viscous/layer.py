@@ -12,11 +12,13 @@ Methods and sources
   method is exact for every member of the family (the flat plate, Hiemenz' stagnation point, wedge
   flows) and puts Howarth's retarded flow's separation at x/L = 0.1197 against the exact 0.1199
   (Thwaites' one-equation method: 0.1231). Marched as the turbulent layer (RK4 on the PCHIP curves,
-  substeps limited by the energy equation's relaxation length and, approaching separation, by the
-  distance to it). The start is a similar layer over the first interval (``closure.similar_start``,
-  derived): a stagnation point (ue = 0 at the first station; ue ~ x^m with m from the first two
-  intervals), a sharp leading edge, or a pointed start on the axis (Mangler's cone); a given theta0 at
-  a wall where ue > 0 starts with the flat plate's H*. cf = 2 nu l/(ue theta). A sharp leading edge
+  substeps limited by the energy equation's relaxation length, theta/theta' and, approaching
+  separation, the distance to it), with step doubling: a step whose two ways differ by more than
+  LAMINAR_TOLERANCE is halved, so that the layer does not depend on where the stations sit. The start
+  is a similar layer (``closure.similar_start``, derived): at a stagnation point (ue = 0 at the first
+  station; ue ~ x^m with m from the first two intervals) over the first interval; at a sharp leading
+  edge or a pointed start on the axis (Mangler's cone) a thousandth of the first interval in, marched
+  from there; a given theta0 at a wall where ue > 0 starts with the flat plate's H*. cf = 2 nu l/(ue theta). A sharp leading edge
   (ue > 0, theta = 0) has an infinite wall shear, reported as NaN at that one station.
 - Transition: Michel (1951), Re_theta,tr = 2.9 Re_x^0.4, with x = s, the arc
   length from the wall's upstream end, and Re_x = ue s/nu. Or forced at a given s, or none.
@@ -122,71 +124,63 @@ def _crossing(s, f, i):
     return float(s[i - 1] + t * (s[i] - s[i - 1]))
 
 
-# 5-point Gauss-Legendre rule on [0, 1]: exact for the degree-8 integrand of linear nu, r, ue
-_GX, _GW = np.polynomial.legendre.leggauss(5)
-_GX, _GW = 0.5 * (_GX + 1.0), 0.5 * _GW
-
-
-def _cumulative_integral(s, r, ue, nu):
-    """int_0^s nu r^2 ue^5 ds with nu, r, ue linear between stations, for all stations at once.
-    (A cumulative trapezoid rule is off by a factor of 3 in the first interval from a stagnation
-    point, where ue^5 ~ s^5; the Gauss rule is exact there.)"""
-    h = np.diff(s)
-    t = _GX[None, :]
-
-    def lin(a):
-        return a[:-1, None] + t * np.diff(a)[:, None]
-
-    per = h * np.sum(_GW[None, :] * lin(nu) * lin(r) ** 2 * lin(ue) ** 5, axis=1)
-    return np.concatenate([[0.0], np.cumsum(per)])
-
-
 # substeps of the laminar march: at most this share of the energy equation's relaxation length (RK4 is
 # stable below 2.8 of it), of theta/|theta'| and of the distance to separation at the rate of H* (see
 # ``_laminar``'s max_step), and never below LAMINAR_MIN_STEP of the interval.
 LAMINAR_STEP_SHARE = 0.5
 LAMINAR_MIN_STEP = 1e-3
+LAMINAR_TOLERANCE = 1e-7  # step doubling: the two ways of a step agree within this (relative theta + H*)
+LAMINAR_START_SHARE = 1e-3  # the similar start this share of the first interval in (then marched)
 
 
 def _laminar(edge, theta0, planar):
     """The laminar two-equation march (momentum and kinetic-energy integrals with the Falkner-Skan
-    closure, see the module text) over all stations. Returns (theta, H*, s_separation or None); theta and
-    H* are NaN from the laminar separation on.
+    closure, see the module text) over all stations. Returns (theta, H*, s_separation or None, theta there);
+    theta and H* are NaN from the laminar separation on.
 
-    The start is a similar layer (``closure.similar_start``): a stagnation point (ue = 0 at the first
-    station: ue ~ x^m, m from the first two intervals), a sharp leading edge or a pointed start on the axis (no ``theta0``, or r = 0), each
-    taken over the first interval; with ``theta0`` at a wall where ue > 0 the march starts from theta0 with
-    the flat plate's H*. Classical RK4 on the PCHIP interpolants of ue and r, as the turbulent march."""
+    Also theta where the march stopped (at the separation), or None. The start: see the module text.
+    RK4 with step doubling on the PCHIP interpolants of ue and r (``_rk4_march``)."""
     s, ue, r, nu = edge.s, *(np.asarray(edge._l[j]) for j in (1, 3, 5))
     n = s.size
     theta = np.full(n, np.nan)
     Hs = np.full(n, np.nan)
     k = 0 if planar or r[0] > 0.0 else 1
-    if ue[0] == 0.0 or theta0 is None or not theta0 > 0.0 or k == 1:
-        m = 0.0  # a sharp edge: ue finite at x = 0
-        if ue[0] == 0.0:  # a stagnation point: ue ~ x^m, m from the first two intervals (1 at a blunt face)
-            m = 1.0 if n < 3 else float(np.clip(math.log(ue[2] / ue[1]) / math.log((s[2] - s[0]) / (s[1] - s[0])), 0.0, 4.0))
+    i0, x0 = 0, float(s[0])
+    if ue[0] == 0.0:
+        # a stagnation point: ue ~ x^m, m from the first two intervals (1 at a blunt face); the similar layer
+        # at the second station (a cubic curve cannot follow x^m in the first interval), its value also given
+        # to the first (theta ~ x^((1 - m)/2): constant at a blunt face)
+        m = float(np.clip(math.log(ue[2] / ue[1]) / math.log((s[2] - s[0]) / (s[1] - s[0])), 0.0, 4.0))
         hs0, Lam = similar_start(m, k)
-        x1 = s[1] - s[0]
-        theta[0] = math.sqrt(Lam * nu[0] * x1 / ue[1]) if m == 1.0 else 0.0  # theta ~ x^((1 - m)/2)
-        Hs[0] = hs0
-        theta[1] = math.sqrt(Lam * nu[1] * x1 / ue[1])
-        Hs[1] = hs0
-        i0 = 1
+        i0, x0 = 1, float(s[1])
+        th0 = math.sqrt(Lam * nu[1] * (s[1] - s[0]) / ue[1])
+        theta[:2], Hs[:2] = th0, hs0
+    elif theta0 is None or not theta0 > 0.0 or k == 1:
+        # a sharp edge (or a pointed start on the axis): the similar layer (m = 0) a small share of the first
+        # interval in, marched from there, so that the first interval's own gradient counts
+        hs0, Lam = similar_start(0.0, k)
+        x0 = float(s[0] + LAMINAR_START_SHARE * (s[1] - s[0]))
+        u0, _, _, _, nu0 = edge.at(0, x0)
+        th0 = math.sqrt(Lam * nu0 * (x0 - s[0]) / u0)
+        theta[0], Hs[0] = 0.0, hs0
     else:
-        theta[0], Hs[0], i0 = float(theta0), float(FS_BLASIUS[3]), 0
-    if n - 1 <= i0:
-        return theta, Hs, None
+        theta[0], Hs[0] = float(theta0), float(FS_BLASIUS[3])
+        th0, hs0 = theta[0], Hs[0]
     hs_lo, dhs, tH, tL, tD = _LAM_LIST
     last = len(tH) - 2
 
-    def closure_at(hs):
+    def closure_at(hs):  # held at the table's ends (a NaN of a failed trial step at its start)
         t = (hs - hs_lo) / dhs
-        j = int(t) if t > 0.0 else 0
-        return (last, 1.0) if j > last else (j, max(t - j, 0.0))
+        if not t > 0.0:
+            return 0, 0.0
+        if t >= last + 1:
+            return last, 1.0
+        j = int(t)
+        return j, t - j
 
     def rhs(state, th, hs):
         u, du, rr, dr_, nu_x = state
+        th = max(th, 1e-300)
         j, t = closure_at(hs)  # laminar_closure(hs), inline
         H = tH[j] + t * (tH[j + 1] - tH[j])
         ll = tL[j] + t * (tL[j + 1] - tL[j])
@@ -209,13 +203,14 @@ def _laminar(edge, theta0, planar):
             h = min(h, LAMINAR_STEP_SHARE * th / abs(dth))
         if dhs_ds < 0.0:
             h = min(h, LAMINAR_STEP_SHARE * (hs - FS_HSTAR_SEP) / -dhs_ds)
-        return max(h, LAMINAR_MIN_STEP * (edge.s[i + 1] - edge.s[i]))
+        return float(max(h, LAMINAR_MIN_STEP * (edge.s[i + 1] - edge.s[i])))
 
-    s_sep = _rk4_march(edge, i0, float(s[i0]), float(theta[i0]), float(Hs[i0]), rhs, max_step, FS_HSTAR_SEP, theta, Hs)
-    if s_sep is not None:
-        gone = s >= s_sep
-        theta[gone], Hs[gone] = np.nan, np.nan
-    return theta, Hs, s_sep
+    stop = _rk4_march(edge, i0, x0, float(th0), float(hs0), rhs, max_step, FS_HSTAR_SEP, theta, Hs, LAMINAR_TOLERANCE)
+    if stop is None:
+        return theta, Hs, None, None
+    gone = s >= stop[0]
+    theta[gone], Hs[gone] = np.nan, np.nan
+    return theta, Hs, stop[0], stop[1]
 
 
 # substeps of the turbulent march: at most this many momentum thicknesses per step (the entrainment
@@ -270,9 +265,9 @@ def _turbulent(edge, s_start, theta_start, H_start, H_sep):
         return TURBULENT_STEP_THETAS * theta
 
     i = max(int(np.searchsorted(s, s_start, side="right")) - 1, 0)
-    s_sep = _rk4_march(edge, i, float(s_start), float(theta_start), H1_0, rhs, max_step, H1_sep, out_theta, out_H1)
+    stop = _rk4_march(edge, i, float(s_start), float(theta_start), H1_0, rhs, max_step, H1_sep, out_theta, out_H1)
     with np.errstate(invalid="ignore"):
-        return out_theta, np.where(np.isfinite(out_H1), head_H(out_H1), np.nan), s_sep
+        return out_theta, np.where(np.isfinite(out_H1), head_H(out_H1), np.nan), None if stop is None else stop[0]
 
 
 class _EdgeCurves:
@@ -316,19 +311,39 @@ class _EdgeCurves:
         return list(zip(u.tolist(), du.tolist(), rr.tolist(), dr_.tolist(), (nu[:-1] + t * (nu[1:] - nu[:-1])).tolist()))
 
 
-def _rk4_march(edge, i, x, a, b, rhs, max_step, b_stop, out_a, out_b):
+def _rk4_step(rhs, s0, s_mid, s_end, a, b, h):
+    k1 = rhs(s0, a, b)
+    k2 = rhs(s_mid, a + 0.5 * h * k1[0], b + 0.5 * h * k1[1])
+    k3 = rhs(s_mid, a + 0.5 * h * k2[0], b + 0.5 * h * k2[1])
+    k4 = rhs(s_end, a + h * k3[0], b + h * k3[1])
+    return a + h / 6.0 * (k1[0] + 2 * k2[0] + 2 * k3[0] + k4[0]), b + h / 6.0 * (k1[1] + 2 * k2[1] + 2 * k3[1] + k4[1])
+
+
+# a step that fails (theta not positive and finite) or misses the error tolerance is halved, down to this
+# share of its interval
+RK4_MIN_SHARE = 1e-6
+
+
+def _rk4_march(edge, i, x, a, b, rhs, max_step, b_stop, out_a, out_b, tolerance=None):
     """Classical RK4 for the two integral variables (a, b) = (theta, H1 or H*) from x in interval i to the
     wall's end, on ``edge``'s curves; substeps of at most max_step(i, x, a, b), ending at every station,
-    where (a, b) is written to out_a, out_b. Stops where b falls to b_stop (separation), or theta fails,
-    and returns that s (linear in b within the step), else None. The march is sequential by nature (an
-    initial-value problem along the wall); its loop runs over stations with plain floats."""
+    where (a, b) is written to out_a, out_b. A step whose theta fails is halved and taken again. With a
+    ``tolerance`` each step is also taken as two half steps (step doubling): kept (the halves' result)
+    where the two agree within it (relative in a, absolute in b), else halved. Stops where b falls to
+    b_stop (separation) and returns (that s, a there), linear in b within the step; else None. The march
+    is sequential by nature (an initial-value problem along the wall); its loop runs over stations with
+    plain floats."""
     sl, n = edge._l[0], len(edge._l[0])
     s_end, s_end_at = None, None
     while i < n - 1:
         x_end = sl[i + 1]
+        gap = x_end - sl[i]
+        h_cap = None
         while x < x_end:
             h = min(x_end - x, max_step(i, x, a, b))
-            if x_end - x - h < 1e-12 * (x_end - sl[i]):
+            if h_cap is not None:
+                h = min(h, h_cap)
+            if x_end - x - h < 1e-12 * gap:
                 h = x_end - x
             # the edge state at the step's start, middle and end (the start is the last step's end)
             if x == sl[i] and h == x_end - x:
@@ -337,16 +352,29 @@ def _rk4_march(edge, i, x, a, b, rhs, max_step, b_stop, out_a, out_b):
                 s0 = s_end if s_end_at == (i, x) else edge.at(i, x)
                 s_mid, s_end = edge.at(i, x + 0.5 * h), edge.at(i, x + h)
             s_end_at = (i, x + h)
-            k1 = rhs(s0, a, b)
-            k2 = rhs(s_mid, a + 0.5 * h * k1[0], b + 0.5 * h * k1[1])
-            k3 = rhs(s_mid, a + 0.5 * h * k2[0], b + 0.5 * h * k2[1])
-            k4 = rhs(s_end, a + h * k3[0], b + h * k3[1])
-            a_n = a + h / 6.0 * (k1[0] + 2 * k2[0] + 2 * k3[0] + k4[0])
-            b_n = b + h / 6.0 * (k1[1] + 2 * k2[1] + 2 * k3[1] + k4[1])
+            a_n, b_n = _rk4_step(rhs, s0, s_mid, s_end, a, b, h)
+            if tolerance is not None:
+                q1, q3 = edge.at(i, x + 0.25 * h), edge.at(i, x + 0.75 * h)
+                a_1, b_1 = _rk4_step(rhs, s0, q1, s_mid, a, b, 0.5 * h)
+                a_2, b_2 = _rk4_step(rhs, s_mid, q3, s_end, a_1, b_1, 0.5 * h)
+                ok = a_1 > 0.0 and a_2 > 0.0 and math.isfinite(a_2) and math.isfinite(b_2)
+                err = abs(a_n - a_2) / a_2 + abs(b_n - b_2) if ok else math.inf
+                if err > tolerance and h > RK4_MIN_SHARE * gap:
+                    h_cap, s_end_at = 0.5 * h, None
+                    continue
+                if b_1 <= b_stop:  # the stop in the first half
+                    a_n, b_n, h = a_1, b_1, 0.5 * h
+                else:
+                    a_n, b_n = a_2, b_2
+            elif not (a_n > 0.0 and math.isfinite(a_n)) and h > RK4_MIN_SHARE * gap:
+                h_cap, s_end_at = 0.5 * h, None
+                continue
             if not (b_n > b_stop and a_n > 0.0 and math.isfinite(a_n)):
                 f = (b - b_stop) / (b - b_n) if math.isfinite(b_n) and b != b_n else 0.0
-                return x + min(max(f, 0.0), 1.0) * h
+                f = min(max(f, 0.0), 1.0)
+                return x + f * h, (a + f * (a_n - a) if math.isfinite(a_n) else a)
             x, a, b = (x_end if h == x_end - x else x + h), a_n, b_n
+            h_cap = None if h_cap is None else 2.0 * h_cap  # grow back after a halved step
         i += 1
         out_a[i], out_b[i] = a, b
     return None
@@ -374,7 +402,9 @@ def march(
     s: (n,) arc length from the wall's upstream end, increasing [m]; r: (n,) wall radius [m]
     (ignored when ``planar``); ue: (n,) inviscid edge speed (> 0; 0 allowed at the first station,
     a stagnation point) [m/s]; nu: kinematic viscosity, scalar or (n,) [m^2/s].
-    start: "laminar" (the two-equation method from the first station, with ``theta0`` if given, else from zero)
+    start: "laminar" (the two-equation method from the first station, with ``theta0`` if given, else from zero;
+    ``theta0`` is not used at a stagnation point, ue = 0, or a pointed start on the axis, r = 0, where the
+    layer starts as the similar one)
     or "turbulent" (Head from the first station, ``theta0`` required, H = ``turbulent_start_H``).
     transition: "michel", "none", or an arc length where it is forced.
     rho: density, scalar or (n,) [kg/m^3]; if given, the wall shear ``tau_w`` is returned.
@@ -442,7 +472,7 @@ def march(
     edge_l = _EdgeCurves(s, ue, due, r, dr, nu)
     edge_t = edge_l if nu_t is nu else _EdgeCurves(s, ue, due, r, dr, nu_t)
     if start == "laminar":
-        th_l, hs_l, s_lsep = _laminar(edge_l, theta0, planar)
+        th_l, hs_l, s_lsep, th_lsep = _laminar(edge_l, theta0, planar)
         # laminar separation: the energy shape factor falls to the separation profile's
         i_sep = int(np.searchsorted(s, s_lsep)) if s_lsep is not None else n
         # transition
@@ -464,7 +494,7 @@ def march(
                 transition_s = max(st, float(s[0]))
         if bubble_re_delta_star is not None and s_lsep is not None and transition_s is None:
             # the displacement-thickness Reynolds number at the laminar separation (H of the separation profile)
-            re_ds = float(np.interp(s_lsep, s[:i_sep], (ue * th_l / nu)[:i_sep])) * FS_H_SEP
+            re_ds = float(np.interp(s_lsep, s, ue) * th_lsep / np.interp(s_lsep, s, nu)) * FS_H_SEP
             if re_ds >= bubble_re_delta_star:
                 bubble_s = transition_s = float(s_lsep)
                 i_tr = i_sep
@@ -483,7 +513,7 @@ def march(
             separation_kind = "laminar"
             state[n_lam:] = SEPARATED
         elif n_lam < n:
-            th_tr = float(np.interp(transition_s, s[:i_sep], th_l[:i_sep]))
+            th_tr = th_lsep if transition_s == bubble_s else float(np.interp(transition_s, s[:i_sep], th_l[:i_sep]))
             if gas:  # theta continuous at the edge state: from the laminar part's reference variables to the turbulent's
                 th_tr *= float(np.interp(transition_s, s, rho_l)) / float(np.interp(transition_s, s, rho_t))
             s_start, th_start = transition_s, th_tr
