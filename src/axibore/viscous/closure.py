@@ -123,6 +123,11 @@ def laminar_closure(Hstar):
     return tuple(np.interp(Hs, _LAM_HS, a) for a in (_LAM_H, _LAM_L, _LAM_D))
 
 
+def laminar_energy_shape(H):
+    """H* of the Falkner-Skan layer with shape factor H (held at the ends of the family)."""
+    return np.interp(np.asarray(H, dtype=float), _FS_TABLE[:, 2], _FS_TABLE[:, 3])  # H rises along the rows
+
+
 def similar_start(m: float, k: int) -> tuple[float, float]:
     """(H*, Lambda = theta^2 ue/(nu x)) of the similar layer at the start of a wall where ue ~ x^m and
     r ~ x^k (k = 1: a pointed start on the axis; 0: a wall off the axis, or planar). Derived: with

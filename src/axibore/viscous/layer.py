@@ -66,6 +66,7 @@ from .closure import (  # noqa: F401  (LAMINAR ... turbulent_cf are this module'
     head_H1,
     LAMINAR,
     laminar_closure,
+    laminar_energy_shape,
     ludwieg_tillmann_cf,
     michel_re_theta,
     SEPARATED,

@@ -308,8 +308,13 @@ def _bounded_by_channel(w, h, k):
                                     "from there",))
 
 
-def _energy_thickness(theta, H):
-    return theta * 4.0 * H / (3.0 * H - 1.0)
+def _energy_thickness(theta, H, state):
+    """The kinetic-energy thickness delta_3 = H* theta: a laminar layer's H* is the Falkner-Skan member's of
+    its shape factor (the closure of its march); a turbulent one's 4H/(3H - 1), the power-law profile's
+    (u/U = (y/delta)^(1/n): H = (n + 2)/n, H* = 2(n + 2)/(n + 3); derived)."""
+    H = np.asarray(H, dtype=float)
+    laminar = np.asarray(state) == L.LAMINAR
+    return theta * np.where(laminar, L.laminar_energy_shape(H), 4.0 * H / (3.0 * H - 1.0))
 
 
 # --- one chain -----------------------------------------------------------------------------------
@@ -455,7 +460,7 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
         P0 = float(perimeter(r_run[0], planar))
         if how == "start" and th0:
             H0 = w.H[0] if np.isfinite(w.H[0]) else L.TURBULENT_START_H
-            start_def = 0.5 * rho_run[0] * P0 * ue_run[0] ** 3 * float(_energy_thickness(th0, H0))
+            start_def = 0.5 * rho_run[0] * P0 * ue_run[0] ** 3 * float(_energy_thickness(th0, H0, w.state[0]))
             start_disp = P0 * th0 * H0
         if k < len(bounds) - 1:
             # the run ends at the next restart: its deficit (at its last attached face) is carried on
@@ -465,7 +470,7 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
             att_f = np.flatnonzero(np.isfinite(theta[face_in_run]) & (state[face_in_run] != L.SEPARATED))
             if att_f.size:
                 j = face_in_run[att_f]
-                E_run = 0.5 * rho[j] * perim[j] * ue_all[j] ** 3 * _energy_thickness(theta[j], H[j])
+                E_run = 0.5 * rho[j] * perim[j] * ue_all[j] ** 3 * _energy_thickness(theta[j], H[j], state[j])
                 carried_E += float(np.max(E_run))
                 carried_U = max(carried_U, float(ue_all[j[int(np.argmax(E_run))]]))
             if w.separation_s is not None:
@@ -475,7 +480,7 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
             if state[j] != L.SEPARATED:
                 # the largest along the run (the deficit flux only grows; see the carried deficit above)
                 jj = face_in_run[np.isfinite(theta[face_in_run]) & (state[face_in_run] != L.SEPARATED)]
-                end_def = float(np.max(0.5 * rho[jj] * perim[jj] * ue_all[jj] ** 3 * _energy_thickness(theta[jj], H[jj])))
+                end_def = float(np.max(0.5 * rho[jj] * perim[jj] * ue_all[jj] ** 3 * _energy_thickness(theta[jj], H[jj], state[jj])))
             else:
                 end_def = float("nan")
     return ChainLayer(name, table.faces, x_all, r_all, s_all, ue_all, theta, dstar, H, cf, tau, state, re_th, tx, area,
