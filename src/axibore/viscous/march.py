@@ -66,8 +66,9 @@ Derived quantities
   inlet to outlet = the growth of the layers' kinetic-energy deficit sum (rho/2) P ue^3 delta_3 /
   Q (kinetic-energy integral equation: its growth is the dissipation in the layer; derived), V
   the larger of the mean inlet and outlet velocities (common practice); energy thickness
-  delta_3 = theta 4H/(3H - 1), exact for power-law velocity profiles (derived; Blasius 1.572
-  against 1.53 from it). Head loss dp_0 / (rho g), g = 9.80665 m/s^2 (standard gravity).
+  delta_3 = H* theta: a laminar layer's H* that of the Falkner-Skan member of its shape factor
+  (Blasius 1.5726), a turbulent layer's 4H/(3H - 1), exact for power-law velocity profiles (derived).
+  Head loss dp_0 / (rho g), g = 9.80665 m/s^2 (standard gravity).
 """
 
 from __future__ import annotations
