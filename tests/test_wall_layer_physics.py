@@ -236,11 +236,13 @@ def test_edge_speed_smoothing_is_continuous_in_its_width():
 def test_an_approach_layer_at_the_upstream_station_withholds_a_c_above_the_inviscid(tmp_path):
     # a thick approach layer given at the inlet plane (the upstream station) speeds up the core there;
     # the quasi-1D estimate would give C above the inviscid one (the approach-velocity-profile effect,
-    # not a loss): the number is withheld with the reason, never printed
+    # not a loss): the number is withheld with the reason, never printed. (This thick approach layer also keeps
+    # the blockage coupling from settling, B changing by 0.06; that withholds C first, with its own reason.)
     case = iso_nozzle_case(tmp_path / "approach", 0.6, 3e5, extra='[viscous]\nupstream_length = "1 m"\n')
     v = solve_case(load_case(case)).summary()["viscous"]
     if v["discharge_coefficient"] is None:
-        assert "above the inviscid" in v["discharge_coefficient_note"]
+        note = v["discharge_coefficient_note"]
+        assert "above the inviscid" in note or "did not settle" in note, note
     else:
         assert v["discharge_coefficient"] <= v["discharge_coefficient_inviscid"]
     assert v["loss_coefficient"] is None or v["loss_coefficient"] >= 0.0
@@ -546,3 +548,19 @@ def test_displacement_pass_that_cannot_displace_the_wall_is_a_message(tmp_path, 
     err = capsys.readouterr().err
     assert "Traceback" not in err
     assert rc == 0 or (rc == 2 and "viscous.displacement" in err)
+
+
+def test_an_unsettled_coupling_gives_no_discharge_or_loss_coefficient(tmp_path, monkeypatch):
+    # nothing is printed from an unconverged solution as if converged: with the blockage coupling stopped after
+    # its first march (B still changes by its whole value, some 0.05, against the tolerance 1e-3), the viscous
+    # C and K are withheld with the reason; a small laminar dosing nozzle written as a user writes it (Re_D 1650)
+    # did this on the default path when its layer thickened before the cone
+    import axibore.viscous.layers as layers
+
+    monkeypatch.setattr(layers, "COUPLING_MAX_ITERATIONS", 1)
+    v = iso_run(tmp_path, 0.5, 1e6)
+    c = v["coupling_state"]
+    assert not c["converged"] and c["last_change"] > 10 * c["tolerance"]
+    assert v["discharge_coefficient"] is None and "did not settle" in v["discharge_coefficient_note"]
+    assert v["loss_coefficient"] is None and "did not settle" in v["loss_coefficient_note"]
+    assert v["discharge_coefficient_inviscid"] is not None  # the inviscid number stands

@@ -268,10 +268,20 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
                                  "so no value is given; move the upstream tap (viscous.taps) to the inlet plane or "
                                  "drop the approach layer (viscous.upstream_length, start_momentum_thickness)")
 
+    # a blockage coupling that did not settle leaves the layer's displacement, and so C, unknown to its tolerance:
+    # no number is given from it
+    unsettled = (f"none: the blockage coupling did not settle (B still changes by {coupling.last_change:.2g} between "
+                 f"iterations, tolerance {COUPLING_TOLERANCE:g}), so the layer's displacement is not known to its tolerance"
+                 if not coupling.converged and coupling.last_change > 10 * COUPLING_TOLERANCE else None)
+    if unsettled and cd is not None:
+        cd, cd_note = None, unsettled
+
     # loss coefficient
     K = dp0 = head = None
     if flow.compressible:
         k_note = "computed for liquids only in this version"
+    elif unsettled:
+        k_note = unsettled.replace("none: ", "not computed: ", 1)
     elif any(len(c.separations) > c.corner_separations for c in chains.values()):
         k_note = "not computed: the layer separates (a separated flow's loss is beyond a boundary-layer estimate)"
     else:
