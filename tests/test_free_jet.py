@@ -16,7 +16,6 @@ import numpy as np
 import pytest
 
 from axibore.case import case_from_dict
-from axibore.names import Boundary
 from axibore.run import solve_case
 
 WATER = {"kind": "water", "temperature": "15 degC"}
@@ -333,6 +332,9 @@ def test_jet_response_by_the_interface_inverse_equals_the_column_solves(monkeypa
         monkeypatch.setattr(PJ, "INVERSE_MIN_COLUMNS", columns)
         out[label] = jp.service.response(field, g)
     assert len(taken) == 1 and taken[0] is not None  # the inverse path was taken, once (not a quiet fall-back)
+    near = jp.evaluate(jp.unknowns(theta) + 1e-7, None, near=jp.evaluate(jp.unknowns(theta), None))["field"]
+    with pytest.raises(ValueError, match="no factorisation"):  # a field solved from a near one gives no response
+        jp.service.response(near, g)
     scale = np.max(np.abs(out["solves"][0]))
     assert np.max(np.abs(out["inverse"][0] - out["solves"][0])) < 1e-10 * scale
     # M0 against a direct solve of the same data (not the adjoint): x = K^-1 R g

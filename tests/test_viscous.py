@@ -397,8 +397,8 @@ def test_turbulent_march_step_is_converged(monkeypatch, m):
 def test_falkner_skan_family_against_published_values():
     # the table the laminar closure carries (closure._FS_TABLE) is what falkner_skan computes, and its
     # wall shears are the published ones: f''(0) = 0.4696 at beta = 0 (Blasius: 0.332057 sqrt(2), Howarth
-    # 1938), 0.9277 at beta = 0.5 and 1.2326 at beta = 1 (Hiemenz; both Hartree 1937, Proc. Camb. Phil.
-    # Soc. 33, as tabulated in White, Viscous Fluid Flow, 3rd ed. 2006, sec. 4-3), and the separation
+    # 1938), 0.9277 at beta = 0.5 and 1.2326 at beta = 1 (Hiemenz 1911; both in Hartree's table, 1937, Proc.
+    # Camb. Phil. Soc. 33), and the separation
     # profile f''(0) = 0 at beta = -0.1988 (Hartree 1937) with H = 4.03
     table = layer._FS_TABLE
     adverse = float(table[np.argmin(np.abs(table[:, 0] + 0.1)), 0])  # the row nearest beta = -0.1

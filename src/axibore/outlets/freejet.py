@@ -246,7 +246,7 @@ class _JetProblem:
         flux = q_node[None] * np.einsum("inj,nj->in", dP, node_normal) * r_node[None]
         g = (flux[:, 1:] - flux[:, :-1]) / mesh.face_area[self.jet_faces][None]  # transpiration, per element
         along = np.einsum("ifj,fj->if", 0.5 * (dP[:, :-1] + dP[:, 1:]), tau)
-        dvalue, dm0 = self.service.response(field, g.T)
+        dvalue, dm0 = self.service.response(field, g.T, self.momentum)
         d_end = dP[:, n, 0]  # the last element's end moves in x: the tail (and the arc length to the end) changes
         J = dvalue + q[:, None] * along.T - V * d_end[None, :]
         dA_out = (1.0 if mesh.planar else P[-1, 1]) * dP[:, n + 1, 1]  # the outlet plane's area (per radian)

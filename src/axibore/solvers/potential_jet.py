@@ -96,8 +96,9 @@ class PotentialJet:
                         jet.Dt @ phi + jet.dt_data * self.data[self.jet_faces], m0, m2, dm0, solve_rhs,
                         ops.R[:, self.jet_faces], ops.K, b)  # (C, m) csr
 
-    def response(self, field: JetField, g: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-        """(jet face values, M0) changes for normal velocities ``g`` (m, k) on the jet faces.
+    def response(self, field: JetField, g: np.ndarray, momentum: bool = True) -> tuple[np.ndarray, np.ndarray | None]:
+        """(jet face values, M0) changes for normal velocities ``g`` (m, k) on the jet faces (M0's None unless
+        ``momentum``: one more solve).
 
         The data enter the balances of the cells next to the jet (W) and the face values read the fit
         stencils' cells (S): only the block (K^-1)_(S, W) is needed. With many columns (INVERSE_MIN_COLUMNS)
@@ -105,6 +106,8 @@ class PotentialJet:
         (``OrderedFactor.trailing_inverse``): one factorisation and a dense block instead of k solves (the
         spear demo's 92k cells, 290 jet elements, |I| = 1658: 1.2 s against 2.3 s; the same numbers to 1e-11).
         The change of M0, a single output, is the adjoint's: dM0/dphi K^-1 R g = (K^-T dM0/dphi) . R g."""
+        if field.solve_rhs is None:
+            raise ValueError("a field solved from a near one has no factorisation of its own, so no response")
         g = np.atleast_2d(np.asarray(g, float).T).T
         R = field.R_jet
         written = np.flatnonzero(np.diff(R.indptr))  # the cells whose balance the jet's data enter
@@ -121,14 +124,15 @@ class PotentialJet:
         else:
             xI = inverse @ Rg
         dvalue = V[:, I] @ xI + field.jet.v_data[:, None] * g
+        if not momentum:
+            return dvalue, None
         adjoint = field.solve_rhs(field.dmomentum0, transposed=True)
         return dvalue, adjoint[written] @ Rg
 
     def _interface_inverse(self, K, mesh: FVMesh, I: np.ndarray, columns: np.ndarray) -> np.ndarray | None:
         """(K^-1)_(I, I[columns]), by a factorisation in the order: the rest by nested dissection, then I
         (kept for the topology). None where the factorisation cannot give it."""
-        if self._interface_order is None or self._interface_order[1].size != I.size or \
-                not np.array_equal(self._interface_order[1], I):
+        if self._interface_order is None or not np.array_equal(self._interface_order[1], I):
             rest = np.setdiff1d(np.arange(mesh.n_cells), I)
             sub = K.tocsr()[rest][:, rest]
             self._interface_order = (np.r_[rest[nested_dissection(mesh.cell_centroid[rest], sub)], I], I)

@@ -5,7 +5,7 @@ are in ``layer``'s module text and beside each constant."""
 
 from __future__ import annotations
 
-import math
+import functools
 
 import numpy as np
 
@@ -102,9 +102,11 @@ FS_HSTAR_MAX = float(_FS_TABLE[0, 3])  # beta = 20: closure held above (strong a
 FS_BLASIUS = _FS_TABLE[np.flatnonzero(_FS_TABLE[:, 0] == 0.0)[0]]  # the flat plate's row
 
 
-def _laminar_tables(n=4001):
-    """H, l, d on a uniform grid of H* (the march's lookups): monotone cubic interpolation of the
-    family in H*, which decreases monotonically from acceleration to separation."""
+@functools.cache
+def laminar_tables(n: int = 4001) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """H*, H, l, d on a uniform grid of H* (the march's lookups): monotone cubic interpolation of the
+    family in H*, which decreases monotonically from acceleration to separation. Built at first use
+    (not at import: scipy.interpolate alone takes 0.2 s to import)."""
     from scipy.interpolate import PchipInterpolator
 
     T = _FS_TABLE[::-1]  # increasing H*
@@ -112,15 +114,19 @@ def _laminar_tables(n=4001):
     return grid, *(PchipInterpolator(T[:, 3], T[:, j])(grid) for j in (2, 4, 5))
 
 
-_LAM_HS, _LAM_H, _LAM_L, _LAM_D = _laminar_tables()
-_LAM_LIST = (float(_LAM_HS[0]), float(_LAM_HS[1] - _LAM_HS[0]), _LAM_H.tolist(), _LAM_L.tolist(), _LAM_D.tolist())
+@functools.cache
+def laminar_lists() -> tuple:
+    """``laminar_tables`` for the march's loop: (first H*, its step, H, l and d as lists of floats)."""
+    hs, H, L, D = laminar_tables()
+    return float(hs[0]), float(hs[1] - hs[0]), H.tolist(), L.tolist(), D.tolist()
 
 
 def laminar_closure(Hstar):
     """H, l = cf Re_theta/2 and d = 2 CD Re_theta/H* of the Falkner-Skan layer with energy shape factor
     H* (held at the ends of the family)."""
+    hs, *values = laminar_tables()
     Hs = np.clip(np.asarray(Hstar, dtype=float), FS_HSTAR_SEP, FS_HSTAR_MAX)
-    return tuple(np.interp(Hs, _LAM_HS, a) for a in (_LAM_H, _LAM_L, _LAM_D))
+    return tuple(np.interp(Hs, hs, a) for a in values)
 
 
 def laminar_energy_shape(H):
@@ -134,14 +140,15 @@ def similar_start(m: float, k: int) -> tuple[float, float]:
     theta^2 = Lambda nu x/ue the momentum and energy equations become
         l/Lambda = (1 - m)/2 + (2 + H) m + k,   d/Lambda = (1 - m)/2 + 3 m + k,
     whose ratio fixes the family member: m = 0, k = 0 gives Blasius (l = d), m = 1, k = 0 Hiemenz."""
+    grid, tH, tL, tD = laminar_tables()
     a = (1.0 - m) / 2.0 + 3.0 * m + k
-    g = _LAM_L * a - _LAM_D * ((1.0 - m) / 2.0 + (2.0 + _LAM_H) * m + k)
+    g = tL * a - tD * ((1.0 - m) / 2.0 + (2.0 + tH) * m + k)
     j = np.flatnonzero(np.sign(g[1:]) != np.sign(g[:-1]))
     if not j.size:
         raise ValueError(f"no similar laminar start for ue ~ x^{m}, r ~ x^{k}")
     i = int(j[0])
     t = g[i] / (g[i] - g[i + 1])
-    Hs = float(_LAM_HS[i] + t * (_LAM_HS[i + 1] - _LAM_HS[i]))
+    Hs = float(grid[i] + t * (grid[i + 1] - grid[i]))
     return Hs, float(laminar_closure(Hs)[2] / a)
 
 

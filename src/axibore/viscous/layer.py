@@ -57,7 +57,6 @@ from .closure import (  # noqa: F401  (LAMINAR ... turbulent_cf are this module'
     _FP_LIST,
     _FS_TABLE,
     _H1_KNEE,
-    _LAM_LIST,
     FS_BLASIUS,
     FS_H_SEP,
     FS_HSTAR_MAX,
@@ -67,6 +66,7 @@ from .closure import (  # noqa: F401  (LAMINAR ... turbulent_cf are this module'
     LAMINAR,
     laminar_closure,
     laminar_energy_shape,
+    laminar_lists,
     ludwieg_tillmann_cf,
     michel_re_theta,
     SEPARATED,
@@ -141,7 +141,7 @@ def _laminar(edge, theta0, planar):
 
     Also theta where the march stopped (at the separation), or None. The start: see the module text.
     RK4 with step doubling on the PCHIP interpolants of ue and r (``_rk4_march``)."""
-    s, ue, r, nu = edge.s, *(np.asarray(edge._l[j]) for j in (1, 3, 5))
+    s, ue, r, nu = edge.s, edge.ue, edge.r, edge.nu
     n = s.size
     theta = np.full(n, np.nan)
     Hs = np.full(n, np.nan)
@@ -167,7 +167,7 @@ def _laminar(edge, theta0, planar):
     else:
         theta[0], Hs[0] = float(theta0), float(FS_BLASIUS[3])
         th0, hs0 = theta[0], Hs[0]
-    hs_lo, dhs, tH, tL, tD = _LAM_LIST
+    hs_lo, dhs, tH, tL, tD = laminar_lists()
     last = len(tH) - 2
 
     def closure_at(hs):  # held at the table's ends (a NaN of a failed trial step at its start)
@@ -271,6 +271,20 @@ def _turbulent(edge, s_start, theta_start, H_start, H_sep):
         return out_theta, np.where(np.isfinite(out_H1), head_H(out_H1), np.nan), None if stop is None else stop[0]
 
 
+def _hermite_basis(t, h):
+    """The cubic Hermite basis at t in [0, 1] of an interval of length h, and its derivatives in s
+    (floats or arrays alike: the same arithmetic either way)."""
+    t2, t3 = t * t, t * t * t
+    return ((2 * t3 - 3 * t2 + 1, t3 - 2 * t2 + t, -2 * t3 + 3 * t2, t3 - t2),
+            ((6 * t2 - 6 * t) / h, 3 * t2 - 4 * t + 1, (6 * t - 6 * t2) / h, 3 * t2 - 2 * t))
+
+
+def _hermite(basis, h, y0, d0, y1, d1):
+    """Value and slope of the cubic with values y and slopes d at an interval's ends."""
+    (h00, h10, h01, h11), (d00, d10, d01, d11) = basis
+    return h00 * y0 + h10 * h * d0 + h01 * y1 + h11 * h * d1, d00 * y0 + d10 * d0 + d01 * y1 + d11 * d1
+
+
 class _EdgeCurves:
     """The edge state along the wall between stations: ue and r as the cubic Hermite curves of their
     station values and PCHIP slopes, nu linear. ``at(i, x)`` is (ue, due/ds, r, dr/ds, nu) at x in
@@ -278,37 +292,29 @@ class _EdgeCurves:
     arithmetic (the same floats)."""
 
     def __init__(self, s, ue, due, r, dr, nu):
-        self.s = s
-        self._l = tuple(a.tolist() for a in (s, ue, due, r, dr, nu))
+        self.s, self.ue, self.r, self.nu = s, ue, r, nu
+        self.lists = tuple(a.tolist() for a in (s, ue, due, r, dr, nu))
         gap = s[1:] - s[:-1]
         self.mid = self._all(s, ue, due, r, dr, nu, s[:-1] + 0.5 * gap)
         self.end = self._all(s, ue, due, r, dr, nu, s[:-1] + gap)
-        self.station = list(zip(*self._l[1:]))
+        self.station = list(zip(*self.lists[1:]))
 
     def at(self, i, x):
-        sl, uel, duel, rl, drl, nul = self._l
+        sl, uel, duel, rl, drl, nul = self.lists
         h = sl[i + 1] - sl[i]
         t = (x - sl[i]) / h
-        t2, t3 = t * t, t * t * t
-        h00, h10, h01, h11 = 2 * t3 - 3 * t2 + 1, t3 - 2 * t2 + t, -2 * t3 + 3 * t2, t3 - t2
-        d00, d10, d01, d11 = (6 * t2 - 6 * t) / h, 3 * t2 - 4 * t + 1, (6 * t - 6 * t2) / h, 3 * t2 - 2 * t
-        u = h00 * uel[i] + h10 * h * duel[i] + h01 * uel[i + 1] + h11 * h * duel[i + 1]
-        du = d00 * uel[i] + d10 * duel[i] + d01 * uel[i + 1] + d11 * duel[i + 1]
-        rr = h00 * rl[i] + h10 * h * drl[i] + h01 * rl[i + 1] + h11 * h * drl[i + 1]
-        dr_ = d00 * rl[i] + d10 * drl[i] + d01 * rl[i + 1] + d11 * drl[i + 1]
+        basis = _hermite_basis(t, h)
+        u, du = _hermite(basis, h, uel[i], duel[i], uel[i + 1], duel[i + 1])
+        rr, dr_ = _hermite(basis, h, rl[i], drl[i], rl[i + 1], drl[i + 1])
         return u, du, rr, dr_, nul[i] + t * (nul[i + 1] - nul[i])
 
     @staticmethod
     def _all(s, ue, due, r, dr, nu, x) -> list[tuple]:
-        s0, h = s[:-1], s[1:] - s[:-1]
-        t = (x - s0) / h
-        t2, t3 = t * t, t * t * t
-        h00, h10, h01, h11 = 2 * t3 - 3 * t2 + 1, t3 - 2 * t2 + t, -2 * t3 + 3 * t2, t3 - t2
-        d00, d10, d01, d11 = (6 * t2 - 6 * t) / h, 3 * t2 - 4 * t + 1, (6 * t - 6 * t2) / h, 3 * t2 - 2 * t
-        u = h00 * ue[:-1] + h10 * h * due[:-1] + h01 * ue[1:] + h11 * h * due[1:]
-        du = d00 * ue[:-1] + d10 * due[:-1] + d01 * ue[1:] + d11 * due[1:]
-        rr = h00 * r[:-1] + h10 * h * dr[:-1] + h01 * r[1:] + h11 * h * dr[1:]
-        dr_ = d00 * r[:-1] + d10 * dr[:-1] + d01 * r[1:] + d11 * dr[1:]
+        h = s[1:] - s[:-1]
+        t = (x - s[:-1]) / h
+        basis = _hermite_basis(t, h)
+        u, du = _hermite(basis, h, ue[:-1], due[:-1], ue[1:], due[1:])
+        rr, dr_ = _hermite(basis, h, r[:-1], dr[:-1], r[1:], dr[1:])
         return list(zip(u.tolist(), du.tolist(), rr.tolist(), dr_.tolist(), (nu[:-1] + t * (nu[1:] - nu[:-1])).tolist()))
 
 
@@ -334,7 +340,7 @@ def _rk4_march(edge, i, x, a, b, rhs, max_step, b_stop, out_a, out_b, tolerance=
     b_stop (separation) and returns (that s, a there), linear in b within the step; else None. The march
     is sequential by nature (an initial-value problem along the wall); its loop runs over stations with
     plain floats."""
-    sl, n = edge._l[0], len(edge._l[0])
+    sl, n = edge.lists[0], len(edge.lists[0])
     s_end, s_end_at = None, None
     while i < n - 1:
         x_end = sl[i + 1]
@@ -365,6 +371,8 @@ def _rk4_march(edge, i, x, a, b, rhs, max_step, b_stop, out_a, out_b, tolerance=
                     continue
                 if b_1 <= b_stop:  # the stop in the first half
                     a_n, b_n, h = a_1, b_1, 0.5 * h
+                elif b_2 <= b_stop:  # in the second: from the middle
+                    x, a, b, a_n, b_n, h = x + 0.5 * h, a_1, b_1, a_2, b_2, 0.5 * h
                 else:
                     a_n, b_n = a_2, b_2
             elif not (a_n > 0.0 and math.isfinite(a_n)) and h > RK4_MIN_SHARE * gap:

@@ -306,7 +306,7 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
                          "not included" if corner else ""))
 
     warnings = []
-    if not coupling.converged and coupling.last_change > 10 * COUPLING_TOLERANCE:
+    if unsettled:
         warnings.append(f"wall layer: the blockage coupling did not settle (the blockage B still changes by "
                         f"{coupling.last_change:.2g} between "
                         "iterations): the layer near its separation or in a thick-layer region is uncertain")
