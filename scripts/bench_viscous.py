@@ -54,7 +54,7 @@ def main() -> None:
             f"(target < 10 %)",
             f"  run with one displacement pass {t_one:7.2f} s   = {t_one / t_none:.2f} x the run without the layer "
             f"(target < 2.2 x); stage with the pass {r2.seconds['viscous']:.2f} s",
-            f"  coupling: {r1.viscous.coupling.iterations} marches, last change of B {r1.viscous.coupling.last_change:.2g} "
+            f"  coupling: {r1.viscous.coupling.iterations} march{'es' if r1.viscous.coupling.iterations != 1 else ''}, last change of B {r1.viscous.coupling.last_change:.2g} "
             f"(target: at most 3 in the typical case, issue 20)",
             f"  friction {r1.viscous.friction_x_N:.4g} N; displacement pass: wall force "
             f"{r2.viscous.displacement.force_change_N:+.4g} N, flow {r2.viscous.displacement.flow_change_rel:+.3%}",

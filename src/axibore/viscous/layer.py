@@ -38,11 +38,12 @@ Methods and sources
 Limits
 ------
 Past separation the march stops; the remaining stations are marked "separated" and their values
-are NaN. Near and beyond separation the results are indicative only: the layer is computed from
-the inviscid wall speed without interaction (no displacement feedback), so the separation point is
-an estimate and the flow downstream of it is not represented. Michel's criterion is a flat-plate,
-low-disturbance correlation; freestream turbulence, roughness and laminar separation bubbles move
-transition. A boundary-layer estimate is not a turbulence-resolving simulation.
+are NaN. Near and beyond separation the results are indicative only: the displacement interaction
+is the quasi-1D blockage of the section (``blockage``, solved in the march), not the 2D flow about
+the displaced wall, so the separation point is an estimate and the flow downstream of it is not
+represented. Michel's criterion is a flat-plate, low-disturbance correlation; freestream
+turbulence, roughness and laminar separation bubbles move transition. A boundary-layer estimate is
+not a turbulence-resolving simulation.
 """
 
 from __future__ import annotations
@@ -103,6 +104,7 @@ class WallLayer:
     separation_kind: str | None = None  # "laminar" | "turbulent" | None
     notes: tuple[str, ...] = field(default_factory=tuple)
     bubble_s: float | None = None  # a short laminar separation bubble (transition placed there)
+    ue: np.ndarray | None = None  # the edge speed: the inviscid one given, or with the blockage interaction
 
     @property
     def state_names(self) -> list[str]:
@@ -161,7 +163,7 @@ def _laminar(edge, theta0, planar):
         # interval in, marched from there, so that the first interval's own gradient counts
         hs0, Lam = similar_start(0.0, k)
         x0 = float(s[0] + LAMINAR_START_SHARE * (s[1] - s[0]))
-        u0, _, _, _, nu0 = edge.at(0, x0)
+        u0, _, _, _, nu0 = edge.at(0, x0)[:5]
         th0 = math.sqrt(Lam * nu0 * (x0 - s[0]) / u0)
         theta[0], Hs[0] = 0.0, hs0
     else:
@@ -189,6 +191,14 @@ def _laminar(edge, theta0, planar):
         re = u * th / nu_x
         g = th * du / u
         return ll / re - (2.0 + H) * g - th * dr_ / rr, hs * ((dd - ll) / re + (H - 1.0) * g) / th
+
+    def shape(hs):  # (H, dH/dH*) of the closure, for the interaction
+        j, t = closure_at(hs)
+        slope = (tH[j + 1] - tH[j]) / dhs if 0.0 < t < 1.0 or 0 < j < last else 0.0
+        return tH[j] + t * (tH[j + 1] - tH[j]), slope
+
+    if edge.coupled:
+        rhs = _interacting(rhs, shape, lambda hs, H: hs * (H - 1.0))
 
     def max_step(i, x, th, hs):
         """The least of: LAMINAR_STEP_SHARE of the energy equation's relaxation length theta Re_theta
@@ -262,6 +272,15 @@ def _turbulent(edge, s_start, theta_start, H_start, H_sep):
         dH1 = 0.0306 * max(H1 - 3.0, 1e-12) ** -0.6169 / theta - H1 * (dr_ / rr + du / u + dtheta / theta)
         return dtheta, dH1
 
+    def shape(H1):  # (H, dH/dH1) of head_H, for the interaction
+        x = max(H1 - 3.3, 1e-12)
+        if H1 >= knee:
+            return 1.1 + (x / 0.8234) ** pw_lo, pw_lo / 0.8234 * (x / 0.8234) ** (pw_lo - 1.0)
+        return 0.6778 + (x / 1.5501) ** pw_hi, pw_hi / 1.5501 * (x / 1.5501) ** (pw_hi - 1.0)
+
+    if edge.coupled:
+        rhs = _interacting(rhs, shape, lambda H1, H: H1 * (H + 1.0))
+
     def max_step(i, x, theta, H1):
         return TURBULENT_STEP_THETAS * theta
 
@@ -289,33 +308,86 @@ class _EdgeCurves:
     """The edge state along the wall between stations: ue and r as the cubic Hermite curves of their
     station values and PCHIP slopes, nu linear. ``at(i, x)`` is (ue, due/ds, r, dr/ds, nu) at x in
     interval i; ``mid``/``end``/``station`` hold it for whole-interval steps, vectorised with the same
-    arithmetic (the same floats)."""
+    arithmetic (the same floats). With ``extra`` curves (value and slope pairs at the stations: the
+    blockage interaction, ``_interacting``) each state goes on with their values and slopes."""
 
-    def __init__(self, s, ue, due, r, dr, nu):
+    def __init__(self, s, ue, due, r, dr, nu, extra=()):
         self.s, self.ue, self.r, self.nu = s, ue, r, nu
-        self.lists = tuple(a.tolist() for a in (s, ue, due, r, dr, nu))
+        self.coupled = bool(extra)
+        cols = (s, ue, due, r, dr, nu) + tuple(a for pair in extra for a in pair)
+        self.lists = tuple(a.tolist() for a in cols)
         gap = s[1:] - s[:-1]
-        self.mid = self._all(s, ue, due, r, dr, nu, s[:-1] + 0.5 * gap)
-        self.end = self._all(s, ue, due, r, dr, nu, s[:-1] + gap)
+        self.mid = self._all(cols, s[:-1] + 0.5 * gap)
+        self.end = self._all(cols, s[:-1] + gap)
         self.station = list(zip(*self.lists[1:]))
 
     def at(self, i, x):
-        sl, uel, duel, rl, drl, nul = self.lists
+        sl, uel, duel, rl, drl, nul = self.lists[:6]
         h = sl[i + 1] - sl[i]
         t = (x - sl[i]) / h
         basis = _hermite_basis(t, h)
         u, du = _hermite(basis, h, uel[i], duel[i], uel[i + 1], duel[i + 1])
         rr, dr_ = _hermite(basis, h, rl[i], drl[i], rl[i + 1], drl[i + 1])
-        return u, du, rr, dr_, nul[i] + t * (nul[i + 1] - nul[i])
+        out = (u, du, rr, dr_, nul[i] + t * (nul[i + 1] - nul[i]))
+        if self.coupled:
+            ex = self.lists[6:]
+            for v, d in zip(ex[0::2], ex[1::2]):
+                out += _hermite(basis, h, v[i], d[i], v[i + 1], d[i + 1])
+        return out
 
     @staticmethod
-    def _all(s, ue, due, r, dr, nu, x) -> list[tuple]:
+    def _all(cols, x) -> list[tuple]:
+        s, ue, due, r, dr, nu = cols[:6]
         h = s[1:] - s[:-1]
         t = (x - s[:-1]) / h
         basis = _hermite_basis(t, h)
         u, du = _hermite(basis, h, ue[:-1], due[:-1], ue[1:], due[1:])
         rr, dr_ = _hermite(basis, h, r[:-1], dr[:-1], r[1:], dr[1:])
-        return list(zip(u.tolist(), du.tolist(), rr.tolist(), dr_.tolist(), (nu[:-1] + t * (nu[1:] - nu[:-1])).tolist()))
+        out = [u, du, rr, dr_, nu[:-1] + t * (nu[1:] - nu[:-1])]
+        for v, d in zip(cols[6::2], cols[7::2]):
+            out += _hermite(basis, h, v[:-1], d[:-1], v[1:], d[1:])
+        return list(zip(*(a.tolist() for a in out)))
+
+
+MAX_BLOCKAGE = 0.5  # the interaction holds the blockage at this (half the section; see march.THICK_FRACTION)
+
+
+def _interacting(rhs, shape, second):
+    """The march's right-hand side with the blockage interaction solved in it (quasi-simultaneous).
+
+    The edge speed is the inviscid U over (1 - B), B = b + theta (c1 H + c2) the blockage of the section:
+    b that of the rest of the section (other walls, deficit fluid carried from earlier layers), the layer's
+    own displacement theta (c1 H + c2) with c1 = (P/A)(1 + k) rho_ref/rho_e, c2 = (P/A) k rho_ref/rho_e (P/A
+    the wall's perimeter over the flow area; k a gas layer's compressible part of H, theta marched in reference
+    variables; liquids k = 0, c1 = P/A). The state then carries U, U', r, r', nu, c1, c1', c2, c2', b, b'
+    (``_EdgeCurves`` with extra curves). Both integral equations are affine in w = ue'/ue, y' = z + q w,
+    y = (theta, second variable), q = (-(H + 2) theta, ``second(y2, H)``): H* (H - 1) for the energy
+    equation, H1 (H + 1) for the entrainment equation (derived from the right-hand sides). And w = w0 + c.y'
+    with w0 = U'/U + (b' + theta (c1' H + c2'))/(1 - B), c = ((c1 H + c2), theta c1 dH/dy2)/(1 - B), so
+    y' = z + q (c.z)/(1 - c.q) (derived; Sherman-Morrison). c.q < 0 for both closures (H falls as H* or H1
+    rises), so the solve is regular up to separation. ``shape(y2)`` gives (H, dH/dy2). A state of five
+    entries (no interaction) goes to ``rhs`` unchanged."""
+
+    def coupled(state, a, b):
+        if len(state) == 5 or not state[0] > 0.0:  # no interaction; or a stagnation point's U = 0
+            return rhs(state[:5], a, b)
+        U, dU, rr, dr_, nu_x, c1, dc1, c2, dc2, br, dbr = state
+        H, dH = shape(b)
+        th = max(a, 0.0)
+        B = br + th * (c1 * H + c2)
+        held = B > MAX_BLOCKAGE
+        f = 1.0 / (1.0 - min(B, MAX_BLOCKAGE))
+        u = U * f
+        w0 = dU / U + (0.0 if held else (dbr + th * (dc1 * H + dc2)) * f)
+        za, zb = rhs((u, u * w0, rr, dr_, nu_x), a, b)
+        if held:
+            return za, zb
+        qa, qb = -(H + 2.0) * th, second(b, H)  # d(y')/dw of both integral equations (above)
+        ca, cb = (c1 * H + c2) * f, th * c1 * dH * f
+        m = (ca * za + cb * zb) / (1.0 - (ca * qa + cb * qb))
+        return za + qa * m, zb + qb * m
+
+    return coupled
 
 
 def _rk4_step(rhs, s0, s_mid, s_end, a, b, h):
@@ -405,6 +477,7 @@ def march(
     bubble_re_delta_star: float | None = None,
     edge_rho=None,
     turbulent_state: tuple | None = None,
+    blockage: tuple | None = None,
 ) -> WallLayer:
     """March the wall layer along the wall.
 
@@ -429,6 +502,11 @@ def march(
     d theta/ds = tau_w/(rho_e ue^2); derived); theta (continuous at transition), delta* = H theta and cf =
     2 tau_w/(rho_e ue^2) come out at the edge state, theta0 goes in at it, and Re_theta is the closure's
     ue theta_ref/nu_ref.
+    blockage: (g, b, k) at the stations, to solve the displacement interaction in the march
+    (``_interacting``): the edge speed is then ue / (1 - B), ue the inviscid speed given, B = b + g delta*
+    the blockage of the section (g = P/A, the wall's perimeter over the flow area; b the rest of the
+    section's; delta* = (H + k (H + 1)) theta at the edge state, k a gas layer's compressible part, 0 for
+    liquids). The layer's ``ue`` is that edge speed.
     """
     from scipy.interpolate import PchipInterpolator
 
@@ -478,10 +556,32 @@ def march(
     separation_kind = None
     bubble_s = None
 
-    edge_l = _EdgeCurves(s, ue, due, r, dr, nu)
-    edge_t = edge_l if nu_t is nu else _EdgeCurves(s, ue, due, r, dr, nu_t)
+    U = ue  # the inviscid edge speed; ``ue`` becomes the coupled one where the layer is known
+    if blockage is None:
+        edge_l = _EdgeCurves(s, ue, due, r, dr, nu)
+        edge_t = edge_l if nu_t is nu else _EdgeCurves(s, ue, due, r, dr, nu_t)
+        ue_of = None
+    else:
+        g, b_rest, kc = (np.broadcast_to(np.asarray(a, dtype=float), s.shape) for a in blockage)
+        ratio_l, ratio_t = (rho_l / rho_e, rho_t / rho_e) if gas else (1.0, 1.0)
+
+        def curves(ratio):
+            c1, c2 = g * (1.0 + kc) * ratio, g * kc * ratio
+            return tuple((a, PchipInterpolator(s, a).derivative()(s)) for a in (c1, c2, b_rest)), (c1, c2)
+
+        (ex_l, c_l), (ex_t, c_t) = curves(ratio_l), curves(ratio_t)
+        edge_l = _EdgeCurves(s, ue, due, r, dr, nu, ex_l)
+        edge_t = _EdgeCurves(s, ue, due, r, dr, nu_t, ex_t)
+
+        def ue_of(th, H, turbulent):  # the coupled edge speed at the stations where the layer is known
+            c1, c2 = np.where(turbulent, c_t[0], c_l[0]), np.where(turbulent, c_t[1], c_l[1])
+            B = b_rest + np.where(np.isfinite(th) & np.isfinite(H), th * (c1 * H + c2), 0.0)
+            return U / (1.0 - np.minimum(B, MAX_BLOCKAGE))
     if start == "laminar":
         th_l, hs_l, s_lsep, th_lsep = _laminar(edge_l, theta0, planar)
+        if ue_of is not None:
+            ue = ue_of(th_l, laminar_closure(np.where(np.isfinite(hs_l), hs_l, FS_BLASIUS[3]))[0], False)
+            due = PchipInterpolator(s, ue).derivative()(s)
         # laminar separation: the energy shape factor falls to the separation profile's
         i_sep = int(np.searchsorted(s, s_lsep)) if s_lsep is not None else n
         # transition
@@ -548,6 +648,9 @@ def march(
             H[gone] = np.nan
             state[gone] = SEPARATED
         good = mask & (state == TURBULENT)
+        if ue_of is not None:
+            ue = np.where(good, ue_of(theta, H, True), ue)
+            due = PchipInterpolator(s, ue).derivative()(s)
         cf[good] = turbulent_cf(H[good], ue[good] * theta[good] / nu_t[good])
         lam[good] = theta[good] ** 2 / nu_t[good] * due[good]
 
@@ -591,4 +694,5 @@ def march(
         separation_kind=separation_kind,
         notes=tuple(notes),
         bubble_s=bubble_s,
+        ue=_frozen(ue),
     )

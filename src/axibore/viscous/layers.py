@@ -1,5 +1,5 @@
 """The layers of every wall chain of a solved flow and what they do to it: the blockage coupling
-with the core flow (quasi-simultaneous, relaxed), the viscous discharge and loss coefficients,
+with the core flow (quasi-simultaneous: solved in each march), the viscous discharge and loss coefficients,
 the friction force (``wall_layers``). The march of one chain is ``march.march_chain``."""
 
 from __future__ import annotations
@@ -16,17 +16,16 @@ from .results import CAUTION, G_STANDARD, THICK_LAYER, ChainLayer, Coupling, Lay
 
 
 COUPLING_MAX_ITERATIONS = 25
-COUPLING_RELAXATION = 1.0  # the first step undamped: the map B -> B is a weak contraction where the layer is attached
-# later steps: Aitken's dynamic relaxation in the vector form of Irons & Tuck (1969, "A version of the Aitken
+# The march solves the interaction with the wall's own layer; the rest of a section's blockage (other walls, the
+# deficit carried past a restart, whose displacement falls with the cube of the new layer's edge speed) is lagged by
+# a march and relaxed by Aitken's dynamic factor in the vector form of Irons & Tuck (1969, "A version of the Aitken
 # accelerator for computer iteration", Int. J. Numer. Meth. Eng. 1, 275-277), omega_k = -omega_(k-1)
-# r_(k-1).(r_k - r_(k-1)) / |r_k - r_(k-1)|^2, r = B_new - B: the secant of the map along the last step. For a map of
-# slope s the exact factor is 1/(1 - s); the range below trusts slopes from -4 to 1/3. A pipe's layer speeds up its own
-# core (a favourable gradient that thins it): slopes near -0.4, so plain substitution alternates and loses 0.4 a step.
-# On seven bores (level 1) the marches fell from 34 to 28 in all (nozzles 6 -> 4 and 8 -> 6, a reducer 4 -> 3,
-# a CSV outline 4 -> 3; the last with the secant on the measured faces, below)
+# r_(k-1).(r_k - r_(k-1)) / |r_k - r_(k-1)|^2, r the step of that lagged part: the secant of the map along the last
+# step, exact for a map of slope s at 1/(1 - s); the range trusts slopes from -4 to 1/3. A nozzle at beta 0.75 and
+# Re_D 1e4 alternated between two states with plain substitution (slope -1, the carried deficit next to the corner)
 COUPLING_OMEGA_RANGE = (0.2, 1.5)
 COUPLING_TOLERANCE = 1e-3  # on the blockage B at every face
-MAX_BLOCKAGE = 0.5
+MAX_BLOCKAGE = L.MAX_BLOCKAGE
 # the downstream station of the discharge coefficient lies at the narrowest section when its flow area is within
 # this fraction of the narrowest one: with dp ~ 1/A_2^2 - 1/A_1^2, a relative area excess e at the downstream
 # station lowers dp by 2e/(1 - beta^4) of itself and raises C by e/(1 - beta^4) (derived), under 1e-5 (the digits
@@ -57,22 +56,32 @@ def face_blockage(chains: dict[str, ChainLayer], profile, planar: bool) -> dict[
     return out
 
 
+def _own_blockage(c: ChainLayer, profile) -> np.ndarray:
+    """P delta* / A of a chain's own layer at its faces (without the deficit carried from earlier runs;
+    separated values held from the last attached face, as in ``face_blockage``)."""
+    ds = c.delta_star
+    fin = np.isfinite(ds)
+    if not fin.any():
+        return np.zeros(ds.size)
+    ds = np.interp(np.arange(ds.size), np.flatnonzero(fin), ds[fin])
+    return c.perimeter * ds / np.maximum(profile.flow_area(np.atleast_1d(c.x)), 1e-300)
+
+
 def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile, planar: bool
                    ) -> tuple[dict[str, ChainLayer], Coupling]:
     """The layers of all chains. With ``coupling = "blockage"`` the edge speed is the inviscid wall
     speed over (1 - B), B the displacement blockage of the section (continuity in the core: a
-    quasi-1D interaction), found by fixed-point iteration with Aitken relaxation (COUPLING_OMEGA_RANGE)."""
-    first = {n: march_chain(n, t, props[n], settings, profile, planar) for n, t in tables.items()}
-    chains = {n: v[0] for n, v in first.items()}
-    widths = {n: v[1] for n, v in first.items()}
-    if settings.coupling != "blockage":
-        return chains, Coupling("none", True, 0, 0.0, COUPLING_TOLERANCE, 0.0,
-                                "none: the layer is marched on the inviscid wall speed")
-    if not profile.monotone:
-        return chains, Coupling("none", True, 0, 0.0, COUPLING_TOLERANCE, 0.0,
-                                "none: the wall runs backwards in x, so a section's blockage is not defined")
-    B = {n: np.zeros(t.s.size) for n, t in tables.items()}
-    change, omega, last_step = float("inf"), COUPLING_RELAXATION, None
+    quasi-1D interaction). Each chain's march solves the interaction with its own layer as it goes
+    (quasi-simultaneous, ``layer.march``'s ``blockage``); what the march cannot know yet, the other
+    walls' layers and the deficit fluid carried from earlier runs, is taken from the march before, until B
+    changes by less than COUPLING_TOLERANCE between marches."""
+    if settings.coupling != "blockage" or not profile.monotone:
+        first = {n: march_chain(n, t, props[n], settings, profile, planar) for n, t in tables.items()}
+        chains = {n: v[0] for n, v in first.items()}
+        how = ("none: the layer is marched on the inviscid wall speed" if settings.coupling != "blockage" else
+               "none: the wall runs backwards in x, so a section's blockage is not defined")
+        return chains, Coupling("none", True, 0, 0.0, COUPLING_TOLERANCE, 0.0, how)
+
     def attached(c):  # attached, and not within two faces upstream of a separation
         sep = c.state == L.SEPARATED
         near = sep.copy()
@@ -80,40 +89,55 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
         near[:-2] |= sep[2:]
         return ~near
 
-    attached_before = {n: attached(c) for n, c in chains.items()}
+    B = {n: np.zeros(t.s.size) for n, t in tables.items()}
+    rest = {n: np.zeros(t.s.size) for n, t in tables.items()}
+    widths = {n: None for n in tables}
+    attached_before = None
+    change, omega, last_step = float("inf"), 1.0, None
     for it in range(1, COUPLING_MAX_ITERATIONS + 1):
+        res = {n: march_chain(n, t, props[n], settings, profile, planar, widths[n], rest[n])
+               for n, t in tables.items()}
+        chains = {n: v[0] for n, v in res.items()}
+        if it == 1:
+            # the smoothing widths the first march took (over its layer thickness), then held: that march has the wall's
+            # own interaction already, and widths following each march let a separation point that moves by a face move
+            # them back (the approach layer of a nozzle at beta 0.75, Re_D 1e4, alternated for ever)
+            widths = {n: v[1] for n, v in res.items()}
         Bn = face_blockage(chains, profile, planar)
         # measured on the faces attached in this march and the one before: where the separation point moves by a
         # face between iterations, that face's blockage jumps between the attached layer's and the value held
         # across the separated range (the position of a separation is resolved to a face, no better)
         # (and on faces running within 60 deg of the axis: on a wall facing the flow, the inlet face of a nozzle,
         # a cross-section's blockage is not defined and the layer there is the stagnation flow's)
-        att = {n: attached_before[n] & attached(c) & (np.abs(c.tx) >= 0.5) for n, c in chains.items()}
-        attached_before = {n: attached(c) for n, c in chains.items()}
+        now = {n: attached(c) for n, c in chains.items()}
+        att = {n: (now[n] if attached_before is None else attached_before[n] & now[n]) & (np.abs(c.tx) >= 0.5)
+               for n, c in chains.items()}
+        attached_before = now
         change = max(float(np.max(np.abs(Bn[n] - B[n])[att[n]])) if att[n].any() else 0.0 for n in B)
+        B = Bn
         if change < COUPLING_TOLERANCE:
             break
-        step = {n: Bn[n] - B[n] for n in B}
+        step = {n: np.clip(Bn[n] - _own_blockage(c, profile), 0.0, MAX_BLOCKAGE) - rest[n] for n, c in chains.items()}
         if last_step is not None:  # Aitken: the secant of the map along the last step (above)
-            # on the faces where the change is measured (separated faces and faces facing the flow carry
-            # held or undefined values): 46 -> 44 marches over ten bores, none more
             dr = {n: (step[n] - last_step[n]) * att[n] for n in B}
             den = sum(float(dr[n] @ dr[n]) for n in B)
             if den > 0.0:
                 omega = -omega * sum(float((last_step[n] * att[n]) @ dr[n]) for n in B) / den
                 omega = min(max(omega, COUPLING_OMEGA_RANGE[0]), COUPLING_OMEGA_RANGE[1])
         last_step = step
-        B = {n: np.clip(B[n] + omega * step[n], 0.0, MAX_BLOCKAGE) for n in B}  # over-relaxed: kept in its range
-        res = {n: march_chain(n, t, props[n], settings, profile, planar, t.speed / (1.0 - B[n]), widths[n])
-               for n, t in tables.items()}
-        chains = {n: v[0] for n, v in res.items()}
-        widths = {n: v[1] for n, v in res.items()}
-    state = f"converged in {it} iterations" if change < COUPLING_TOLERANCE else \
-        f"NOT converged in {COUPLING_MAX_ITERATIONS} iterations (B still changes by {change:.2g} between iterations)"
+        if not any(np.any(st) for st in step.values()):
+            # nothing lagged changes (one wall, no deficit carried past a restart): the next march would take the same
+            # widths and rest of the section and give the same layer, B changing by 0
+            change = 0.0
+            break
+        rest = {n: np.clip(rest[n] + omega * step[n], 0.0, MAX_BLOCKAGE) for n in B}
+    state = f"converged in {it} marches" if change < COUPLING_TOLERANCE else \
+        f"NOT converged in {COUPLING_MAX_ITERATIONS} marches (B still changes by {change:.2g} between marches)"
     Bmax = max(float(b.max()) for b in B.values()) if B else 0.0
     return chains, Coupling("blockage", bool(change < COUPLING_TOLERANCE), it, float(change), COUPLING_TOLERANCE, Bmax,
                             f"blockage: edge speed = inviscid wall speed / (1 - B), B = sum P delta* / A (continuity in "
-                            f"the core), {state} to {COUPLING_TOLERANCE:g} in B; largest B {Bmax:.3g}")
+                            f"the core), solved in each march with the wall's own layer, {state} to "
+                            f"{COUPLING_TOLERANCE:g} in B; largest B {Bmax:.3g}")
 
 
 def blockage(chains: dict[str, ChainLayer], profile, x: float, planar: bool) -> float:

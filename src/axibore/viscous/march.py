@@ -322,16 +322,19 @@ def _energy_thickness(theta, H, state):
 
 
 def march_chain(name: str, table, props: LayerProperties, settings: ViscousSettings, profile,
-                planar: bool, speed: np.ndarray | None = None, width: np.ndarray | None = None
+                planar: bool, width: np.ndarray | None = None, b_rest: np.ndarray | None = None
                 ) -> tuple[ChainLayer, np.ndarray]:
-    """The layer on one chain from the wall speed ``speed`` (default the table's), smoothed over
-    ``width`` faces per face (default: a first march at the face scale, then over its layer
-    thickness). Returns the layer and the smoothing width its thickness calls for."""
+    """The layer on one chain from the inviscid wall speed of its table, smoothed over ``width``
+    faces per face (default: a first march at the face scale, then over its layer
+    thickness). With ``b_rest`` (per face: the blockage of the section but this chain's own layer) the
+    displacement interaction is solved in the march (``layer.march``'s ``blockage``): the edge speed
+    is the smoothed wall speed over (1 - B). Returns the layer and the smoothing widths its last pass
+    took (given again, they give the same edge speed)."""
     n = table.s.size
-    speed = table.speed if speed is None else speed
+    speed = table.speed
     rho, nu, kcomp = props.density, props.nu, props.k  # rho: the edge density (momentum and energy of the layer)
     gas = props.rho_edge is not None
-    width_next = np.full(n, SMOOTH_FACES)
+    width_used = np.full(n, SMOOTH_FACES)
     s_all, x_all, r_all = table.s, table.x, table.r
     perim = perimeter(r_all, planar)
     tx = _tangent_x(table)
@@ -372,6 +375,7 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
         passes = 2 if width is None else 1
         w_run = SMOOTH_FACES if width is None else width[sel]
         for _ in range(passes):  # smoothed at the face scale, then again over the layer thickness of the first march
+            width_used[sel] = w_run
             u = np.maximum(smooth_speed(speed[sel], w_run), floor)
             # a station at the start of the run: the stagnation point, or the leading edge at the inlet plane
             s_run = np.r_[0.0, s_all[sel] - sb]
@@ -386,6 +390,10 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
             nu_run, rho_run = run_values(nu), run_values(rho)
             gas_states = dict(edge_rho=rho_run, turbulent_state=tuple(run_values(a) for a in props.turbulent)) if gas else {}
             face_in_run = sel[keep[1:]]
+            if b_rest is not None:
+                x_run = np.r_[xb, x_all[sel]][keep]
+                g_run = perimeter(r_run, planar) / np.maximum(profile.flow_area(x_run), 1e-300)
+                gas_states["blockage"] = (g_run, run_values(b_rest), run_values(kcomp))
             if how == "start" and not stagnation:
                 # the estimates are in the reference variables of the part that starts (a liquid's: its own), and go
                 # to the march at the edge state (theta = theta_ref rho_ref/rho_e; a thickness the user gave is one)
@@ -414,12 +422,12 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
                 break
             th = np.interp(np.arange(th.size), np.flatnonzero(fin), th[fin])  # held past separation
             h_face = np.maximum(table.length[face_in_run], 1e-300)
-            width_run = np.maximum(SMOOTH_FACES, SMOOTH_THETAS * th / h_face)
-            width_next[face_in_run] = width_run
             if face_in_run.size != sel.size:
                 break
-            w_run = width_run
+            w_run = np.maximum(SMOOTH_FACES, SMOOTH_THETAS * th / h_face)
         ue_all[sel] = u
+        ue_run = w.ue  # the edge speed the layer saw (with the interaction: over 1 - B)
+        ue_all[face_in_run] = ue_run[1:]
         if carried_E > 0.0:
             # The fluid of the layers that ended upstream at a restart (into a concave corner) passes on
             # beside the new layer with the total-pressure deficit it carried: int dp0 dQ = E, its kinetic-
@@ -429,7 +437,7 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
             # at which E was taken, the deficit fluid is still turning in the corner flow (the corner vortex): its
             # displacement there is blended in with the edge speed, ue/U_E E/(rho U_E^3) (a blend, not a law; the
             # stations of the discharge coefficient lie downstream, where ue is well above U_E).
-            ur = u[: sel.size]
+            ur = ue_all[sel]
             carried[sel] = carried_E * np.minimum(ur / carried_U, 1.0) / (rho[sel] * np.maximum(ur, carried_U) ** 3 * perim[sel])
         i = slice(1, None)
         w = _bounded_by_channel(w, np.r_[rb, r_all[sel]][keep], kcomp[np.r_[sel[0], sel]][keep])
@@ -486,7 +494,7 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
                 end_def = float("nan")
     return ChainLayer(name, table.faces, x_all, r_all, s_all, ue_all, theta, dstar, H, cf, tau, state, re_th, tx, area,
                       rho, perim, tuple(runs), tuple(transitions), tuple(separations), mom_fx, start_def, end_def,
-                      carried, carried_E, start_disp, corner_seps, tuple(bubbles)), width_next
+                      carried, carried_E, start_disp, corner_seps, tuple(bubbles)), width_used
 
 
 # --- the stage -----------------------------------------------------------------------------------
