@@ -1,4 +1,5 @@
-"""Integral boundary layer marched along a wall from the inviscid wall speed.
+"""Integral boundary layer marched along a wall from the inviscid wall speed (with the displacement
+blockage of the section solved in the march when ``blockage`` is given).
 
 Methods and sources
 -------------------
@@ -153,17 +154,19 @@ def _laminar(edge, theta0, planar):
         # a stagnation point: ue ~ x^m, m from the first two intervals (1 at a blunt face); the similar layer
         # at the second station (a cubic curve cannot follow x^m in the first interval), its value also given
         # to the first (theta ~ x^((1 - m)/2): constant at a blunt face)
-        m = float(np.clip(math.log(ue[2] / ue[1]) / math.log((s[2] - s[0]) / (s[1] - s[0])), 0.0, 4.0))
+        u1, u2 = ue[1] * edge.factor(1), ue[2] * edge.factor(2)
+        m = float(np.clip(math.log(u2 / u1) / math.log((s[2] - s[0]) / (s[1] - s[0])), 0.0, 4.0))
         hs0, Lam = similar_start(m, k)
         i0, x0 = 1, float(s[1])
-        th0 = math.sqrt(Lam * nu[1] * (s[1] - s[0]) / ue[1])
+        th0 = math.sqrt(Lam * nu[1] * (s[1] - s[0]) / u1)
         theta[:2], Hs[:2] = th0, hs0
     elif theta0 is None or not theta0 > 0.0 or k == 1:
         # a sharp edge (or a pointed start on the axis): the similar layer (m = 0) a small share of the first
         # interval in, marched from there, so that the first interval's own gradient counts
         hs0, Lam = similar_start(0.0, k)
         x0 = float(s[0] + LAMINAR_START_SHARE * (s[1] - s[0]))
-        u0, _, _, _, nu0 = edge.at(0, x0)[:5]
+        st = edge.at(0, x0)
+        u0, nu0 = st[0] / (1.0 - st[9]) if edge.coupled else st[0], st[4]
         th0 = math.sqrt(Lam * nu0 * (x0 - s[0]) / u0)
         theta[0], Hs[0] = 0.0, hs0
     else:
@@ -320,6 +323,11 @@ class _EdgeCurves:
         self.mid = self._all(cols, s[:-1] + 0.5 * gap)
         self.end = self._all(cols, s[:-1] + gap)
         self.station = list(zip(*self.lists[1:]))
+
+    def factor(self, i) -> float:
+        """1/(1 - b) at station i, b the rest of the section's blockage (1 without the interaction): the edge
+        speed where the layer's own displacement is still nil (its start)."""
+        return 1.0 / (1.0 - self.lists[10][i]) if self.coupled else 1.0
 
     def at(self, i, x):
         sl, uel, duel, rl, drl, nul = self.lists[:6]
@@ -625,6 +633,21 @@ def march(
             th_tr = th_lsep if transition_s == bubble_s else float(np.interp(transition_s, s[:i_sep], th_l[:i_sep]))
             if gas:  # theta continuous at the edge state: from the laminar part's reference variables to the turbulent's
                 th_tr *= float(np.interp(transition_s, s, rho_l)) / float(np.interp(transition_s, s, rho_t))
+            if ue_of is not None:
+                # with the interaction the displacement falls at transition (H from the laminar value to the turbulent
+                # start's) and the edge speed with it, at one point: across that drop the momentum integral, with no
+                # length for friction, gives theta_t = theta_l (ue_l/ue_t)^(H + 2) at the turbulent start's H (derived;
+                # ue_t depends on theta_t, a contraction solved by substitution)
+                u_l = float(np.interp(transition_s, s[:max(i_sep, 1)], ue[:max(i_sep, 1)]))
+                U_tr, b_tr, c1, c2 = (float(np.interp(transition_s, s, a)) for a in (U, b_rest, c_t[0], c_t[1]))
+                th_l_tr = th_tr
+                for _ in range(50):
+                    u_t = U_tr / (1.0 - min(b_tr + th_tr * (c1 * turbulent_start_H + c2), MAX_BLOCKAGE))
+                    th_new = th_l_tr * (u_l / u_t) ** (turbulent_start_H + 2.0)
+                    done = abs(th_new - th_tr) <= 1e-12 * th_tr
+                    th_tr = th_new
+                    if done:
+                        break
             s_start, th_start = transition_s, th_tr
     else:
         n_lam = 0

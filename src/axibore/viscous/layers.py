@@ -105,7 +105,7 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
             widths = {n: v[1] for n, v in res.items()}
         Bn = face_blockage(chains, profile, planar)
         # measured on the faces attached in this march and the one before: where the separation point moves by a
-        # face between iterations, that face's blockage jumps between the attached layer's and the value held
+        # face between marches, that face's blockage jumps between the attached layer's and the value held
         # across the separated range (the position of a separation is resolved to a face, no better)
         # (and on faces running within 60 deg of the axis: on a wall facing the flow, the inlet face of a nozzle,
         # a cross-section's blockage is not defined and the layer there is the stagnation flow's)
@@ -115,9 +115,11 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
         attached_before = now
         change = max(float(np.max(np.abs(Bn[n] - B[n])[att[n]])) if att[n].any() else 0.0 for n in B)
         B = Bn
-        if change < COUPLING_TOLERANCE:
-            break
+        # the lagged part's own residual too: relaxed steps (omega < 1) change B by less than the residual they leave
         step = {n: np.clip(Bn[n] - _own_blockage(c, profile), 0.0, MAX_BLOCKAGE) - rest[n] for n, c in chains.items()}
+        lag = max(float(np.max(np.abs(step[n])[att[n]])) if att[n].any() else 0.0 for n in B)
+        if change < COUPLING_TOLERANCE and lag < COUPLING_TOLERANCE:
+            break
         if last_step is not None:  # Aitken: the secant of the map along the last step (above)
             dr = {n: (step[n] - last_step[n]) * att[n] for n in B}
             den = sum(float(dr[n] @ dr[n]) for n in B)
@@ -295,7 +297,7 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
     # a blockage coupling that did not settle leaves the layer's displacement, and so C, unknown to its tolerance:
     # no number is given from it
     unsettled = (f"none: the blockage coupling did not settle (B still changes by {coupling.last_change:.2g} between "
-                 f"iterations, tolerance {COUPLING_TOLERANCE:g}), so the layer's displacement is not known to its tolerance"
+                 f"marches, tolerance {COUPLING_TOLERANCE:g}), so the layer's displacement is not known to its tolerance"
                  if not coupling.converged and coupling.last_change > 10 * COUPLING_TOLERANCE else None)
     if unsettled and cd is not None:
         cd, cd_note = None, unsettled
@@ -333,7 +335,7 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
     if unsettled:
         warnings.append(f"wall layer: the blockage coupling did not settle (the blockage B still changes by "
                         f"{coupling.last_change:.2g} between "
-                        "iterations): the layer near its separation or in a thick-layer region is uncertain")
+                        "marches): the layer near its separation or in a thick-layer region is uncertain")
     for c in chains.values():
         restarts = [x for x, how in c.runs if how.endswith("concave corner")]
         for a, b, kind in c.separations:
@@ -357,7 +359,8 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
     notes += [
         "wall layer: the momentum and kinetic-energy integrals with the Falkner-Skan closure (laminar), Michel's transition, Head's entrainment "
         "method with the flat-plate friction of Schlichting in Re_theta and the shape dependence of Ludwieg & "
-        "Tillmann (turbulent), marched on the smoothed inviscid wall speed; gases on an adiabatic wall at reference states (laminar: "
+        "Tillmann (turbulent), marched on the smoothed inviscid wall speed over 1 - B (the displacement blockage of the "
+        "section, solved in the march); gases on an adiabatic wall at reference states (laminar: "
         "Eckert's temperature; turbulent: the state that gives van Driest II), thicknesses and cf at the edge state",
         "friction_x_N: wall shear integrated over the wall, by the fluid on the part, +x downstream; separated faces "
         "count with no shear",

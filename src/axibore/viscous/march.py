@@ -17,7 +17,8 @@ How a chain is marched (the methods are in ``layer.py``)
   over many layer thicknesses; cell-to-cell noise of the reconstructed wall speed and the
   near-singular speed of a mild corner, both at the scale of one cell, would otherwise show as
   strong local pressure gradients and spurious separation. Linear trends are kept exactly, also
-  at the chain ends (no end bias, no outlet-plane artefact).
+  at the chain ends (no end bias, no outlet-plane artefact). With the blockage coupling the layer
+  sees that speed over 1 - B (``layers.coupled_layers``).
 - Runs: a layer starts at the upstream end of the chain: a leading edge at the inlet plane (with
   the momentum thickness given or grown over ``upstream_length``), or a stagnation point where a
   chain starts on the axis. A new layer starts at every concave corner turning by

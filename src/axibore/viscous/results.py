@@ -180,8 +180,8 @@ class Coupling:
 
     mode: str  # "blockage" | "none"
     converged: bool
-    iterations: int
-    last_change: float  # largest change of B at a face in the last iteration
+    iterations: int  # marches of the layers
+    last_change: float  # largest change of B at a face between the last two marches (0: nothing lagged changed)
     tolerance: float
     largest_blockage: float
     note: str
