@@ -133,7 +133,7 @@ def coupled_layers(tables: dict, props: dict, settings: ViscousSettings, profile
             change = 0.0
             break
         rest = {n: np.clip(rest[n] + omega * step[n], 0.0, MAX_BLOCKAGE) for n in B}
-    state = f"converged in {it} marches" if change < COUPLING_TOLERANCE else \
+    state = f"converged in {it} march{'es' if it != 1 else ''}" if change < COUPLING_TOLERANCE else \
         f"NOT converged in {COUPLING_MAX_ITERATIONS} marches (B still changes by {change:.2g} between marches)"
     Bmax = max(float(b.max()) for b in B.values()) if B else 0.0
     return chains, Coupling("blockage", bool(change < COUPLING_TOLERANCE), it, float(change), COUPLING_TOLERANCE, Bmax,
