@@ -32,7 +32,8 @@ Methods and sources
   law carried to Re_theta, with Ludwieg & Tillmann's (1949) shape dependence (see ``turbulent_cf``;
   their own power law 0.246 10^(-0.678 H) Re_theta^-0.268 is 7-18 % low at Re_x 1e6-1e8), integrated by classical RK4 on the PCHIP interpolants of ue and r (substeps of
   at most TURBULENT_STEP_THETAS momentum thicknesses). Momentum thickness is continuous at
-  transition; the turbulent shape factor starts at H = 1.4 (a setting; common practice).
+  transition (with the blockage interaction: across the drop of the edge speed there, see
+  ``march``); the turbulent shape factor starts at H = 1.4 (a setting; common practice).
   Turbulent separation when H reaches 2.4 (a setting; values of 1.8-2.8 are quoted in the
   literature).
 
@@ -166,7 +167,7 @@ def _laminar(edge, theta0, planar):
         hs0, Lam = similar_start(0.0, k)
         x0 = float(s[0] + LAMINAR_START_SHARE * (s[1] - s[0]))
         st = edge.at(0, x0)
-        u0, nu0 = st[0] / (1.0 - st[9]) if edge.coupled else st[0], st[4]
+        u0, nu0 = st[0] / (1.0 - st[_REST]) if edge.coupled else st[0], st[4]
         th0 = math.sqrt(Lam * nu0 * (x0 - s[0]) / u0)
         theta[0], Hs[0] = 0.0, hs0
     else:
@@ -195,10 +196,10 @@ def _laminar(edge, theta0, planar):
         g = th * du / u
         return ll / re - (2.0 + H) * g - th * dr_ / rr, hs * ((dd - ll) / re + (H - 1.0) * g) / th
 
-    def shape(hs):  # (H, dH/dH*) of the closure, for the interaction
+    def shape(hs):  # (H, dH/dH*) of the closure, for the interaction (H held, slope 0, beyond the table)
         j, t = closure_at(hs)
-        slope = (tH[j + 1] - tH[j]) / dhs if 0.0 < t < 1.0 or 0 < j < last else 0.0
-        return tH[j] + t * (tH[j + 1] - tH[j]), slope
+        inside = hs_lo < hs < hs_lo + (last + 1) * dhs
+        return tH[j] + t * (tH[j + 1] - tH[j]), (tH[j + 1] - tH[j]) / dhs if inside else 0.0
 
     if edge.coupled:
         rhs = _interacting(rhs, shape, lambda hs, H: hs * (H - 1.0))
@@ -327,7 +328,7 @@ class _EdgeCurves:
     def factor(self, i) -> float:
         """1/(1 - b) at station i, b the rest of the section's blockage (1 without the interaction): the edge
         speed where the layer's own displacement is still nil (its start)."""
-        return 1.0 / (1.0 - self.lists[10][i]) if self.coupled else 1.0
+        return 1.0 / (1.0 - self.station[i][_REST]) if self.coupled else 1.0
 
     def at(self, i, x):
         sl, uel, duel, rl, drl, nul = self.lists[:6]
@@ -357,6 +358,7 @@ class _EdgeCurves:
         return list(zip(*(a.tolist() for a in out)))
 
 
+_REST = 9  # the index of b, the rest of the section's blockage, in a state with the interaction's curves (below)
 MAX_BLOCKAGE = 0.5  # the interaction holds the blockage at this (half the section; see march.THICK_FRACTION)
 
 
@@ -507,9 +509,9 @@ def march(
     part's, and ``edge_rho`` the density at the layer's edge. Each part is marched in its own reference
     variables, in which the momentum thickness is theta_ref = theta rho_e/rho_ref (on a flat plate the march
     integrates d theta_ref/ds = cf_ref/2 = tau_w/(rho_ref ue^2), where the momentum balance of the layer is
-    d theta/ds = tau_w/(rho_e ue^2); derived); theta (continuous at transition), delta* = H theta and cf =
-    2 tau_w/(rho_e ue^2) come out at the edge state, theta0 goes in at it, and Re_theta is the closure's
-    ue theta_ref/nu_ref.
+    d theta/ds = tau_w/(rho_e ue^2); derived); theta (continuous at transition but for the interaction's
+    jump), delta* = H theta and cf = 2 tau_w/(rho_e ue^2) come out at the edge state, theta0 goes in at it,
+    and Re_theta is the closure's ue theta_ref/nu_ref.
     blockage: (g, b, k) at the stations, to solve the displacement interaction in the march
     (``_interacting``): the edge speed is then ue / (1 - B), ue the inviscid speed given, B = b + g delta*
     the blockage of the section (g = P/A, the wall's perimeter over the flow area; b the rest of the
@@ -587,8 +589,9 @@ def march(
             return U / (1.0 - np.minimum(B, MAX_BLOCKAGE))
     if start == "laminar":
         th_l, hs_l, s_lsep, th_lsep = _laminar(edge_l, theta0, planar)
+        H_l, l_l, _ = laminar_closure(np.where(np.isfinite(hs_l), hs_l, FS_BLASIUS[3]))  # NaN past separation: unused
         if ue_of is not None:
-            ue = ue_of(th_l, laminar_closure(np.where(np.isfinite(hs_l), hs_l, FS_BLASIUS[3]))[0], False)
+            ue = ue_of(th_l, H_l, False)
             due = PchipInterpolator(s, ue).derivative()(s)
         # laminar separation: the energy shape factor falls to the separation profile's
         i_sep = int(np.searchsorted(s, s_lsep)) if s_lsep is not None else n
@@ -620,7 +623,7 @@ def march(
         n_lam = min(i_tr, i_sep)
         sl = slice(0, n_lam)
         theta[sl] = th_l[sl]
-        H[sl], lvals, _ = laminar_closure(hs_l[sl])
+        H[sl], lvals = H_l[sl], l_l[sl]
         lam[sl] = th_l[sl] ** 2 / nu[sl] * due[sl]
         held = hs_l[sl] > FS_HSTAR_MAX
         with np.errstate(divide="ignore", invalid="ignore"):

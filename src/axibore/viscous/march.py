@@ -389,12 +389,12 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
 
             s_run, ue_run, r_run = s_run[keep], ue_run[keep], r_run[keep]
             nu_run, rho_run = run_values(nu), run_values(rho)
-            gas_states = dict(edge_rho=rho_run, turbulent_state=tuple(run_values(a) for a in props.turbulent)) if gas else {}
+            march_kw = dict(edge_rho=rho_run, turbulent_state=tuple(run_values(a) for a in props.turbulent)) if gas else {}
             face_in_run = sel[keep[1:]]
             if b_rest is not None:
                 x_run = np.r_[xb, x_all[sel]][keep]
                 g_run = perimeter(r_run, planar) / np.maximum(profile.flow_area(x_run), 1e-300)
-                gas_states["blockage"] = (g_run, run_values(b_rest), run_values(kcomp))
+                march_kw["blockage"] = (g_run, run_values(b_rest), run_values(kcomp))
             if how == "start" and not stagnation:
                 # the estimates are in the reference variables of the part that starts (a liquid's: its own), and go
                 # to the march at the edge state (theta = theta_ref rho_ref/rho_e; a thickness the user gave is one)
@@ -416,7 +416,7 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
             w = L.march(s_run, r_run, ue_run, nu_run, planar=planar, start=start, theta0=th0, transition=tr,
                         turbulent_separation_H=settings.separation_shape_factor,
                         rho=run_values(props.rho),
-                        bubble_re_delta_star=None if tr == "none" else L.SHORT_BUBBLE_RE_DELTA_STAR, **gas_states)
+                        bubble_re_delta_star=None if tr == "none" else L.SHORT_BUBBLE_RE_DELTA_STAR, **march_kw)
             th = w.theta[1:]
             fin = np.isfinite(th)
             if not fin.any():
