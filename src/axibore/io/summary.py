@@ -119,9 +119,10 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
 
 FREE_JET_RULE = ("free streamline on one mesh whose nodes move with the jet: the jet a streamline, phi + V (s_end - s) = 0 "
                  "at every jet face centre (speed V along it), the jet speed V unknown (or, where the walls at the lip "
-                 "have no axial projection, from the axial momentum balance), solved by Levenberg-Marquardt steps on "
-                 "the transpiration Jacobian to free_jet_tolerance of V r_lip; the elements within one cell size of the "
-                 "lip follow the free streamline's l^1/2 law and their faces are reported apart "
+                 "have no axial projection, from the axial momentum balance), solved by Newton steps on the "
+                 "residual's exact derivative (GMRES on difference quotients, preconditioned by the transpiration "
+                 "Jacobian) to free_jet_tolerance of V r_lip; the first jet element at the lip follows "
+                 "the free streamline's l^1/2 law and its face is reported apart "
                  "(free_jet_lip_speed_mismatch); the reported flow is solved on the settled jet")
 
 NOTES = (
