@@ -301,20 +301,25 @@ def lip_catalogue():
 
 
 def test_orifice_contraction_does_not_depend_on_the_reservoir():
-    # A sharp-edged circular orifice in a wall: the shipped tank case (a reservoir 15 hole radii wide) and the
-    # catalogue's (20 radii) must agree to the finite-reservoir effect, which Borda's momentum argument puts at
-    # (beta_15 - beta_20) / 8 = 2.4e-4 for a re-entrant lip (d Cc / d beta = 1/8 at beta = 0, from
-    # borda_finite_reservoir; derived). Allowed 2e-3. The discrete problem has more than one solution next to
-    # the lip: the damped steps used before settled these two at 0.6095 and 0.5921 (0.017 apart); the Newton
-    # steps from the Kirchhoff trial give 0.584134 and 0.584136 (2026-12-05).
+    # A sharp-edged circular orifice in a wall: the shipped tank case (a reservoir 15 hole radii wide), the
+    # catalogue's (20 radii) and a 4 mm hole in a reservoir 25 radii wide (a held-out case of a helper session)
+    # must agree to the finite-reservoir effect, which Borda's momentum argument puts at (beta_15 - beta_25) / 8 =
+    # 3.6e-4 for a re-entrant lip (d Cc / d beta = 1/8 at beta = 0, from borda_finite_reservoir; derived).
+    # Allowed 2e-3. The discrete problem has more than one solution next to the lip: the damped steps used
+    # before settled the first two at 0.6095 and 0.5921 (0.017 apart), and the Newton steps settled the third at
+    # 0.6079 until their first step from the trial could raise the residual (FIRST_STEP_RISE). Measured
+    # 2026-12-05: 0.584134, 0.584136 and 0.583569.
     from pathlib import Path
 
     from axibore.case import load_case
 
     tank = solve_case(load_case(Path(__file__).parents[1] / "cases" / "tank_drain_orifice.toml"))
     wide = solve_case(_case(dict(lip_catalogue())["axisymmetric-90deg-reservoir"]))
-    assert tank.jet.settled and wide.jet.settled
-    assert tank.jet.contraction_coefficient == pytest.approx(wide.jet.contraction_coefficient, abs=2e-3)
+    wider = solve_case(_case({"template": "segments", "start": ["-100 mm", "100 mm"],
+                              "segment": [{"to": ["0 mm", "100 mm"]}, {"to": ["0 mm", "4 mm"]}]}))
+    cc = [r.jet.contraction_coefficient for r in (tank, wide, wider)]
+    assert all(r.jet.settled for r in (tank, wide, wider))
+    assert max(cc) - min(cc) < 2e-3, cc
 
 
 @pytest.mark.parametrize("symmetry", ["axisymmetric", "planar"])
