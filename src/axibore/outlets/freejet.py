@@ -336,14 +336,13 @@ class FreeJetOutlet:
         st = jp.evaluate(u, None)
         if st is None:
             raise JetNotSettled("outlet.kind", "the first trial jet cannot be solved: check that the outline ends at a lip")
-        scale = st["V"] * jp.r_lip
         J, fresh = jp.jacobian(st), True
         lam = LM_START * float(np.linalg.norm(J, 2)) ** 2
         history: list[JetIteration] = []
         left = Countdown(tol, MAX_ITERATIONS)
         for it in range(1, MAX_ITERATIONS + 1):
             r = st["residual"]
-            res = float(np.max(np.abs(r))) / scale
+            res = float(np.max(np.abs(r))) / (st["V"] * jp.r_lip)  # relative to this state's jet speed, as reported
             cc = far_area(jp.profile, float(st["P"][-1, 1])) / exit_area(jp.profile)
             progress("solve", f"free jet {it}: face residual {res:.2e} of V r_lip, contraction coefficient {cc:.6f}"
                      f"{left.update(res)}")
