@@ -193,6 +193,27 @@ def test_venturi_discharge_coefficient_needs_its_throat_station(tmp_path):
     assert c["converged"] and c["iterations"] <= 3
 
 
+@pytest.mark.slow
+@pytest.mark.parametrize("beta", [0.4, 0.5, 0.75])
+def test_venturi_discharge_coefficient_against_iso_5167_4(tmp_path, beta):
+    # ISO 5167-4:2003, classical Venturi tube with a machined convergent: C = 0.995 for Re_D 2e5 to 1e6
+    # (SOURCES.md); issue 20 asks within 0.5 %. This test FAILS today, an open finding of issue 20. Measured
+    # 2026-12-05 at level 0, C at Re_D 2e5 / 1e6: beta 0.4 0.9794 / 0.9852, beta 0.5 0.9780 / 0.9842, beta 0.75
+    # 0.9708 / 0.9791 (inviscid 0.997-0.998 at the standard's tappings). Where the deficit comes from, beta 0.5
+    # and Re_D 1e6: the convergent thins the approach layer from theta 294 to 58 um (H 1.19); over the throat's
+    # first d/2 it grows to 135 um (delta* 170 um), friction giving 4/5 of that and the deceleration after the
+    # convex junction's suction peak the rest; B = 4 delta*/d = 0.0136. Even a flat-plate turbulent layer from
+    # the convergent's end (theta = 0.036 x Re_x^-0.2 with its virtual origin: 100 um, delta* 130 um at H 1.3)
+    # gives C = 0.998 - 0.0104/(1 - beta^4) = 0.987 (derived). The standard's C is measured with tapping holes
+    # of finite size, which read above the wall's static pressure by an amount that grows with the wall shear
+    # and the hole's Reynolds number (Shaw 1960, J. Fluid Mech. 7; McKeon & Smits 2002, Meas. Sci. Technol. 13);
+    # the model's taps are ideal. Not yet resolved which effect closes the rest.
+    for re in (2e5, 1e6):
+        v = solve_case(load_case(venturi_case(tmp_path / f"re{re:g}", beta, re))).summary()["viscous"]
+        _check_bounds(v)
+        assert v["discharge_coefficient"] == pytest.approx(0.995, abs=0.005), (re, v["discharge_coefficient"])
+
+
 def test_a_layer_never_thicker_than_a_quarter_of_the_channel():
     # a turbulent layer (theta0 = 1 mm) in a mild deceleration grows; in a channel of half-height 10 mm it is
     # ended where delta* reaches 2.5 mm (blockage 2 delta*/r = 0.5 of a round bore), marked separated
