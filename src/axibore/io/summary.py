@@ -117,8 +117,9 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
 ]
 
 FREE_JET_RULE = ("free streamline on one mesh whose nodes move with the jet: the jet a streamline, phi + V (s_end - s) = 0 "
-                 "at every jet face centre (speed V along it), the jet speed V unknown (or, where the walls at the lip "
-                 "have no axial projection, from the axial momentum balance), solved by Newton steps on the "
+                 "at every jet face centre (speed V along it) but the tail's, the jet speed V unknown and fixed by Bernoulli "
+                 "on the first face past the lip (or, where the walls at the lip have no axial projection, from the "
+                 "axial momentum balance), solved by Newton steps on the "
                  "residual's exact derivative (GMRES on difference quotients, preconditioned by the transpiration "
                  "Jacobian) to free_jet_tolerance of V r_lip; the first jet element at the lip follows "
                  "the free streamline's l^1/2 law and its face is reported apart "

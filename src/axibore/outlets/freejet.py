@@ -17,7 +17,11 @@ The discrete problem (one mesh, built once; its nodes move with the jet, its top
   jet, is imposed in integrated form at every jet face centre: phi + V (s_end - s) = 0, s the arc
   length (phi rises at the rate V along the jet to 0 at the outlet). Integrated, the condition is
   as smooth as the potential itself; the speed from a derivative of the fit is not.
-* The jet speed V is one more unknown fixed by the faces (the local condition), except where the
+* The jet speed V is one more unknown (the local condition), fixed by Bernoulli where the jet leaves
+  the lip: the speed on the first enforced face past the lip is V. That row stands in for the tail
+  face's integrated condition, which the outlet plane's phi = 0 next to it all but fixes: with it the
+  discrete problem had a one-parameter family of solutions, and a solve settled wherever its trial
+  lay on it (jets leaving the lip at an angle; contractions 1-2 % off from trials 3-5 % off). Except where the
   axial momentum balance gives it exactly: at a re-entrant lip whose walls within one lip radius
   have no axial projection (a re-entrant tube), that balance does not depend on the singular flow
   at the lip, so V comes from it (``momentum_condition``) and the faces fix the shape.
@@ -35,12 +39,11 @@ The discrete problem (one mesh, built once; its nodes move with the jet, its top
   Levenberg-Marquardt step on it. A difference step is solved with the state's own factorisation:
   one solve of the change instead of a factorisation of the moved mesh
   (``PotentialJet.solve(mesh, near=...)``).
-* The discrete problem has more than one solution next to a sharp lip (jets that differ there by an
-  angle deviation the mesh hardly sees). Steps that follow Newton's direction from the Kirchhoff
-  trial keep to the jet whose contraction does not depend on the reservoir's size; the damped steps
-  used before (Levenberg-Marquardt throughout, a fresh J at every step) settled axisymmetric orifices
-  in reservoirs 15 and 20 lip radii wide at 0.6095 and 0.5921, 3 % apart, and gave a reservoir a
-  larger contraction coefficient than a nozzle with the same lip (tests/test_free_jet.py).
+* Before the lip's Bernoulli row, which solution of that family a solve settled on depended on its
+  steps: the damped steps used first (Levenberg-Marquardt throughout, a fresh J at every step) settled
+  axisymmetric orifices in reservoirs 15 and 20 lip radii wide at 0.6095 and 0.5921, and Newton's steps
+  from the Kirchhoff trial at 0.5841 (tests/test_free_jet.py: the reservoir's size and the trial must not
+  matter).
 * Settled when every enforced face is within TOLERANCE of V times the lip radius. Then the
   registered solver solves the flow on the settled jet at the operating point.
 """
@@ -203,6 +206,16 @@ class _JetProblem:
         self.b0 = np.zeros(n)
         self.b0[:m] = shape.lip_direction * (1.0 - tie)
         self.rows = np.arange(m, n) if self.momentum else np.arange(m, n + 1)
+        # The local condition's last row is not the tail face's integrated condition but Bernoulli on the first
+        # enforced face past the lip: its speed is V. The tail face lies next to the outlet plane, whose phi = 0
+        # all but fixes its value: with that row the discrete problem had a one-parameter family of solutions,
+        # and a solve settled where its trial lay on it (Kirchhoff's slot, started 5 % too narrow or 3 % too
+        # wide, at 0.6021 or 0.6169 against 0.6110, with the lip turned 22-42 deg into the fluid; the tank
+        # orifice at 0.5841 with the wall speed at the lip 0.70 V). With the lip's row the slot gives 0.611332
+        # from every trial, the tank orifice 0.592019, 0.591762, 0.591634 at levels 0-2 (measured 2026-12-05)
+        self.speed_face = m
+        c = np.r_[0.0, np.cumsum(shape.ds)[:-1]] + 0.5 * shape.ds  # element face centres
+        self.speed_span = (max(m - 1, 0), m + 1, float(c[m + 1] - c[max(m - 1, 0)]))
         self.mesh0 = mesh0
 
     def unknowns(self, theta: np.ndarray) -> np.ndarray:
@@ -242,6 +255,8 @@ class _JetProblem:
         elif V is None:
             V = abs(float(field.jet_tangential[-1]))
         residual = (field.jet_value + V * remaining)[self.rows]
+        if not self.momentum:  # the last row: Bernoulli on the first enforced face past the lip (above)
+            residual[-1] = self.r_lip * (abs(float(field.jet_tangential[self.speed_face])) - V)
         return {"u": u, "theta": theta, "P": P, "mesh": mesh, "field": field, "V": V, "L": L,
                 "remaining": remaining, "residual": residual}
 
@@ -270,14 +285,22 @@ class _JetProblem:
             dV = -(dm0 + V * V * dA_out) / (2.0 * V * field.momentum2)
             J = J + rem[:, None] * dV[None, :]
 
-        Ju = (J @ self.B)[self.rows]
+        JB = J @ self.B
+        Ju = JB[self.rows]
+        if not self.momentum:  # the lip's speed row: the face values' slope across the face (a preconditioner's row)
+            a, b, span = self.speed_span
+            Ju[-1] = self.r_lip * (JB[b] - JB[a]) / span
         for j in range(min(FD_COLUMNS, Ju.shape[1])):  # near the lip: differences
             e = np.zeros_like(st["u"])
             e[j] = FD_STEP
             other = self.evaluate(st["u"] + e, None if self.momentum else V, near=st)
             if other is not None:
                 Ju[:, j] = (other["residual"] - st["residual"]) / FD_STEP
-        return Ju if self.momentum else np.column_stack([Ju, rem[self.rows]])
+        if self.momentum:
+            return Ju
+        dV = rem[self.rows].copy()
+        dV[-1] = -self.r_lip
+        return np.column_stack([Ju, dV])
 
 
 class FreeJetOutlet:
