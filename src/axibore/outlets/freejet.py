@@ -211,8 +211,9 @@ class _JetProblem:
         # all but fixes its value: with that row the discrete problem had a one-parameter family of solutions,
         # and a solve settled where its trial lay on it (Kirchhoff's slot, started 5 % too narrow or 3 % too
         # wide, at 0.6021 or 0.6169 against 0.6110, with the lip turned 22-42 deg into the fluid; the tank
-        # orifice at 0.5841 with the wall speed at the lip 0.70 V). With the lip's row the slot gives 0.611332
-        # from every trial, the tank orifice 0.592019, 0.591762, 0.591634 at levels 0-2 (measured 2026-12-05)
+        # orifice at 0.5841 with the wall speed at the lip 0.70 V). With the lip's row the slot gives 0.611409 to
+        # 0.611442 from those trials and its own (mesh size 0.1), the tank orifice 0.592019, 0.591762, 0.591634
+        # at levels 0-2 (measured 2026-12-05)
         self.speed_face = m
         c = np.r_[0.0, np.cumsum(shape.ds)[:-1]] + 0.5 * shape.ds  # element face centres
         self.speed_span = (max(m - 1, 0), m + 1, float(c[m + 1] - c[max(m - 1, 0)]))
