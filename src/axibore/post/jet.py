@@ -20,8 +20,10 @@ from ..solvers.walls import wall_table
 # 0.13 to 0.66 (measured 2026-12-05). Before the lip's Bernoulli row (outlets.freejet) solves settled on such jets
 # from most trials, their contraction off by up to a few per cent (Kirchhoff's slot from a trial 5 % too narrow:
 # 0.6021 against 0.6110). Now only the re-entrant tubes, whose jet speed the momentum balance fixes, leave the lip
-# at an angle (0.27 and 0.47); their contraction holds
-LIP_MISMATCH_LIMIT = 0.1
+# at an angle (0.27 and 0.47); their contraction holds. The limit lies between the two groups with room on both
+# sides; at 0.1 it let through held-out jets 1 % off their trial that had settled on the family's other members
+# with the lip's face 0.07 to 0.096 off (contractions 2-4e-3 off; a helper's runs before the lip's row)
+LIP_MISMATCH_LIMIT = 0.05
 
 
 @dataclass(frozen=True, eq=False)
