@@ -21,8 +21,8 @@ from ..case import case_from_dict
 from ..fluids.viscosity import viscosity
 from ..run import solve_case
 from ..solvers import onedim_gas as q1d
-from ..verification import (borda_contraction, cone_sink, isentropic_mass_flow, iso_long_radius_nozzle_c,
-                            kliegel_levine_cd, observed_order, sphere_in_stream)
+from ..verification import (borda_contraction, channel_contraction, cone_sink, isentropic_mass_flow,
+                            iso_long_radius_nozzle_c, kliegel_levine_cd, observed_order, sphere_in_stream)
 from ..viscous.layer import LAMINAR, march
 from .gci import gci
 
@@ -269,18 +269,17 @@ def _jet_case(bore: dict, size: float) -> dict:
 def slot_rows(size: float) -> list[Row]:
     """A planar slot of half width 1 mm in a wall closing a channel 20 half widths wide. Kirchhoff's
     jet from a slot in an infinite wall contracts to pi/(pi + 2) (the hodograph solution; Kirchhoff
-    1869); the finite channel raises it by a few 1e-5 (tests/test_free_jet.py). Tolerance 5e-4, the
-    test suite's, at its mesh size (0.1; the default is 0.05). Measured 2026-12-05 with the lip's Bernoulli
-    row (outlets.freejet): +7.7e-4 at size 0.2, +8.1e-4 at 0.15, +4.1e-4 at 0.1, +3.2e-4 at 0.05, the error
-    of the speed on the lip's first face; before it -2.4e-4, -8.8e-5 and -1.6e-5 at 0.2, 0.15 and 0.1 from
-    the exact trial, but 1-2 % off from trials a few per cent off (the discrete problem had a family of
-    solutions)."""
+    1869); the channel raises it by 2.96e-4 to 0.611312 (verification.channel_contraction, derived).
+    Tolerance 2e-4, the test suite's, at its mesh size (0.1; the default is 0.05). Measured 2026-12-05 with
+    the lip's Bernoulli row (outlets.freejet): +1.1e-4 at size 0.1 (+2e-5 at levels 1 and 2), +4.7e-4 at 0.2,
+    +5.1e-4 at 0.15, the error of the speed on the lip's first face."""
     bore = {"template": "segments", "symmetry": "planar", "start": ["-20 mm", "20 mm"],
             "segment": [{"to": ["0 mm", "20 mm"]}, {"to": ["0 mm", "1 mm"]}]}
     res = solve_case(case_from_dict(_jet_case(bore, size)))
-    return [_value("planar slot in a wall: contraction coefficient", math.pi / (math.pi + 2),
-                   res.jet.contraction_coefficient, 5e-4,
-                   f"Kirchhoff 1869, free-streamline jet from a slot, pi/(pi + 2); {BRITANNICA}, Hydromechanics s.41")]
+    return [_value("planar slot in a wall: contraction coefficient", channel_contraction(math.pi / 2, 1 / 20),
+                   res.jet.contraction_coefficient, 2e-4,
+                   f"Kirchhoff 1869, free-streamline jet from a slot, pi/(pi + 2); {BRITANNICA}, Hydromechanics s.41; "
+                   "the hodograph with the channel 20 slot widths wide, derived (verification.channel_contraction)")]
 
 
 def borda_rows(reservoir_radii: int, size: float) -> list[Row]:
