@@ -25,7 +25,7 @@ from .mesh import FVMesh, MeshBuild
 from .outlets import ExitPlaneComparison, JetSolution, outlet_model
 from .outlets.base import quiet
 from .post.checks import Checks, checks
-from .post.jet import JetTable, jet_table, lip_warning
+from .post.jet import JetTable, jet_table, lip_warning, momentum_attempt_warning
 from .post.joints import JointLoad, jet_reaction, joint_loads
 from .post.loads import Forces, WallTable, forces, wall_tables
 from .post.onedim import HandAnswer, OneDimComparison, compare, hand_answer
@@ -115,6 +115,8 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
         sec["viscous"] = time.perf_counter() - t
     jt = jet_table(flow, profile, solved.jet.lip_faces) if solved.jet is not None else None
     if jt is not None and (w := lip_warning(jt, solved.jet.condition)):
+        chk.warnings.append(w)
+    if w := momentum_attempt_warning(solved.jet):
         chk.warnings.append(w)
     return RunResult(case, profile, build.mesh, build, flow, tables, frc, od, chk, sec,
                      joint_loads(case, profile, flow, tables), jet_reaction(case, flow), viscous, solved.jet,

@@ -13,6 +13,7 @@ from dataclasses import asdict
 from typing import Any, Callable
 
 from ..version import __version__
+from ..post.jet import LIP_MISMATCH_LIMIT
 from ..post.joints import CAUTION as JOINT_CAUTION
 from ..safety import CAUTIONS
 from ..viscous.stage import CAUTION as VISCOUS_CAUTION, summary_section
@@ -40,6 +41,8 @@ KEYS: list[tuple[str, str, Callable[[Any], Any]]] = [
     ("solver", "free_jet_residual", lambda r: r.jet.residual if r.jet else None),
     ("solver", "free_jet_tolerance", lambda r: r.jet.tolerance if r.jet else None),
     ("solver", "free_jet_condition", lambda r: r.jet.condition if r.jet else None),
+    ("solver", "free_jet_momentum_attempt", lambda r: None if r.jet is None or r.jet.momentum_attempt is None else
+     dict(zip(("steps", "residual", "contraction_coefficient"), r.jet.momentum_attempt))),
     ("solver", "free_jet_seconds", lambda r: r.jet.seconds if r.jet else None),
     ("solver", "free_jet_rule", lambda r: FREE_JET_RULE if r.jet else None),
     # mesh
@@ -123,8 +126,9 @@ FREE_JET_RULE = ("free streamline on one mesh whose nodes move with the jet: the
                  "residual's exact derivative (GMRES on difference quotients, preconditioned by the transpiration "
                  "Jacobian) to free_jet_tolerance of V r_lip; the first jet element at the lip follows "
                  "the free streamline's l^1/2 law and its face is reported apart "
-                 "(free_jet_lip_speed_mismatch; above 0.1 the run warns that the jet leaves the lip at an angle); the "
-                 "reported flow is solved on the settled jet")
+                 f"(free_jet_lip_speed_mismatch; above {LIP_MISMATCH_LIMIT:g} the run warns that the jet leaves the lip at "
+                 "an angle); where the momentum balance's steps do not settle, V from the lip instead (the run warns with "
+                 "both contraction coefficients); the reported flow is solved on the settled jet")
 
 NOTES = (
     "forces are exerted by the fluid on the part, +x downstream, from gauge pressure",

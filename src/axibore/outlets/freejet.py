@@ -24,7 +24,10 @@ The discrete problem (one mesh, built once; its nodes move with the jet, its top
   lay on it (jets leaving the lip at an angle; contractions 1-2 % off from trials 3-5 % off). Except where the
   axial momentum balance gives it exactly: at a re-entrant lip whose walls within one lip radius
   have no axial projection (a re-entrant tube), that balance does not depend on the singular flow
-  at the lip, so V comes from it (``momentum_condition``) and the faces fix the shape.
+  at the lip, so V comes from it (``momentum_condition``) and the faces fix the shape. The discrete free
+  streamline has its own V, a few 1e-4 off the balance's; the jet absorbs the difference at the lip (it leaves
+  at an angle), and where it cannot the steps stall: then (STALL_STEPS) the same mesh is solved again with V
+  from the faces, and the run warns with both contraction coefficients (``JetSolution.momentum_attempt``).
   A re-entrant lip leaves the width set by the lip's singular flow alone (badly conditioned); an
   orifice plate makes the balance depend on the pressure next to the lip (inaccurate): each
   condition is used where the other is not reliable.
@@ -94,6 +97,11 @@ KRYLOV_MAX = 20  # GMRES: most directions (one flow solve each) per step
 # step went to Cc 0.5836 with the norm 1.15 times higher, the halved steps did too, and a Levenberg-Marquardt
 # step then settled the other jet, 0.6079, where a reservoir 12 radii wide gave 0.5842)
 FIRST_STEP_RISE = 2.0
+# With V from the momentum balance (where the faces' V can stand in), the steps give up when the residual has not
+# fallen by 1 % over the last STALL_STEPS steps: a held-out tube stalled at 3.86e-5 for 8 steps before no step
+# lowered it at all; the slowest settling tube fell 16-22 % a step (3.1e-4, 2.3e-4, 1.8e-4; 1.9e-5, 1.6e-5)
+STALL_STEPS, STALL_FACTOR = 3, 0.99
+SETTLED = "settled"  # the outcome of an attempt that settled (``FreeJetOutlet._iterate``)
 
 
 class JetNotSettled(FlowError):
@@ -125,6 +133,9 @@ class JetSolution:
     cells: int
     seconds: float
     lip_faces: int = 1  # the faces of the elements tied to the l^1/2 law at the lip (not enforced one by one)
+    # where V from the momentum balance did not settle and V from the faces did: (steps, face residual, contraction
+    # coefficient) of that first attempt's last state
+    momentum_attempt: tuple[int, float, float] | None = None
 
     @property
     def contraction_coefficient(self) -> float:
@@ -331,24 +342,27 @@ class FreeJetOutlet:
         jp = _JetProblem(case, profile, shape, theta, service_cls, h)
         progress("mesh", f"{jp.mesh0.n_cells:,} cells, {jp.build.method}, {jp.build.seconds:.2f} s; the jet moves the nodes")
         tol = TOLERANCE
-        st, history, settled = self._iterate(jp, jp.unknowns(theta), tol, progress)
-        last = len(history)  # steps of the last attempt
-        if not settled and jp.momentum:
+        st, history, outcome = self._iterate(jp, jp.unknowns(theta), tol, progress, stall=jp.momentum)
+        attempts = [_attempt(jp, st, history, outcome)]
+        momentum_attempt = None
+        if outcome != SETTLED and jp.momentum:
             # V from the momentum balance is exact, but the discrete free streamline has its own V, a few 1e-4 off
             # it; the jet absorbs the difference at the lip (it leaves at an angle), and where it cannot, the steps
-            # stall (a helper's held-out tube 10 lip radii into a reservoir 10 wide, level 0: 3.7e-5 after 15
-            # steps, where V from the faces settles in 5 at 7.4e-4 above Borda's value, 1.3e-5 below at level 1)
-            progress("solve", f"free jet: with V from the momentum balance the steps stalled (face residual "
-                     f"{_relative_residual(jp, st):.2e} of V r_lip after {len(history)} steps); V from the faces instead")
+            # stall (a helper's held-out tube 12 lip radii into a reservoir 10 wide, level 0: face residual 3.86e-5
+            # from step 7 on, then no step lowered it, Cc 0.501256 against Borda's 0.5012563; V from the faces
+            # settles in 6 more steps at 0.5016275, +3.7e-4, and at level 1 6.5e-6 below Borda's value)
+            progress("solve", f"free jet: with V from the momentum balance the steps did not settle ({attempts[0]}); "
+                     "solving again with V from the faces")
+            momentum_attempt = (len(history), _relative_residual(jp, st), _contraction(jp, st))
             jp = jp.with_local_condition()
-            st, more, settled = self._iterate(jp, jp.unknowns(theta), tol, progress)
-            history, last = history + [replace(h, iteration=len(history) + h.iteration) for h in more], len(more)
+            st, more, outcome = self._iterate(jp, jp.unknowns(theta), tol, progress,
+                                              offset=(len(history), history[-1].seconds))
+            attempts.append(_attempt(jp, st, more, outcome))
+            history = history + more
         residual = _relative_residual(jp, st)
-        cc = far_area(profile, float(st["P"][-1, 1])) / exit_area(profile)
+        settled = outcome == SETTLED
         if not settled:
-            why = f"the limit of {MAX_ITERATIONS}" if last >= MAX_ITERATIONS else "no step lowered the residual"
-            raise JetNotSettled("outlet.kind", f"the free-jet boundary did not settle in {len(history)} step{'s' * (len(history) != 1)} ({why}; "
-                                f"largest face residual {residual:.2e} of V r_lip, contraction coefficient {cc:.4f}): "
+            raise JetNotSettled("outlet.kind", f"the free-jet boundary did not settle ({'; then '.join(attempts)}): "
                                 "refine the mesh near the lip (mesh.level) or check that the outline ends at a sharp lip")
         jet_profile = with_jet(profile, st["P"])
         mesh = st["mesh"]
@@ -359,7 +373,7 @@ class FreeJetOutlet:
             write_msh(mesh, msh_path)
         sol = JetSolution(st["P"], tuple(history), settled, shape.lip, exit_area(profile),
                           far_area(profile, float(st["P"][-1, 1])), "momentum" if jp.momentum else "local",
-                          residual, tol, mesh.n_cells, time.perf_counter() - t_start, shape.tied)
+                          residual, tol, mesh.n_cells, time.perf_counter() - t_start, shape.tied, momentum_attempt)
         build = replace(jp.build, mesh=mesh, method=jp.build.method + ", nodes moved with the jet")
         comparison = None
         if case.outlet.compare_exit_plane:
@@ -371,11 +385,14 @@ class FreeJetOutlet:
                           time.perf_counter() - t_start - jp.build.seconds, comparison)
 
     @staticmethod
-    def _iterate(jp: _JetProblem, u: np.ndarray, tol: float, progress: Progress):
+    def _iterate(jp: _JetProblem, u: np.ndarray, tol: float, progress: Progress, stall: bool = False,
+                 offset: tuple[int, float] = (0, 0.0)):
         """Newton-Krylov steps on the face residuals, preconditioned by the transpiration Jacobian J (made
         once) and J updated after each step by the derivatives the step measured; where a Newton step
-        does not lower the residual, a fresh J and then Levenberg-Marquardt on it (see ``_newton_step``)."""
-        t0 = time.perf_counter()
+        does not lower the residual, a fresh J and then Levenberg-Marquardt on it (see ``_newton_step``).
+        ``stall``: give up when the residual stalls (STALL_STEPS); ``offset``: steps and seconds of an attempt
+        before this one, which the numbering and the times continue."""
+        t0 = time.perf_counter() - offset[1]
         st = jp.evaluate(u, None)
         if st is None:
             raise JetNotSettled("outlet.kind", "the first trial jet cannot be solved: check that the outline ends at a lip")
@@ -383,7 +400,7 @@ class FreeJetOutlet:
         lam = LM_START * float(np.linalg.norm(J, 2)) ** 2
         history: list[JetIteration] = []
         left = Countdown(tol, MAX_ITERATIONS)
-        for it in range(1, MAX_ITERATIONS + 1):
+        for it in range(offset[0] + 1, offset[0] + MAX_ITERATIONS + 1):
             r = st["residual"]
             res = float(np.max(np.abs(r))) / (st["V"] * jp.r_lip)  # relative to this state's jet speed, as reported
             cc = far_area(jp.profile, float(st["P"][-1, 1])) / exit_area(jp.profile)
@@ -391,7 +408,10 @@ class FreeJetOutlet:
                      f"{left.update(res)}")
             if res < tol:
                 history.append(JetIteration(it, res, cc, 0.0, time.perf_counter() - t0))
-                return st, history, True
+                return st, history, SETTLED
+            if stall and len(history) >= STALL_STEPS and res > STALL_FACTOR * history[-STALL_STEPS].residual:
+                history.append(JetIteration(it, res, cc, 0.0, time.perf_counter() - t0))
+                return st, history, "stalled"
             new, step, J_new = _newton_step(jp, st, J, FIRST_STEP_RISE * float(np.linalg.norm(r)) if it == 1 else None)
             if new is None and not fresh:  # the updated Jacobian has drifted: a fresh one
                 J, fresh = jp.jacobian(st), True
@@ -402,12 +422,23 @@ class FreeJetOutlet:
                 J_new, damping = J, lam
             history.append(JetIteration(it, res, cc, damping, time.perf_counter() - t0))
             if new is None:
-                return st, history, False
+                return st, history, "no step lowered the residual"
             # Broyden's secant of the step taken, on top of the derivatives measured at its start
             dr = new["residual"] - r
             J, fresh = J_new + np.outer(dr - J_new @ step, step) / float(step @ step), False
             st = new
-        return st, history, False
+        return st, history, f"the step limit ({MAX_ITERATIONS})"
+
+
+def _contraction(jp: _JetProblem, st: dict) -> float:
+    return far_area(jp.profile, float(st["P"][-1, 1])) / exit_area(jp.profile)
+
+
+def _attempt(jp: _JetProblem, st: dict, history: list, outcome: str) -> str:
+    """One attempt in words: its condition, steps and how it ended (``outcome``, from ``_iterate``)."""
+    v = "V from the momentum balance" if jp.momentum else "V from the faces"
+    return (f"{v}: {len(history)} step{'s' * (len(history) != 1)}, {outcome}, face residual {_relative_residual(jp, st):.2e} "
+            f"of V r_lip, contraction coefficient {_contraction(jp, st):.6f}")
 
 
 def _relative_residual(jp: _JetProblem, st: dict) -> float:

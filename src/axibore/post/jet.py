@@ -16,7 +16,7 @@ from ..solvers.walls import wall_table
 
 # A free streamline leaves a sharp lip tangentially and at the jet speed. On the lip's face the settled jets that
 # do have a speed mismatch of 0 to 0.03 (the 20-lip catalogue of tests/test_free_jet.py at level 0, every lip whose
-# jet speed the faces fix); jets whose first elements turn back into the fluid or away from it by 2 to 43 deg have
+# jet speed the faces fix; re-entrant tubes solved with V from the faces, 0.02 to 0.04); jets whose first elements turn back into the fluid or away from it by 2 to 43 deg have
 # 0.13 to 0.66 (measured 2026-12-05). Before the lip's Bernoulli row (outlets.freejet) solves settled on such jets
 # from most trials, their contraction off by up to a few per cent (Kirchhoff's slot from a trial 5 % too narrow:
 # 0.6021 against 0.6110). Now only the re-entrant tubes, whose jet speed the momentum balance fixes, leave the lip
@@ -78,3 +78,17 @@ def lip_warning(table: JetTable, condition: str) -> str | None:
     return (f"free jet: on the face next to the lip the speed on the jet is {m:.0%} off the jet speed "
             f"(solver.free_jet_lip_speed_mismatch; a free streamline leaves a sharp lip tangentially at the jet "
             f"speed): the settled jet leaves the lip at an angle, another solution of the discrete problem; {what}")
+
+
+def momentum_attempt_warning(jet) -> str | None:
+    """The run's warning where V from the momentum balance did not settle and the jet was solved with V from the
+    faces (``JetSolution.momentum_attempt``), or None: both contraction coefficients, their difference an
+    uncertainty of the one reported."""
+    if jet is None or jet.momentum_attempt is None:
+        return None
+    steps, residual, cc = jet.momentum_attempt
+    return (f"free jet: with the jet speed from the axial momentum balance (exact for a re-entrant lip) the steps did "
+            f"not settle ({steps} steps, face residual {residual:.1e} of V r_lip, contraction coefficient {cc:.6f}); "
+            f"the results are from the jet speed fixed where the jet leaves the lip (solver.free_jet_condition = "
+            f"\"local\"), contraction coefficient {jet.contraction_coefficient:.6f}. Take their difference, "
+            f"{abs(jet.contraction_coefficient - cc):.1e}, as an uncertainty of the contraction coefficient and the flow")
