@@ -349,10 +349,10 @@ class FreeJetOutlet:
             # V from the momentum balance is exact, but the discrete free streamline has its own V, a few 1e-4 off
             # it; the jet absorbs the difference at the lip (it leaves at an angle), and where it cannot, the steps
             # stall (a helper's held-out tube 12 lip radii into a reservoir 10 wide, level 0: face residual 3.86e-5
-            # from step 7 on, then no step lowered it, Cc 0.501256 against Borda's 0.5012563; V from the faces
-            # settles in 6 more steps at 0.5016275, +3.7e-4, and at level 1 6.5e-6 below Borda's value)
-            progress("solve", f"free jet: with V from the momentum balance the steps did not settle ({attempts[0]}); "
-                     "solving again with V from the faces")
+            # from step 7 on, then no step lowered it, Cc 0.501256 against Borda's 0.5012563; now the momentum steps
+            # give up after 11 (STALL_STEPS) and V from the faces settles in 6 more at 0.5016275, +3.7e-4, and at
+            # level 1 6.5e-6 below Borda's value)
+            progress("solve", f"free jet: the steps did not settle ({attempts[0]}); solving again with V from the faces")
             momentum_attempt = (len(history), _relative_residual(jp, st), _contraction(jp, st))
             jp = jp.with_local_condition()
             st, more, outcome = self._iterate(jp, jp.unknowns(theta), tol, progress,
