@@ -279,7 +279,7 @@ def slot_rows(size: float) -> list[Row]:
     return [_value("planar slot in a wall: contraction coefficient", channel_contraction(math.pi / 2, 1 / 20),
                    res.jet.contraction_coefficient, 2e-4,
                    f"Kirchhoff 1869, free-streamline jet from a slot, pi/(pi + 2); {BRITANNICA}, Hydromechanics s.41; "
-                   "the hodograph with the channel 20 slot widths wide, derived (verification.channel_contraction)")]
+                   "the hodograph with the channel 20 slot half widths wide, derived (verification.channel_contraction)")]
 
 
 def borda_rows(reservoir_radii: int, size: float) -> list[Row]:
