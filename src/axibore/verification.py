@@ -187,27 +187,34 @@ def channel_contraction(a: float, opening_ratio: float) -> float:
     stream to s = -T, T = (tau_U + 1/tau_U)/2, so w = (Q/pi) [log(s + T) - log(s + 1)] + const. On the free
     streamline s = -cos u and dz = (Q / (pi V)) exp(-i a u / pi) [1/(s + T) - 1/(s + 1)] ds: the lip stands
     above the far jet by (Q / (pi V)) (I - J), I = integral_0^pi sin(a u / pi) cot(u / 2) du, J = integral_0^pi
-    sin(a u / pi) sin u / (T - cos u) du, so Cc = pi / (pi + I - J), solved with U by fixed-point steps.
+    sin(a u / pi) sin u / (T - cos u) du, so Cc = pi / (pi + I - J), solved together with U (Brent's method).
     Checks: at a = pi, J = pi (T - sqrt(T^2 - 1)) = pi U / V, so Cc = 1 / (2 - beta Cc), Borda's momentum
     result (borda_contraction, planar beta = b / B); at b / B = 1/20 a slot gives 0.6113116, 2.96e-4 above
     Kirchhoff's pi / (pi + 2) (for small U the term is (8/3) (U/V)^2 Cc^2 / pi); walls at 45 deg 5e-7 above."""
     from scipy.integrate import quad
+    from scipy.optimize import brentq
+
+    if not (0.0 < a <= math.pi and 0.0 <= opening_ratio < 1.0):
+        raise ValueError(f"channel_contraction: wall angle {a!r} rad (0 < a <= pi) and opening ratio {opening_ratio!r} "
+                         "(0 <= b/B < 1)")
 
     def integral(f):
         return quad(f, 0.0, math.pi, limit=200, epsabs=1e-13, epsrel=1e-13)[0]
 
     I = integral(lambda u: math.sin(a * u / math.pi) / math.tan(0.5 * u) if u > 0 else 2.0 * a / math.pi)
-    cc = math.pi / (math.pi + I)
-    for _ in range(100):
+    kirchhoff = math.pi / (math.pi + I)
+
+    def contraction(cc: float) -> float:  # Cc from the stream that cc implies
         tau = (cc * opening_ratio) ** (math.pi / a)
         if tau < 1e-150:  # the stream is still: Kirchhoff's vessel
-            return cc
+            return kirchhoff
         T = 0.5 * (tau + 1.0 / tau)
-        new = math.pi / (math.pi + I - integral(lambda u: math.sin(a * u / math.pi) * math.sin(u) / (T - math.cos(u))))
-        if abs(new - cc) < 1e-14:
-            return new
-        cc = new
-    return cc
+        return math.pi / (math.pi + I - integral(lambda u: math.sin(a * u / math.pi) * math.sin(u) / (T - math.cos(u))))
+
+    if contraction(kirchhoff) - kirchhoff < 1e-15:
+        return kirchhoff
+    # the stream raises Cc, and Cc < 1: a root of contraction(cc) - cc between Kirchhoff's value and 1
+    return brentq(lambda cc: contraction(cc) - cc, kirchhoff, 1.0, xtol=1e-15, rtol=1e-15)
 
 
 def iso_long_radius_nozzle_c(beta: float, re_D: float) -> float:
