@@ -94,8 +94,9 @@ def solve_case(case: Case, progress: Progress | None = None, msh_path: str | Pat
     sec = {"mesh": solved.mesh_seconds, "solve": solved.solve_seconds,
            "assembly": flow.record.seconds_assembly, "linear_solve": flow.record.seconds_solve}
     rec = flow.record
+    steps = " with the free jet's steps" if solved.jet is not None else ""
     progress("solve", f"{rec.solver}: {rec.method}, {rec.iterations} iterations, residual {rec.residual:.2e}, "
-             f"{sec['solve']:.2f} s")
+             f"{sec['solve']:.2f} s{steps}")
     t = time.perf_counter()
     tables = wall_tables(flow, profile)
     frc = forces(flow, tables)
