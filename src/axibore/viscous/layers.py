@@ -170,6 +170,16 @@ def _station_pressures(flow, tables, taps):
     return [(float(np.interp(x, t.x, t.pressure)), float(np.interp(x, t.x, t.speed))) for x in taps]
 
 
+def _apart(a: float, b: float) -> tuple[str, str]:
+    """``a`` and ``b`` with 6 significant digits, or as many more (up to 12) as tell them apart (a Borda tube's note
+    read "gives 1, above the inviscid 1")."""
+    for digits in range(6, 13):
+        sa, sb = f"{a:.{digits}g}", f"{b:.{digits}g}"
+        if sa != sb:
+            break
+    return sa, sb
+
+
 def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False) -> tuple[float | None, str]:
     """C = Q / (E A_m sqrt(2 dp / rho)) between two stations (see the module text); with ``chains``
     the pressures carry the first-order displacement of the layer (core speed / (1 - B))."""
@@ -287,8 +297,9 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
             # only possible when the upstream station lies in a layer already grown there (an approach layer
             # or taps downstream of the inlet plane): its displacement speeds up the core more than the losses
             # downstream lower it, the approach-velocity-profile effect, not a loss of the wall layer
-            cd, cd_note = None, (f"none: with the layer the quasi-1D estimate gives {cd:.6g}, above the inviscid "
-                                 f"{cd_inv:.6g}: the upstream station lies in a layer already grown there, whose "
+            shown, shown_inv = _apart(cd, cd_inv)
+            cd, cd_note = None, (f"none: with the layer the quasi-1D estimate gives {shown}, above the inviscid "
+                                 f"{shown_inv}: the upstream station lies in a layer already grown there, whose "
                                  "displacement lowers the pressure read there more than the layers' losses lower it "
                                  "downstream (the approach-velocity-profile effect); a wall layer cannot raise the flow, "
                                  "so no value is given; move the upstream tap (viscous.taps) to the inlet plane or "
