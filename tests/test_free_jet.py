@@ -196,6 +196,22 @@ def test_planar_lips_from_channels_against_the_hodograph(name):
     assert res.jet.contraction_coefficient == pytest.approx(hodograph_contraction(math.radians(degrees), ratio), abs=2.5e-4)
 
 
+@pytest.mark.parametrize("degrees", [90.0, 120.0])
+def test_planar_orifice_in_a_duct_against_the_hodograph(degrees):
+    # A slot (90 deg) and a funnel (120 deg) closing a duct only twice the lip's width (b/B = 1/2), the duct 8 half
+    # widths long: the duct's stream raises the contraction far above the infinite vessel's (0.644353 against
+    # 0.611015, 0.611248 against 0.556902; hodograph_contraction with the channel). Level 1. Measured 2026-12-05 at
+    # levels 0-3: 90 deg +3.9e-4, +1.4e-4, +1.2e-4, +4.8e-5; 120 deg +3.0e-4, +1.5e-4, +8.5e-5, +4.9e-5
+    if degrees == 90.0:
+        segment = [{"to": ["0 mm", "2 mm"]}, {"to": ["0 mm", "1 mm"]}]
+    else:
+        segment = [{"to": [f"{1.0 / math.tan(math.radians(180.0 - degrees))!r} mm", "2 mm"]}, {"to": ["0 mm", "1 mm"]}]
+    bore = {"template": "segments", "symmetry": "planar", "start": ["-16 mm", "2 mm"], "segment": segment}
+    res = solve_case(_case(bore, level=1))
+    assert res.jet.settled and len(res.jet.history) <= 12
+    assert res.jet.contraction_coefficient == pytest.approx(hodograph_contraction(math.radians(degrees), 0.5), abs=2.5e-4)
+
+
 def test_reentrant_tube_in_a_pipe_momentum():
     # a Borda tube of radius 1 mm inside a pipe of radius 4 mm: the momentum argument of
     # borda_finite_reservoir with beta = (1/4)^2 gives 0.508067. Measured at level 0: 0.5080666.
