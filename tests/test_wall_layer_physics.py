@@ -618,3 +618,12 @@ def test_an_unsettled_coupling_gives_no_discharge_or_loss_coefficient(tmp_path, 
     assert v["discharge_coefficient"] is None and "did not settle" in v["discharge_coefficient_note"]
     assert v["loss_coefficient"] is None and "did not settle" in v["loss_coefficient_note"]
     assert v["discharge_coefficient_inviscid"] is not None  # the inviscid number stands
+
+
+def test_a_withheld_discharge_coefficient_note_tells_the_two_values_apart():
+    # the note of a C withheld as above the inviscid one read "gives 1, above the inviscid 1" (a Borda tube, 6
+    # significant digits): the digits grow until the two differ
+    from axibore.viscous.layers import _apart
+
+    assert _apart(1.0000001234, 1.0000000018) == ("1.0000001", "1")
+    assert _apart(0.98, 0.99) == ("0.98", "0.99")

@@ -402,8 +402,7 @@ class FreeJetOutlet:
         left = Countdown(tol, MAX_ITERATIONS)
         for it in range(offset[0] + 1, offset[0] + MAX_ITERATIONS + 1):
             r = st["residual"]
-            res = float(np.max(np.abs(r))) / (st["V"] * jp.r_lip)  # relative to this state's jet speed, as reported
-            cc = far_area(jp.profile, float(st["P"][-1, 1])) / exit_area(jp.profile)
+            res, cc = _relative_residual(jp, st), _contraction(jp, st)  # relative to this state's jet speed, as reported
             progress("solve", f"free jet {it}: face residual {res:.2e} of V r_lip, contraction coefficient {cc:.6f}"
                      f"{left.update(res)}")
             if res < tol:
@@ -431,6 +430,7 @@ class FreeJetOutlet:
 
 
 def _contraction(jp: _JetProblem, st: dict) -> float:
+    """The state's contraction coefficient: its far-jet area over the flow area at the lip plane."""
     return far_area(jp.profile, float(st["P"][-1, 1])) / exit_area(jp.profile)
 
 

@@ -17,8 +17,8 @@ from ..solvers.walls import wall_table
 # A free streamline leaves a sharp lip tangentially and at the jet speed. On the lip's face the settled jets that
 # do have a speed mismatch of 0 to 0.03 (the 20-lip catalogue of tests/test_free_jet.py at level 0, every lip whose
 # jet speed the faces fix; re-entrant tubes solved with V from the faces, 0.02 to 0.04); jets whose first elements
-# turn back into the fluid or away from it by 2 to 43 deg have 0.13 to 0.66 (measured 2026-12-05). Before the lip's Bernoulli row (outlets.freejet) solves settled on such jets
-# from most trials, their contraction off by up to a few per cent (Kirchhoff's slot from a trial 5 % too narrow:
+# turn back into the fluid or away from it by 2 to 43 deg have 0.13 to 0.66 (measured 2026-12-05). Before the
+# lip's Bernoulli row (outlets.freejet) solves settled on such jets from most trials, their contraction off by up to a few per cent (Kirchhoff's slot from a trial 5 % too narrow:
 # 0.6021 against 0.6110). Now only the re-entrant tubes, whose jet speed the momentum balance fixes, leave the lip
 # at an angle (0.27 and 0.47); their contraction holds. The limit lies between the two groups with room on both
 # sides; at 0.1 it let through held-out jets 1 % off their trial that had settled on the family's other members

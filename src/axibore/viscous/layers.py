@@ -10,6 +10,7 @@ import time
 import numpy as np
 
 from ..names import Boundary
+from ..units import plain
 from . import layer as L
 from .march import MIN_LAYER_RE, LayerProperties, _face_index, _reference_state, _viscosity, march_chain, perimeter
 from .results import CAUTION, G_STANDARD, THICK_LAYER, ChainLayer, Coupling, LayerWithheld, ViscousResult, ViscousSettings
@@ -174,7 +175,7 @@ def _apart(a: float, b: float) -> tuple[str, str]:
     """``a`` and ``b`` with 6 significant digits, or as many more (up to 12) as tell them apart (a Borda tube's note
     read "gives 1, above the inviscid 1")."""
     for digits in range(6, 13):
-        sa, sb = f"{a:.{digits}g}", f"{b:.{digits}g}"
+        sa, sb = plain(a, digits), plain(b, digits)
         if sa != sb:
             break
     return sa, sb
