@@ -163,6 +163,30 @@ def blockage(chains: dict[str, ChainLayer], profile, x: float, planar: bool) -> 
     return total / A
 
 
+def jet_blockage(chains: dict[str, ChainLayer], profile, x: float, speed: float) -> tuple[float, str | None]:
+    """B at a station x in a free jet from the layers that end upstream of it (at the lip, at a centre body's
+    tip): (B, None), or (NaN, why not) where a layer ends separated. Their deficit fluid passes on into the jet. In
+    the jet the pressure is the ambient one, on its boundary and across it, so every streamline keeps the speed it
+    had where the layer left the wall (Bernoulli; mixing aside), and the layer's flow deficit rho ue P delta* at its
+    last face is carried unchanged: a displaced area P delta* ue / V at the jet speed V (derived). Before, the
+    station saw no layer at all, and a free jet's viscous discharge coefficient equalled the inviscid one."""
+    A = float(profile.flow_area(np.atleast_1d(x))[0])
+    total = 0.0
+    for c in chains.values():
+        if c.x.size < 2 or float(np.max(c.x)) >= x:
+            continue
+        d = float(c.displacement[-1])
+        if c.state[-1] == L.SEPARATED or not np.isfinite(d):
+            where = c.separations[-1][0] if c.separations else float(c.x[-1])
+            name = "centre body" if c.name == Boundary.CENTERBODY else c.name
+            return float("nan"), (f"none: the layer on the {name} is separated from x = {where * 1e3:.4g} mm to its end at "
+                                  f"x = {float(c.x[-1]) * 1e3:.4g} mm, where it passes into the free jet before the downstream "
+                                  f"station (x = {x * 1e3:.4g} mm): the deficit it carries into the jet, and so the flow, "
+                                  "is not known to a boundary-layer estimate")
+        total += float(c.perimeter[-1]) * d * float(c.ue[-1]) / speed
+    return total / A, None
+
+
 def _station_pressures(flow, tables, taps):
     """Inviscid (p, core speed) at the two stations: wall taps, or the inlet and outlet plane means."""
     if taps is None:
@@ -208,6 +232,11 @@ def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False
             B = blockage(chains, profile, x, planar)
             if not np.isfinite(B):
                 return None, f"none: the layer is separated at x = {x * 1e3:.4g} mm (a station of the discharge coefficient)"
+            if k == 1 and profile.jet:
+                B_jet, why = jet_blockage(chains, profile, x, u)
+                if why:
+                    return None, why
+                B += B_jet
             if not B < MAX_BLOCKAGE:
                 return None, (f"none: the layer fills {B:.0%} of the flow area at x = {x * 1e3:.4g} mm (a station of the "
                               f"discharge coefficient), beyond the {MAX_BLOCKAGE:.0%} a thin-layer estimate can carry")
@@ -294,6 +323,9 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
         if cd is not None:
             cd_note += ("; the layer's displacement raises the core speed at each station by 1/(1 - B), B = sum P delta* / A "
                         "(delta* of the current layer and of the deficit fluid carried past restarts)")
+            if profile.jet:
+                cd_note += ("; at the downstream station in the free jet, B is the deficit the layers carry into the jet "
+                            "from the ends of the walls, P delta* ue / V (each streamline keeps its speed there)")
         if cd is not None and cd_inv is not None and cd > cd_inv:
             # only possible when the upstream station lies in a layer already grown there (an approach layer
             # or taps downstream of the inlet plane): its displacement speeds up the core more than the losses

@@ -468,7 +468,12 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
             txm = 0.5 * (tx_run[att][1:] + tx_run[att][:-1])
             mom_fx += float(np.sum(txm * (np.diff(M) + 0.5 * (D[1:] + D[:-1]) * du)))
         P0 = float(perimeter(r_run[0], planar))
-        if how == "start" and th0:
+        if how == "start" and th0 and (settings.start_momentum_thickness is not None or settings.upstream_length):
+            # an approach layer given (viscous.upstream_length, start_momentum_thickness) enters with its deficit; the
+            # default's turbulent virtual origin (_start_theta) is a device of the march, not a layer at the inlet
+            # plane, where the inviscid solution has a uniform stream: it entered the discharge coefficient's upstream
+            # station as a displacement B ~ 1e-4 and put C 1e-7 to 2e-6 above the inviscid one (the tank orifice and
+            # spear demos), so that no value was given, for an approach layer that was not there
             H0 = w.H[0] if np.isfinite(w.H[0]) else L.TURBULENT_START_H
             start_def = 0.5 * rho_run[0] * P0 * ue_run[0] ** 3 * float(_energy_thickness(th0, H0, w.state[0]))
             start_disp = P0 * th0 * H0
