@@ -366,13 +366,16 @@ def test_a_reentrant_tube_whose_momentum_steps_stall_settles():
     # upstream), level 0: with V from the momentum balance the steps stalled at a face residual of 3.7e-5 after 15
     # steps and the run stopped (JetNotSettled); its neighbours with the tube reaching 10 or 14 radii or the inlet
     # 20 radii upstream did too, those with reservoirs 9, 11 and 12 radii wide settled. Now the run goes on with V
-    # from the faces: 0.5016275 (measured 2026-12-05, 17 steps in all: the momentum steps give up after
-    # 11), 3.7e-4 above Borda's value for that reservoir (borda_finite_reservoir, beta = 0.01), 6.5e-6 below it at level 1
+    # from the faces: 0.5016275 (measured 2026-12-05), 3.7e-4 above Borda's value for that reservoir
+    # (borda_finite_reservoir, beta = 0.01), 6.5e-6 below it at level 1. 13 steps in all: the momentum steps give up
+    # after 8, and V from the faces starts from their last state (before: 17, giving up after 11 and starting again
+    # from the trial; the issue asks for 12)
     bore = {"template": "segments", "symmetry": "axisymmetric", "start": ["-50 mm", "20 mm"],
             "segment": [{"to": ["20 mm", "20 mm"]}, {"to": ["20 mm", "2 mm"]}, {"to": ["-4 mm", "2 mm"]}]}
     res = solve_case(_case(bore))
     assert res.jet.settled and res.jet.condition == "local"
     assert res.jet.contraction_coefficient == pytest.approx(borda_finite_reservoir(0.01), rel=1e-3)
+    assert res.jet.momentum_attempt[0] <= 8 and len(res.jet.history) <= 13
 
 
 def test_a_momentum_jet_that_stalls_is_solved_with_v_from_the_faces(monkeypatch):
@@ -383,11 +386,11 @@ def test_a_momentum_jet_that_stalls_is_solved_with_v_from_the_faces(monkeypatch)
 
     real = fj.FreeJetOutlet._iterate
 
-    def stalls(jp, u, tol, progress, stall=False, offset=(0, 0.0)):
+    def stalls(jp, u, tol, progress, stall=False, offset=(0, 0.0), V=None):
         if jp.momentum:
             st = jp.evaluate(u, None)
             return st, [fj.JetIteration(k, 1e-3, 0.5, 0.0, 0.5 * k) for k in (1, 2)], "stalled"
-        return real(jp, u, tol, progress, stall, offset)
+        return real(jp, u, tol, progress, stall, offset, V)
 
     monkeypatch.setattr(fj.FreeJetOutlet, "_iterate", staticmethod(stalls))
     said = []
