@@ -9,6 +9,7 @@ import time
 
 import numpy as np
 
+from ..geometry.jet import exit_area
 from ..names import Boundary
 from ..units import plain
 from . import layer as L
@@ -214,7 +215,13 @@ def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False
     A_m, A_1 = float(A.min()), float(A[0])
     where = (f"wall taps at x = {x1 * 1e3:.4g} mm and {x2 * 1e3:.4g} mm" if taps is not None
              else "mean pressures of the inlet and outlet planes")
-    if float(A[-1]) > A_m * (1.0 + SECTION_AREA_TOL):
+    area = "the narrowest flow area"
+    if profile.jet:
+        # a free jet: the opening's area at the lip plane, as the run's discharge coefficient has it (post.onedim), so
+        # that the contraction is in C. The narrowest flow area is the far jet's, which made C a velocity coefficient
+        # (0.998 beside the run's 0.592 for the tank orifice: a helper's held-out trial)
+        A_m, area = exit_area(profile), "the opening's flow area at the lip plane (the contraction is in C)"
+    elif float(A[-1]) > A_m * (1.0 + SECTION_AREA_TOL):
         # C refers the flow to the differential between the approach and the narrowest section; where the bore
         # widens again before the downstream station (a Venturi's divergent), dp there is the recovered, not the
         # meter's, differential (for an inviscid Venturi with equal end areas dp ~ 0 and this C was ~1e4)
@@ -251,8 +258,8 @@ def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False
     if not math.isfinite(E):
         return None, f"none: the narrowest section is the upstream station ({where})"
     C = flow.volume_flow / (E * A_m * math.sqrt(2.0 * (p1 - p2) / rho))
-    return float(C), (f"Q / (E A_m sqrt(2 dp / rho)), E = 1/sqrt(1 - (A_m/A_1)^2), A_m = {A_m * 1e6:.6g} mm^2 the "
-                      f"narrowest flow area, dp between the {where}")
+    return float(C), (f"Q / (E A_m sqrt(2 dp / rho)), E = 1/sqrt(1 - (A_m/A_1)^2), A_m = {A_m * 1e6:.6g} mm^2 {area}, "
+                      f"dp between the {where}")
 
 
 def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult:
