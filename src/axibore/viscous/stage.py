@@ -36,7 +36,9 @@ def summary_section(res) -> dict:
     """The ``viscous`` section of summary.json (the model in use, and its results)."""
     v = getattr(res, "viscous", None)
     if v is None:
-        return {"model": "none", "note": 'no wall layer (viscous.model = "none", or the fluid\'s viscosity is unknown)'}
+        # withheld for this flow (LayerWithheld: its message is among the warnings), or not asked for
+        why = next((w for w in res.checks.warnings if w.startswith("no wall layer:")), None)
+        return {"model": "none", "note": why or 'no wall layer (viscous.model = "none", or the fluid\'s viscosity is unknown)'}
     f = res.forces
     total = f.total_x_N + v.friction_x_N
     mom = f.momentum_x_N + v.momentum_friction_x_N
