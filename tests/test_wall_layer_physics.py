@@ -620,6 +620,9 @@ kind = "exit-plane"
     ("", "fluid.viscosity", ["1e-30 Pa s", "1e-06 to 10000 Pa s"]),
     ('[viscous]\nstart_momentum_thickness = "10 m"\n', "viscous.start_momentum_thickness", ["10000 mm", "at most 40 mm"]),
     ('[viscous]\nupstream_length = "10 km"\n', "viscous.upstream_length", ["10000 m", "at most 600 m"]),
+    # a helper's held-out trial: "taps[2]: missing: this key is required", and the validation library's own words
+    ('[viscous]\ntaps = ["-100 mm"]\n', "viscous.taps", ["item 2 is missing"]),
+    ('[viscous]\ntaps = ["-100 mm", "0 mm", "5 mm"]\n', "viscous.taps", ["at most 2 items", "'5 mm'"]),
 ])
 def test_bad_wall_layer_input_stops_before_any_work(tmp_path, capsys, extra, key, words):
     mu = "1e-30 Pa*s" if "1e-30" in words[0] else ("1e30 Pa*s" if "1e+30" in words[0] else "10 mPa*s")

@@ -66,6 +66,7 @@ _PLAIN = {
     "finite_number": lambda c: "expected a finite number",
     "list_type": lambda c: "expected a list in brackets",
     "tuple_type": lambda c: "expected a list in brackets",
+    "too_long": lambda c: f"expected at most {c.get('max_length')} items in the list",
     "dict_type": lambda c: "expected a table",
     "model_type": lambda c: "expected a table",
     "model_attributes_type": lambda c: "expected a table",
@@ -102,6 +103,9 @@ def format_validation(exc: ValidationError, data: dict, prefix: str = "", model=
             near = _nearest_key(parts[-1], loc[1 if prefix else 0:-1], template, model)
             if near:
                 msg += f"; did you mean {near!r}?"
+        elif kind == "missing" and isinstance(loc[-1], int):  # a list of fixed length, given short
+            path = path[: path.rindex("[")]
+            msg = f"expected more items in the list: item {loc[-1] + 1} is missing"
         elif kind == "missing":
             msg = "missing: this key is required" + (f' for template "{template}"' if loc[0] == "bore" and template else "")
         elif kind == "union_tag_invalid":
