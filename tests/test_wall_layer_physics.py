@@ -193,6 +193,20 @@ def test_venturi_discharge_coefficient_needs_its_throat_station(tmp_path):
     assert c["converged"] and c["iterations"] <= 3
 
 
+def test_a_downstream_tap_short_of_the_bores_narrowest_section_gives_no_c():
+    # docs/case-file.md: the second tap must lie at the narrowest section. The demo reducer (600 to 400 mm) with the
+    # second tap half-way down its cone gave C = 1.018 (inviscid 1.031: the wall there is not at the section's
+    # pressure) where only the stretch between the taps was searched for the narrowest section (a helper's trial)
+    import tomllib
+
+    data = tomllib.loads((CASES / "water_main_reducer.toml").read_text())
+    mid = solve_case(case_from_dict({**data, "viscous": {"taps": ["500 mm", "1280 mm"]}})).summary()["viscous"]
+    assert mid["discharge_coefficient"] is None and mid["discharge_coefficient_inviscid"] is None
+    assert "not at the narrowest section" in mid["discharge_coefficient_note"]
+    pipe = solve_case(case_from_dict({**data, "viscous": {"taps": ["500 mm", "2000 mm"]}})).summary()["viscous"]
+    assert pipe["discharge_coefficient"] is not None and pipe["discharge_coefficient"] < pipe["discharge_coefficient_inviscid"]
+
+
 @pytest.mark.slow
 @pytest.mark.parametrize("beta", [0.4, 0.5, 0.75])
 def test_venturi_discharge_coefficient_against_iso_5167_4(tmp_path, beta):
