@@ -87,7 +87,7 @@ from .results import (RESTART_CORNER_DEG, RESTART_CORNER_TOL_DEG, SMOOTH_FACES, 
                       TURBULENT_ORIGIN_RE_THETA, ChainLayer, ViscousSettings)
 
 
-def smooth_speed(u: np.ndarray, width=SMOOTH_FACES, lengths: np.ndarray | None = None) -> np.ndarray:
+def smooth_speed(u: np.ndarray, width=SMOOTH_FACES, lengths: np.ndarray | None = None, from_rest: bool = False) -> np.ndarray:
     """Local linear fit of ``u`` at every station over a window of half-width a = sqrt(3) ``width``
     stations (the variance of a Gaussian of standard deviation ``width``; a number or one per station,
     shrunk at the ends): noise at the scale of a station is removed, linear trends are kept exactly,
@@ -102,7 +102,7 @@ def smooth_speed(u: np.ndarray, width=SMOOTH_FACES, lengths: np.ndarray | None =
     conical nozzle and more, and the edge speed at a free jet's lip came out 0.56 of the wall speed
     (a helper's held-out nozzle)."""
     if lengths is not None:
-        return smooth_along(u, lengths, np.asarray(width, float) * np.asarray(lengths, float))
+        return smooth_along(u, lengths, np.asarray(width, float) * np.asarray(lengths, float), from_rest)
     n = u.size
     w_i = np.broadcast_to(np.asarray(width, float), u.shape)
     if n < 3 or not np.any(w_i > 0):
@@ -133,7 +133,7 @@ def smooth_speed(u: np.ndarray, width=SMOOTH_FACES, lengths: np.ndarray | None =
         return np.where(det > 1e-9 * s0 * s0, (s2 * sy - s1 * sty) / det, sy / s0)
 
 
-def smooth_along(u: np.ndarray, lengths: np.ndarray, sigma) -> np.ndarray:
+def smooth_along(u: np.ndarray, lengths: np.ndarray, sigma, from_rest: bool = False) -> np.ndarray:
     """Local linear fit of ``u`` (one value per face of the given ``lengths``, faces end to end) at every face
     centre over the arc-length window [s - a, s + a], a = sqrt(3) ``sigma`` (a length, one per face; at
     least the face's own length, as ``smooth_speed``'s one station) clipped to the faces' span: each face weighs the length of it that lies
@@ -146,6 +146,12 @@ def smooth_along(u: np.ndarray, lengths: np.ndarray, sigma) -> np.ndarray:
     e = np.r_[0.0, np.cumsum(h)]  # face edges
     c = 0.5 * (e[1:] + e[:-1])  # centres
     a = np.maximum(np.sqrt(3.0) * np.broadcast_to(np.asarray(sigma, float), u.shape), h)  # at least the neighbours' halves
+    if from_rest:
+        # a run from a stagnation point, where the speed rises from zero, often faster than linearly: a window cut
+        # off at the start fits a line to the rise beyond and takes it below zero at the first faces (a tank's plate
+        # from its corner: the floor speed there, a layer thick from its first face and the plate's C lost); the
+        # window is kept centred, no wider than the distance from the start
+        a = np.minimum(a, np.maximum(c - e[0], 0.5 * h))
     L, R = np.maximum(c - a, 0.0), np.minimum(c + a, e[-1])
     jL = np.clip(np.searchsorted(e, L, side="right") - 1, 0, n - 1)  # the faces that hold the window's ends
     jR = np.clip(np.searchsorted(e, R, side="left") - 1, 0, n - 1)
@@ -430,7 +436,7 @@ def march_chain(name: str, table, props: LayerProperties, settings: ViscousSetti
         w_run = SMOOTH_FACES if width is None else width[sel]
         for _ in range(passes):  # smoothed at the face scale, then again over the layer thickness of the first march
             width_used[sel] = w_run
-            u = np.maximum(smooth_speed(speed[sel], w_run, np.maximum(table.length[sel], 1e-300)), floor)
+            u = np.maximum(smooth_speed(speed[sel], w_run, np.maximum(table.length[sel], 1e-300), stagnation), floor)
             # a station at the start of the run: the stagnation point, or the leading edge at the inlet plane
             s_run = np.r_[0.0, s_all[sel] - sb]
             ue_run = np.r_[0.0 if stagnation else u[0], u]
