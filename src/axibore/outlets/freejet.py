@@ -352,7 +352,7 @@ class FreeJetOutlet:
             # it; the jet absorbs the difference at the lip (it leaves at an angle), and where it cannot, the steps
             # stall (a helper's held-out tube 12 lip radii into a reservoir 10 wide, level 0: face residual 3.86e-5
             # from step 7 on, then no step lowered it, Cc 0.501256 against Borda's 0.5012563; now the momentum steps
-            # give up after 8 (STALL_STEPS) and V from the faces settles in 5 more at 0.5016275, +3.7e-4, and at
+            # give up after 8 (STALL_STEPS) and V from the faces settles in 4 more steps (5 states) at 0.5016275, +3.7e-4, and at
             # level 1 6.5e-6 below Borda's value)
             progress("solve", f"free jet: the steps did not settle ({attempts[0]}); solving again with V from the faces")
             momentum_attempt = (len(history), _relative_residual(jp, st), _contraction(jp, st))

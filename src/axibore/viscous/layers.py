@@ -164,17 +164,36 @@ def blockage(chains: dict[str, ChainLayer], profile, x: float, planar: bool) -> 
     return total / A
 
 
+_GAUSS = np.polynomial.legendre.leggauss(40)
+
+
+def jet_displacement(delta_star, H, ue_over_V):
+    """The displacement thickness a layer (delta*, shape factor H, edge speed ue at its last face) has in a free jet
+    at the jet speed V, per unit of the wall's perimeter. Derived: each streamline keeps its total pressure from
+    the last face (static pressure that of ue) to the jet (ambient, speed V): u_j^2 = u^2 + V^2 - ue^2; continuity
+    u dy = u_j dy_j; so delta_j = int (1 - u_j / V) dy_j = int (u / u_j - u / V) dy. With a power-law profile
+    u = ue eta^(1/N), eta = y / delta, of the layer's H = (N + 2) / N (delta = (N + 1) delta*), and eta = t^N:
+        delta_j / delta* = (N + 1) N int_0^1 t^(N - 1) [r t / sqrt(r^2 t^2 + 1 - r^2) - r t] dt,  r = ue / V.
+    At r = 1 (the lip itself, where the wall speed is the jet's) it is 1: delta_j = delta*; below, the
+    streamlines accelerate into the jet and the deficit shrinks (the 1/7 law at r = 0.918: 0.71)."""
+    r = min(max(float(ue_over_V), 0.0), 1.0)  # a streamline faster than the jet's edge cannot reach ambient: held
+    N = 2.0 / max(float(H) - 1.0, 1e-3)
+    t = 0.5 * (_GAUSS[0] + 1.0)
+    f = N * t ** (N - 1.0) * (r * t / np.sqrt(r * r * t * t + 1.0 - r * r) - r * t)
+    return float(delta_star) * (N + 1.0) * 0.5 * float(_GAUSS[1] @ f)
+
+
 def jet_blockage(chains: dict[str, ChainLayer], profile, x: float, speed: float) -> tuple[float, str | None]:
-    """B at a station x in a free jet from the layers that end upstream of it (at the lip, at a centre body's
-    tip): (B, None), or (NaN, why not) where a layer ends separated. Their deficit fluid passes on into the jet. In
-    the jet the pressure is the ambient one, on its boundary and across it, so every streamline keeps the speed it
-    had where the layer left the wall (Bernoulli; mixing aside), and the layer's flow deficit rho ue P delta* at its
-    last face is carried unchanged: a displaced area P delta* ue / V at the jet speed V (derived). Before, the
-    station saw no layer at all, and a free jet's viscous discharge coefficient equalled the inviscid one."""
+    """B at a station x in a free jet: (B, None), or (NaN, why not) where a layer ends separated. The station's
+    section is the jet's, which no wall crosses; what displaces it is the deficit fluid of every layer, passed on
+    into the jet where its wall ends (at the lip, at a centre body's tip): ``jet_displacement`` of each at its last
+    face, over the jet's area. Before, the station saw no layer at all, and a free jet's viscous discharge
+    coefficient equalled the inviscid one; a re-entrant tube's wall, which also runs downstream of the lip, was
+    counted by its face nearest the station (a reviewing helper)."""
     A = float(profile.flow_area(np.atleast_1d(x))[0])
     total = 0.0
     for c in chains.values():
-        if c.x.size < 2 or float(np.max(c.x)) >= x:
+        if c.x.size < 2:
             continue
         d = float(c.displacement[-1])
         if c.state[-1] == L.SEPARATED or not np.isfinite(d):
@@ -184,7 +203,7 @@ def jet_blockage(chains: dict[str, ChainLayer], profile, x: float, speed: float)
                                   f"x = {float(c.x[-1]) * 1e3:.4g} mm, where it passes into the free jet before the downstream "
                                   f"station (x = {x * 1e3:.4g} mm): the deficit it carries into the jet, and so the flow, "
                                   "is not known to a boundary-layer estimate")
-        total += float(c.perimeter[-1]) * d * float(c.ue[-1]) / speed
+        total += float(c.perimeter[-1]) * jet_displacement(d, float(c.H[-1]), float(c.ue[-1]) / speed)
     return total / A, None
 
 
@@ -215,10 +234,13 @@ def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False
     # and gave C = 1.018 (a helper's held-out trial)
     xs = np.r_[np.linspace(profile.x_inlet, profile.x_outlet, 1601), x2]
     A = profile.flow_area(np.atleast_1d(xs))
-    A_m, A_1 = float(A[:-1].min()), float(profile.flow_area(np.atleast_1d(x1))[0])
+    A_m, A_1 = float(A.min()), float(profile.flow_area(np.atleast_1d(x1))[0])
     where = (f"wall taps at x = {x1 * 1e3:.4g} mm and {x2 * 1e3:.4g} mm" if taps is not None
              else "mean pressures of the inlet and outlet planes")
     area = "the narrowest flow area"
+    if profile.jet and taps is not None:
+        return None, ("none: viscous.taps are wall taps of a bore's throat (a meter's); a free jet's discharge "
+                      "coefficient refers to the opening and the jet, between the inlet and outlet planes: leave taps out")
     if profile.jet:
         # a free jet: the opening's area at the lip plane, as the run's discharge coefficient has it (post.onedim), so
         # that the contraction is in C. The narrowest flow area is the far jet's, which made C a velocity coefficient
@@ -239,14 +261,19 @@ def discharge_coefficient(flow, profile, tables, taps, chains=None, planar=False
     (p1, u1), (p2, u2) = _station_pressures(flow, tables, taps)
     if chains is not None:
         for k, (x, u) in enumerate(((x1, u1), (x2, u2))):
-            B = blockage(chains, profile, x, planar)
-            if not np.isfinite(B):
-                return None, f"none: the layer is separated at x = {x * 1e3:.4g} mm (a station of the discharge coefficient)"
-            if k == 1 and profile.jet:
-                B_jet, why = jet_blockage(chains, profile, x, u)
+            if k == 0 and taps is None:
+                # the inlet plane: what the layers bring in there (an approach layer given), not the nearest face's
+                # value, which on a wall that turns across the axis or back (a tank's plate, a re-entrant tube) is
+                # a face far from the plane (B 0.018 on a Borda tube in a pipe: a reviewing helper)
+                B = sum(c.start_displacement_m2 for c in chains.values()) / A_1
+            elif k == 1 and profile.jet:
+                B, why = jet_blockage(chains, profile, x, u)
                 if why:
                     return None, why
-                B += B_jet
+            else:
+                B = blockage(chains, profile, x, planar)
+            if not np.isfinite(B):
+                return None, f"none: the layer is separated at x = {x * 1e3:.4g} mm (a station of the discharge coefficient)"
             if not B < MAX_BLOCKAGE:
                 return None, (f"none: the layer fills {B:.0%} of the flow area at x = {x * 1e3:.4g} mm (a station of the "
                               f"discharge coefficient), beyond the {MAX_BLOCKAGE:.0%} a thin-layer estimate can carry")
@@ -356,7 +383,8 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
                         "(delta* of the current layer and of the deficit fluid carried past restarts)")
             if profile.jet:
                 cd_note += ("; at the downstream station in the free jet, B is the deficit the layers carry into the jet "
-                            "from the ends of the walls, P delta* ue / V (each streamline keeps its speed there)")
+                            "from the ends of the walls: P delta*, each streamline carried from the last face to the jet's "
+                            "ambient pressure with its total pressure (a power-law profile of the layer's H)")
         if cd is not None and cd_inv is not None and cd > cd_inv:
             # only possible when the upstream station lies in a layer already grown there (an approach layer
             # or taps downstream of the inlet plane): its displacement speeds up the core more than the losses

@@ -12,8 +12,9 @@ transition and separation positions and the warnings a separated layer calls for
 
 How a chain is marched (the methods are in ``layer.py``)
 --------------------------------------------------------
-- Edge speed: the inviscid wall speed of the faces, smoothed by a local linear fit over a few
-  faces (Gaussian weights, width ``SMOOTH_FACES`` faces). A wall layer responds to the pressure
+- Edge speed: the inviscid wall speed of the faces, smoothed by a local linear fit over a window
+  measured along the wall (``smooth_along``): ``SMOOTH_FACES`` local faces, then about
+  ``SMOOTH_THETAS`` momentum thicknesses of the first march; kept centred near a stagnation start. A wall layer responds to the pressure
   over many layer thicknesses; cell-to-cell noise of the reconstructed wall speed and the
   near-singular speed of a mild corner, both at the scale of one cell, would otherwise show as
   strong local pressure gradients and spurious separation. Linear trends are kept exactly, also
