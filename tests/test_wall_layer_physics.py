@@ -722,6 +722,7 @@ def test_an_orifice_in_a_tank_has_its_wall_layer_where_the_hole_is_not_viscous()
     # the gate's number for the hole, derived: Re = rho V d / mu with V = Q / (pi r^2), d = 2 r
     re_hole = 880.0 * res.flow.volume_flow / (math.pi * 0.01**2) * 0.02 / 0.03
     assert 5e3 < re_hole < 2e4
+    assert v["reynolds_number_narrowest"] == pytest.approx(re_hole, rel=1e-9) and "opening at the lip" in v["reynolds_narrowest_at"]
 
 
 def test_water_pressure_beyond_its_property_range_stops_before_any_work(tmp_path, capsys):

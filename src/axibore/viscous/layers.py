@@ -471,7 +471,8 @@ def wall_layers(case, profile, flow, tables: dict, onedim=None) -> ViscousResult
     return ViscousResult(
         model="integral", settings=settings, viscosity_Pa_s=float(mu_in), kinematic_viscosity_m2_s=float(mu_in / rho_in),
         viscosity_source=source, chains=chains, reynolds_number=float(re), reynolds_length_m=float(d_h),
-        reynolds_basis=basis, friction_x_N=float(friction), momentum_friction_x_N=float(mom_friction),
+        reynolds_basis=basis, reynolds_number_narrowest=float(re_m), reynolds_narrowest_at=where_m,
+        friction_x_N=float(friction), momentum_friction_x_N=float(mom_friction),
         discharge_coefficient=cd, discharge_coefficient_inviscid=cd_inv, discharge_coefficient_note=cd_note,
         loss_coefficient=K, loss_coefficient_note=k_note, total_pressure_loss_Pa=dp0, head_loss_m=head,
         transition_x_m=transitions, separation_x_ranges_m=seps, separation_kind=kinds,

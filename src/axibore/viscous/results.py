@@ -164,6 +164,10 @@ class ViscousResult:
     coupling: object | None = None  # Coupling: converged flag, iterations, last change as numbers
     displacement: object | None = None  # displacement.DisplacementResult when the pass ran
     notes: list[str] = field(default_factory=list)
+    # 4 rho Q / (mu P) at the bore's narrowest section (a free jet's opening) and where: with the inlet plane's, what
+    # the gate of MIN_LAYER_RE looks at (a hole in a wide tank: small on the inlet plane, large in the hole)
+    reynolds_number_narrowest: float | None = None
+    reynolds_narrowest_at: str = ""
 
     @property
     def separated(self) -> bool:

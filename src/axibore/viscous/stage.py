@@ -48,6 +48,7 @@ def summary_section(res) -> dict:
         "viscosity_Pa_s": v.viscosity_Pa_s, "kinematic_viscosity_m2_s": v.kinematic_viscosity_m2_s,
         "viscosity_source": v.viscosity_source,
         "reynolds_number": v.reynolds_number, "reynolds_length_m": v.reynolds_length_m, "reynolds_basis": v.reynolds_basis,
+        "reynolds_number_narrowest": v.reynolds_number_narrowest, "reynolds_narrowest_at": v.reynolds_narrowest_at,
         "friction_x_N": v.friction_x_N,
         "friction_wall_x_N": v.chains[Boundary.WALL].friction_x_N if Boundary.WALL in v.chains else 0.0,
         "friction_centerbody_x_N": v.chains[Boundary.CENTERBODY].friction_x_N if Boundary.CENTERBODY in v.chains else 0.0,
