@@ -100,7 +100,9 @@ def viscous_rows(summary: dict) -> list[tuple[str, str]]:
     def g(x, spec: str) -> str:  # a number the layer may not have given
         return "-" if x is None else format(x, spec)
 
-    rows = [("wall layer", f"Re {g(v['reynolds_number'], '.4g')} (on {show(v['reynolds_length_m'], 'length')}), start "
+    narrowest = v.get("reynolds_number_narrowest")
+    at_narrowest = f", {g(narrowest, '.4g')} at the narrowest section" if narrowest is not None else ""
+    rows = [("wall layer", f"Re {g(v['reynolds_number'], '.4g')} (on {show(v['reynolds_length_m'], 'length')}){at_narrowest}, start "
                            f"{v['settings']['start']}, " + (", ".join(f"transition x = {show(x, 'length')}" for x in v["transition_x_m"])
                                                           or "no transition")),
             ("friction force x", f"{show(f['friction_x_N'], 'force')}; with the wall pressure {show(f['total_with_friction_x_N'], 'force')}")]
