@@ -352,7 +352,7 @@ def test_edge_speed_smoothing_on_graded_faces_is_in_arc_length():
     out = stage.smooth_speed(u, 2.0, h)
     assert np.all(out[-30:] == 2.0)
     assert np.max(np.abs(stage.smooth_speed(u, 2.0 * 40)[-30:] - 2.0)) > 0.01  # counted in stations: 40 faces reach it
-    # on uniform faces the two are the same fit
+    # on uniform faces the fit does not depend on the unit of length (faces of 0.2 mm against unit stations)
     rng = np.random.default_rng(1)
     v = np.sin(np.arange(200) / 10.0) + 0.1 * rng.standard_normal(200)
     for w in (0.3, 1.0, 2.7, 10.0):

@@ -10,6 +10,7 @@ import time
 import numpy as np
 
 from ..geometry.jet import exit_area
+from ..geometry.profile import min_flow_area
 from ..names import Boundary
 from ..units import plain
 from . import layer as L
@@ -302,8 +303,7 @@ def _narrowest_section_re(profile, flow, mu: float, planar: bool) -> tuple[float
         x_m, r_w = (float(v) for v in profile.wall[-1].end)
         what = f"the opening at the lip (x = {x_m * 1e3:.4g} mm)"
     else:
-        xs = np.linspace(profile.x_inlet, profile.x_outlet, 801)
-        x_m = float(xs[int(np.argmin(profile.flow_area(xs)))])
+        x_m = min_flow_area(profile)[0]
         r_w = float(profile.wall_radius(np.atleast_1d(x_m))[0])
         what = f"the narrowest section (x = {x_m * 1e3:.4g} mm)"
     r_b = float(profile.centerbody_radius(np.atleast_1d(x_m))[0])

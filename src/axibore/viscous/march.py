@@ -90,48 +90,18 @@ from .results import (RESTART_CORNER_DEG, RESTART_CORNER_TOL_DEG, SMOOTH_FACES, 
 
 def smooth_speed(u: np.ndarray, width=SMOOTH_FACES, lengths: np.ndarray | None = None, from_rest: bool = False) -> np.ndarray:
     """Local linear fit of ``u`` at every station over a window of half-width a = sqrt(3) ``width``
-    stations (the variance of a Gaussian of standard deviation ``width``; a number or one per station,
-    shrunk at the ends): noise at the scale of a station is removed, linear trends are kept exactly,
-    at the ends too. Each station weighs as much of its own unit interval as lies inside [-a, a], so
-    the fit is a continuous function of the width: a whole station entering the window as the width
-    crosses a step made the blockage coupling cycle between two states. O(n) by cumulative sums.
+    stations (the variance of a Gaussian of standard deviation ``width``; a number or one per station),
+    ``smooth_along`` on stations of unit length: noise at the scale of a station is removed, linear trends
+    are kept exactly, at the ends too, and the fit is a continuous function of the width (a whole station
+    entering the window as the width crossed a step made the blockage coupling cycle between two states).
 
     ``lengths``: the stations are faces of these lengths along the wall; the window is then measured in
-    arc length, a = sqrt(3) ``width`` times the station's own face length, and the fit is in arc length
-    (``smooth_along``). Counted in stations, a window on faces graded towards a lip reached far upstream
-    of it: 10 momentum thicknesses of the lip's faces (1e-5 m) spanned the 10 mm straight tip of a
-    conical nozzle and more, and the edge speed at a free jet's lip came out 0.56 of the wall speed
-    (a helper's held-out nozzle)."""
-    if lengths is not None:
-        return smooth_along(u, lengths, np.asarray(width, float) * np.asarray(lengths, float), from_rest)
-    n = u.size
-    w_i = np.broadcast_to(np.asarray(width, float), u.shape)
-    if n < 3 or not np.any(w_i > 0):
-        return u.copy()
-    i = np.arange(n)
-    half = np.maximum(np.sqrt(3.0) * w_i, 1.0)
-    m = np.floor(half - 0.5).astype(np.int64)  # stations |j - i| <= m lie wholly inside
-    frac = half - 0.5 - m  # the weight of the two at m + 1 (in [0, 1))
-    lo, hi = np.maximum(i - m, 0), np.minimum(i + m, n - 1) + 1  # full-weight window [lo, hi)
-    t = i.astype(float)
-
-    def window_sum(a):
-        c = np.r_[0.0, np.cumsum(a)]
-        full = c[hi] - c[lo]
-        left, right = i - m - 1, i + m + 1
-        full += np.where(left >= 0, frac * a[np.maximum(left, 0)], 0.0)
-        full += np.where(right <= n - 1, frac * a[np.minimum(right, n - 1)], 0.0)
-        return full
-
-    # sums about each station's own index (t - i), from the windowed sums of 1, t, t^2, u, t u
-    s0 = window_sum(np.ones(n))
-    s1 = window_sum(t) - i * s0
-    s2 = window_sum(t * t) - 2.0 * i * window_sum(t) + i * i * s0
-    sy = window_sum(u)
-    sty = window_sum(t * u) - i * sy
-    det = s0 * s2 - s1 * s1
-    with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where(det > 1e-9 * s0 * s0, (s2 * sy - s1 * sty) / det, sy / s0)
+    arc length, a = sqrt(3) ``width`` times the station's own face length. Counted in stations, a window on
+    faces graded towards a lip reached far upstream of it: 10 momentum thicknesses of the lip's faces (1e-5 m)
+    spanned the 10 mm straight tip of a conical nozzle and more, and the edge speed at a free jet's lip came
+    out 0.56 of the wall speed (a helper's held-out nozzle)."""
+    h = np.ones(u.size) if lengths is None else np.asarray(lengths, float)
+    return smooth_along(u, h, np.asarray(width, float) * h, from_rest)
 
 
 def smooth_along(u: np.ndarray, lengths: np.ndarray, sigma, from_rest: bool = False) -> np.ndarray:
@@ -175,10 +145,9 @@ def smooth_along(u: np.ndarray, lengths: np.ndarray, sigma, from_rest: bool = Fa
     t = c - c[ref]
     s0, st, stt = window_sum(np.ones(n)), window_sum(t), window_sum(t * t)
     sy, sty = window_sum(u), window_sum(t * u)
-    ti = t  # moments about each face's own centre
-    s1 = st - ti * s0
-    s2 = stt - 2.0 * ti * st + ti * ti * s0
-    sty_i = sty - ti * sy
+    s1 = st - t * s0  # the moments about each face's own centre
+    s2 = stt - 2.0 * t * st + t * t * s0
+    sty_i = sty - t * sy
     det = s0 * s2 - s1 * s1
     with np.errstate(invalid="ignore", divide="ignore"):
         return np.where(det > 1e-9 * (s0 * a) ** 2, (s2 * sy - s1 * sty_i) / det, sy / s0)
